@@ -1,0 +1,50 @@
+/* kilter: status codes and the caller-owned error record.
+ *
+ * Library functions return a kl_status; the details of every problem go into a
+ * kl_errors record owned by the caller ("file:line:col: element: what").  The
+ * library never prints and never exits; the command-line program reads the
+ * record out once and chooses the exit code. */
+#ifndef KILTER_ERROR_H
+#define KILTER_ERROR_H
+
+#include <stddef.h>
+
+typedef enum {
+    KL_OK = 0,
+    KL_EINPUT = 1,   /* bad input file or value: the record says where */
+    KL_ENOMEM = 2,   /* allocation failed */
+    KL_ENOCONV = 3,  /* an iteration did not converge: the record says where and why */
+    KL_EIO = 4,      /* a file could not be read or written */
+    KL_ETOPO = 5,    /* the network cannot be solved as given (island, loop for the sweep) */
+    KL_EARG = 6      /* a caller passed an invalid argument */
+} kl_status;
+
+#define KL_ERRORS_MAX 200 /* items kept; more are counted in `dropped` */
+
+typedef struct {
+    char file[256];    /* file name as given, or "" */
+    int line, col;     /* 1-based; 0 when unknown */
+    char element[128]; /* e.g. "section 632-671" or "" */
+    char message[768]; /* what was expected and how to fix it */
+} kl_error_item;
+
+typedef struct {
+    kl_error_item *items; /* [count], grown up to KL_ERRORS_MAX */
+    int count;
+    int cap;
+    int dropped; /* errors beyond KL_ERRORS_MAX */
+} kl_errors;
+
+void kl_errors_init(kl_errors *e);
+void kl_errors_free(kl_errors *e);
+void kl_errors_clear(kl_errors *e);
+/* Appends one item; file/element may be NULL.  Returns KL_ENOMEM only if the
+ * record itself cannot grow (the item is then counted in `dropped`). */
+kl_status kl_errors_add(kl_errors *e, const char *file, int line, int col,
+                        const char *element, const char *fmt, ...)
+    __attribute__((format(printf, 6, 7)));
+/* "file:line:col: element: message" (parts that are empty are left out). */
+int kl_error_format(const kl_error_item *it, char *buf, size_t n);
+const char *kl_status_name(kl_status s);
+
+#endif

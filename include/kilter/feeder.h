@@ -1,0 +1,265 @@
+/* kilter: the feeder as read from a feeder file, in SI units.
+ *
+ * Everything here is what the file says, converted to SI (m, ohm/m, S/m, V,
+ * W, var, A, Hz, degrees for angles).  Elements refer to each other by
+ * integer index into the arrays of this struct (never by pointer).  Names
+ * live in the feeder's string arena and stay valid until kl_feeder_free.
+ * Every element keeps the file position it was read from (`loc`) so later
+ * stages can report "file:line:col: element: what".
+ *
+ * Units are converted back to the file's own system (`units`) only when
+ * printing. */
+#ifndef KILTER_FEEDER_H
+#define KILTER_FEEDER_H
+
+#include <complex.h>
+#include <stddef.h>
+#include <stdint.h>
+#include "kilter/error.h"
+
+typedef double complex kl_complex;
+
+/* Phase masks: a bus or section holds any subset of a, b, c. */
+enum { KL_PH_A = 1, KL_PH_B = 2, KL_PH_C = 4, KL_PH_ABC = 7 };
+
+#define KL_FEEDER_FORMAT_VERSION 1 /* value of `kilter-feeder:` the loader accepts */
+#define KL_MAX_WIRES 8             /* wire positions in one layout */
+#define KL_MAX_NEUTRALS 2          /* neutrals per construction */
+
+typedef struct { int line, col; } kl_loc; /* 1-based position in the file */
+
+typedef enum { KL_UNITS_US = 0, KL_UNITS_SI = 1 } kl_unit_system;
+
+typedef struct {
+    const char *name;
+    double r_ohm_per_m;   /* ac resistance at r_temp_c */
+    double r_temp_c;      /* temperature the resistance was given at */
+    double gmr_m;         /* geometric mean radius */
+    double diameter_m;    /* outside diameter */
+    double ampacity_a;    /* 0 when not given */
+    kl_loc loc;
+} kl_conductor;
+
+typedef enum { KL_CABLE_CONCENTRIC = 1, KL_CABLE_TAPE = 2 } kl_cable_kind;
+
+typedef struct {
+    const char *name;
+    kl_cable_kind kind;
+    int phase_conductor;          /* index into conductors */
+    double insulation_permittivity; /* relative; default 2.3 (common practice for XLPE/EPR planning) */
+    /* concentric neutral */
+    int strand_conductor;         /* index into conductors: one neutral strand; -1 for tape */
+    int strands;                  /* k */
+    double diameter_over_neutral_m; /* outside diameter over the neutral strands */
+    /* tape shield */
+    double tape_diameter_m;       /* outside diameter of the tape shield */
+    double tape_thickness_m;
+    double tape_resistivity_ohm_m; /* default annealed copper 1.7241e-8 at 20 C */
+    double ampacity_a;            /* 0 when not given */
+    kl_loc loc;
+} kl_cable;
+
+typedef struct {
+    const char *name;
+    int underground;               /* 1: duct layout (y is negative depth) */
+    int nwires;
+    const char *wire[KL_MAX_WIRES]; /* position names, e.g. "1", "2", "n" */
+    double x_m[KL_MAX_WIRES];       /* horizontal position */
+    double y_m[KL_MAX_WIRES];       /* height above ground (overhead), minus depth (underground) */
+    kl_loc loc;
+} kl_layout;
+
+typedef enum {
+    KL_CONS_OVERHEAD = 1, /* layout + bare conductors: Carson + Kron */
+    KL_CONS_CABLE = 2,    /* layout + cable type (+ optional separate neutral) */
+    KL_CONS_MATRIX = 3    /* impedance and susceptance matrices given */
+} kl_cons_kind;
+
+/* A line construction: how one kind of section is built.  Sections share
+ * constructions, so the per-metre matrices are computed once per construction. */
+typedef struct {
+    const char *name;
+    kl_cons_kind kind;
+    int phases;                      /* mask */
+    int layout;                      /* overhead / cable: index into layouts */
+    int phase_wire[3];               /* a, b, c: wire index in the layout, -1 when absent */
+    int phase_conductor;             /* overhead: index into conductors */
+    int cable;                       /* cable: index into cables */
+    int nneutrals;                   /* separate neutral conductors, 0..KL_MAX_NEUTRALS */
+    int neutral_wire[KL_MAX_NEUTRALS];
+    int neutral_conductor[KL_MAX_NEUTRALS];
+    int neutral_grounded;            /* 1: multi-grounded (default); 0: isolated neutral */
+    double earth_resistivity_ohm_m;  /* the feeder's default unless the construction says */
+    /* matrix form, as given (per metre) */
+    kl_complex z_given[3][3];        /* ohm/m */
+    double b_given[3][3];            /* S/m */
+    double ampacity_a;               /* phase ampacity: conductor's or cable's, 0 when unknown */
+    double neutral_ampacity_a;       /* 0 when unknown or no neutral */
+    /* derived by kl_lines_derive (lines.h): zero until then */
+    int derived;
+    kl_complex zabc[3][3];           /* series phase impedance, ohm/m, absent phases zero */
+    kl_complex yabc[3][3];           /* shunt admittance, S/m (j*b) */
+    int ntn;                         /* rows in tn: neutrals Kron-reduced away */
+    kl_complex tn[KL_MAX_NEUTRALS + 3][3]; /* I_n = tn I_abc (one row per eliminated conductor) */
+    kl_loc loc;
+} kl_construction;
+
+typedef enum {
+    KL_SEC_LINE = 1,
+    KL_SEC_SWITCH = 2,
+    KL_SEC_TRANSFORMER = 3,
+    KL_SEC_REGULATOR = 4
+} kl_section_kind;
+
+/* A section joins two buses: a line, a switch, a transformer or a regulator. */
+typedef struct {
+    const char *name;
+    kl_section_kind kind;
+    int from, to;        /* bus ids */
+    int phases;          /* mask */
+    double length_m;     /* lines; 0 for devices */
+    int construction;    /* lines: index into constructions */
+    int device;          /* transformer / regulator: index into those arrays; -1 otherwise */
+    int closed;          /* switches: 1 closed, 0 open; 1 for every other kind */
+    kl_loc loc;
+} kl_section;
+
+typedef struct {
+    const char *name;
+    int phases;          /* mask: phases present, filled by the loader from the sections */
+    double base_kv_ll;   /* nominal line-to-line kV, filled by the loader from the source and transformers */
+    double x, y;         /* coordinates in the file's own plot units */
+    int has_xy;
+    const char *description; /* NULL when none */
+    kl_loc loc;
+} kl_bus;
+
+typedef enum { KL_CONN_WYE = 1, KL_CONN_DELTA = 2 } kl_connection;
+typedef enum { KL_LOAD_PQ = 1, KL_LOAD_I = 2, KL_LOAD_Z = 3, KL_LOAD_ZIP = 4 } kl_load_model;
+
+/* A spot load at a bus, or a distributed load along a section (bus = -1,
+ * section >= 0).  Powers are per phase at nominal voltage: wye a, b, c;
+ * delta ab, bc, ca (index 0, 1, 2). */
+typedef struct {
+    const char *name;
+    int bus;             /* spot load: bus id; -1 for a distributed load */
+    int section;         /* distributed load: section id; -1 for a spot load */
+    kl_connection conn;
+    kl_load_model model;
+    int phases;          /* mask of the entries of s_va that are used (delta: bit 0 ab, 1 bc, 2 ca) */
+    kl_complex s_va[3];  /* P + jQ per phase, W + j var */
+    double zip[3];       /* ZIP fractions of P and Q: constant Z, I, P (sum 1) */
+    int motor;           /* 1: three-phase motor load (for the derating check) */
+    double third_harmonic; /* third-harmonic current as a share of fundamental, 0..1 */
+    int pinned;          /* rebalancing: 1 = may not be moved */
+    int forbidden;       /* rebalancing: mask of phases it may not move to */
+    double move_cost;    /* rebalancing: cost of one move (file's own unit, default 1) */
+    const char *description;
+    kl_loc loc;
+} kl_load;
+
+typedef struct {
+    const char *name;
+    int bus;
+    kl_connection conn;
+    int phases;          /* mask (delta: bit 0 ab, 1 bc, 2 ca) */
+    double q_var[3];     /* rated var per phase at nominal voltage */
+    kl_loc loc;
+} kl_capacitor;
+
+typedef enum {
+    KL_WINDING_GRD_WYE = 1,  /* grounded wye */
+    KL_WINDING_WYE = 2,      /* ungrounded wye */
+    KL_WINDING_DELTA = 3,
+    KL_WINDING_OPEN_WYE = 4,
+    KL_WINDING_OPEN_DELTA = 5,
+    KL_WINDING_SINGLE = 6,   /* single-phase, line-to-neutral (or line-to-line on 2 phases) */
+    KL_WINDING_CENTER_TAP = 7 /* single-phase 120/240 V secondary */
+} kl_winding;
+
+typedef struct {
+    const char *name;
+    double kva;               /* bank rating (three-phase total, or the single unit) */
+    double kv_high, kv_low;   /* rated line-to-line kV of each side (single-phase: winding kV) */
+    kl_winding high, low;
+    double r_pu, x_pu;        /* on the bank's own rating */
+    double no_load_loss_pu;   /* optional, 0 by default */
+    kl_loc loc;
+} kl_transformer;
+
+typedef enum { KL_REG_WYE = 1, KL_REG_CLOSED_DELTA = 2, KL_REG_OPEN_DELTA = 3 } kl_reg_connection;
+typedef enum { KL_REG_FIXED = 1, KL_REG_AUTO = 2 } kl_reg_mode;
+
+/* Step-voltage regulator: one single-phase unit per phase (ANSI type B by default). */
+typedef struct {
+    const char *name;
+    kl_reg_connection conn;
+    kl_reg_mode mode;
+    int phases;               /* mask of units present */
+    int tap[3];               /* fixed taps, or the starting taps for automatic control */
+    int steps;                /* steps each way, default 16 */
+    double step_pu;           /* default 0.00625 (5/8 %) */
+    double voltage_level_v;   /* on the 120 V base */
+    double bandwidth_v;
+    double pt_ratio;
+    double ct_primary_a;
+    double ldc_r_v[3], ldc_x_v[3]; /* line-drop compensator settings, volts */
+    int monitored;            /* mask of phases whose controller acts (default all) */
+    kl_loc loc;
+} kl_regulator;
+
+typedef struct {
+    int bus;                  /* source bus id */
+    double kv_ll;             /* nominal line-to-line kV */
+    double freq_hz;
+    double v_pu;              /* regulated voltage, per unit of nominal */
+    double angle_deg;         /* phase-a angle */
+    int has_equivalent;       /* 1: behind a Thevenin equivalent */
+    kl_complex z1_ohm, z0_ohm;/* positive- and zero-sequence source impedance */
+    double relay_pickup_a;    /* ground relay pickup at the head, 0 when not given */
+    kl_loc loc;
+} kl_source;
+
+typedef struct kl_arena kl_arena; /* string arena (internal) */
+
+typedef struct kl_feeder {
+    const char *path;          /* file the feeder was read from */
+    const char *name;
+    const char *description;   /* NULL when none */
+    kl_unit_system units;      /* the file's own unit system, for printing */
+    double earth_resistivity_ohm_m; /* default 100 */
+    int radial;                /* 1 (default): loops and islands are errors */
+    kl_source source;
+
+    kl_conductor *conductors;      int nconductors;
+    kl_cable *cables;              int ncables;
+    kl_layout *layouts;            int nlayouts;
+    kl_construction *constructions;int nconstructions;
+    kl_bus *buses;                 int nbuses;
+    kl_section *sections;          int nsections;
+    kl_load *loads;                int nloads;
+    kl_capacitor *capacitors;      int ncapacitors;
+    kl_transformer *transformers;  int ntransformers;
+    kl_regulator *regulators;      int nregulators;
+
+    kl_arena *arena;           /* owns every string above */
+} kl_feeder;
+
+/* Reads and validates a feeder file.  On any error returns KL_EINPUT (or
+ * KL_EIO / KL_ENOMEM), stores every problem found in `err` and sets *out to
+ * NULL.  The loader keeps going after an error so that all are reported. */
+kl_status kl_feeder_load(const char *path, kl_feeder **out, kl_errors *err);
+/* The same from a buffer; `name` is used as the file name in messages. */
+kl_status kl_feeder_load_buffer(const char *text, size_t len, const char *name,
+                                kl_feeder **out, kl_errors *err);
+void kl_feeder_free(kl_feeder *f);
+
+/* Lookups by name (linear or hashed; -1 when absent). */
+int kl_feeder_find_bus(const kl_feeder *f, const char *name);
+int kl_feeder_find_section(const kl_feeder *f, const char *name);
+int kl_feeder_find_load(const kl_feeder *f, const char *name);
+
+/* "abc", "ac", "b" ... for a mask; buf must hold 4 bytes. */
+const char *kl_phases_str(int mask, char buf[4]);
+
+#endif
