@@ -8,6 +8,7 @@
 #include "kl_internal.h"
 
 #define W 900.0
+#define LX 730.0 /* legend column */
 #define H 430.0
 
 static const char *const phase_colour[3] = {KL_COLOUR_A, KL_COLOUR_B, KL_COLOUR_C};
@@ -79,13 +80,13 @@ static void legend(FILE *out, const kl_report_input *in)
     const char *attr[3] = {"stroke=\"" KL_COLOUR_A "\" stroke-width=\"3\"",
                            "stroke=\"" KL_COLOUR_B "\" stroke-width=\"3\"",
                            "stroke=\"" KL_COLOUR_C "\" stroke-width=\"3\""};
-    kl_svg_legend(out, 760, 40, 3, lab, attr);
-    kl_svg_rect(out, 760, 98, 26, 10, "fill=\"#dcefd9\"");
-    kl_svg_text(out, 792, 107, "fill=\"#222\"", "Range A");
-    kl_svg_rect(out, 760, 116, 26, 10, "fill=\"#f4ecd2\"");
-    kl_svg_text(out, 792, 125, "fill=\"#222\"", "Range B only");
-    kl_svg_textf(out, 760, 148, "fill=\"#555\" font-size=\"10\"", "ANSI C84.1, 120 V base:");
-    kl_svg_textf(out, 760, 161, "fill=\"#555\" font-size=\"10\"", "A %.0f-%.0f V, B %.0f-%.0f V",
+    kl_svg_legend(out, LX, 40, 3, lab, attr);
+    kl_svg_rect(out, LX, 98, 26, 10, "fill=\"#dcefd9\"");
+    kl_svg_text(out, LX + 32, 107, "fill=\"#222\"", "Range A");
+    kl_svg_rect(out, LX, 116, 26, 10, "fill=\"#f4ecd2\"");
+    kl_svg_text(out, LX + 32, 125, "fill=\"#222\"", "Range B only");
+    kl_svg_textf(out, LX, 148, "fill=\"#555\" font-size=\"10\"", "ANSI C84.1, 120 V base:");
+    kl_svg_textf(out, LX, 161, "fill=\"#555\" font-size=\"10\"", "A %.0f-%.0f V, B %.0f-%.0f V",
                  in->opt.limits.range_a_low_v, in->opt.limits.range_a_high_v,
                  in->opt.limits.range_b_low_v, in->opt.limits.range_b_high_v);
 }
@@ -97,7 +98,7 @@ static void draw(FILE *out, const kl_report_input *in, const kl_plot_tree *t)
     double to_unit = si ? 1e-3 : 1.0 / 1609.344; /* km, or statute miles (NIST SP 811) */
     extent e = find_extent(in, t, to_unit);
     double pad = 0.05 * (e.vhi - e.vlo);
-    kl_svg_frame fr = {70, 20, 670, 350, 0, e.dmax, e.vlo - pad, e.vhi + pad};
+    kl_svg_frame fr = {70, 20, 640, 350, 0, e.dmax, e.vlo - pad, e.vhi + pad};
     const kl_limits *l = &in->opt.limits;
     kl_svg_band(out, &fr, l->range_b_low_v / 120, l->range_b_high_v / 120, "#f4ecd2", NULL);
     kl_svg_band(out, &fr, l->range_a_low_v / 120, l->range_a_high_v / 120, "#dcefd9", NULL);
@@ -117,7 +118,7 @@ static void draw(FILE *out, const kl_report_input *in, const kl_plot_tree *t)
     }
     legend(out, in);
     if (thin)
-        kl_svg_textf(out, 760, 190, "fill=\"#8e1b3c\" font-size=\"10\"",
+        kl_svg_textf(out, LX, 190, "fill=\"#8e1b3c\" font-size=\"10\"",
                      "%d sections: three-phase part only", t->nreached - 1);
 }
 

@@ -89,7 +89,7 @@ static void css(FILE *out)
           ".cards{display:flex;flex-wrap:wrap;gap:12px}\n"
           ".card{background:#fff;border:1px solid #ddd8cc;border-radius:6px;padding:10px 14px;"
           "min-width:220px;flex:1}\n.card b{display:block;font-size:13px;color:#5b636b;"
-          "font-weight:normal}\n.card span{font-size:20px}\n"
+          "font-weight:normal}\n.card .big{font-size:20px}\n"
           ".bad{color:#8e1b3c;font-weight:bold}.ok{color:#2f7d3a}\n"
           "table{border-collapse:collapse;background:#fff;font-size:13.5px;margin:6px 0}\n"
           "th,td{border:1px solid #ddd8cc;padding:3px 9px;text-align:right}\n"
@@ -134,7 +134,7 @@ static void head(FILE *out, const kl_report_input *in)
 
 static void card_open(FILE *out, const char *label)
 {
-    fprintf(out, "<div class=\"card\"><b>%s</b><span>", label); /* labels are ours */
+    fprintf(out, "<div class=\"card\"><b>%s</b><span class=\"big\">", label); /* labels are ours */
 }
 
 static void summary_cards(FILE *out, const kl_report_input *in, const summary *s)
