@@ -97,5 +97,159 @@ const char *kl_report_map_index_name(kl_map_index ix);
 #define KL_COLOUR_A "#a4262c"
 #define KL_COLOUR_B "#1f4e9a"
 #define KL_COLOUR_C "#c98a00"
+/* ---- arena.c, names.c (loader): the string arena that owns every name of a
+ * feeder, and an open-addressing table from name to element index. */
+kl_arena *kl_arena_new(void);
+void kl_arena_free(kl_arena *a);
+const char *kl_arena_strndup(kl_arena *a, const char *s, size_t len); /* NULL: out of memory */
+const char *kl_arena_strdup(kl_arena *a, const char *s);
+size_t kl_arena_bytes(const kl_arena *a);
+
+typedef struct {
+    const char *name; /* NULL: empty slot; points into an arena */
+    unsigned hash;
+    int index;
+} kl_name_slot;
+
+typedef struct {
+    kl_name_slot *slots; /* [cap], cap a power of two, at most half full */
+    unsigned cap;
+    int count;
+} kl_names;
+
+void kl_names_init(kl_names *t);
+void kl_names_free(kl_names *t);
+/* Index stored for s[0..len), or -1. */
+int kl_names_find(const kl_names *t, const char *s, size_t len);
+/* Adds name -> index; `name` must outlive the table (arena string).  The
+ * caller checks for duplicates with kl_names_find first. */
+kl_status kl_names_add(kl_names *t, const char *name, int index);
+
+/* ---- feeder_yaml.c (loader): libyaml's event stream, read one element at a
+ * time into a small reusable tree of nodes.  Memory is bounded by the largest
+ * element, never by the file. */
+typedef enum {
+    KL_YEV_ERROR = -1, KL_YEV_STREAM_END = 0, KL_YEV_DOC_START, KL_YEV_DOC_END,
+    KL_YEV_MAP_START, KL_YEV_MAP_END, KL_YEV_SEQ_START, KL_YEV_SEQ_END, KL_YEV_SCALAR
+} kl_yev;
+
+enum { KL_YSCALAR = 1, KL_YMAP = 2, KL_YSEQ = 3 };
+
+typedef struct {
+    int kind;       /* KL_YSCALAR, KL_YMAP, KL_YSEQ */
+    int line, col;  /* 1-based start */
+    int text, len;  /* scalar: offset of its NUL-terminated text in the pool */
+    int first;      /* map / sequence: first child (maps: key, value, key, ...), -1 */
+    int next;       /* next sibling, -1 */
+    int count;      /* children */
+} kl_ynode;
+
+typedef struct kl_yreader kl_yreader;
+
+/* The reader reports syntax errors, anchors and aliases into err (as file
+ * `file`) and from then on returns KL_YEV_ERROR. */
+kl_yreader *kl_yreader_new_file(void *fp, const char *file, kl_errors *err);
+kl_yreader *kl_yreader_new_buffer(const char *text, size_t len, const char *file, kl_errors *err);
+void kl_yreader_free(kl_yreader *r);
+kl_yev kl_yreader_peek(kl_yreader *r);
+void kl_yreader_consume(kl_yreader *r);
+void kl_yreader_mark(const kl_yreader *r, int *line, int *col); /* of the peeked event */
+int kl_yreader_nomem(const kl_yreader *r);
+/* Reads the next complete value into the node pool; root index or -1. */
+int kl_yreader_tree(kl_yreader *r);
+/* Consumes the next complete value without storing it; -1 on error. */
+int kl_yreader_skip(kl_yreader *r);
+void kl_yreader_reset(kl_yreader *r); /* empties the node pool */
+const kl_ynode *kl_ynode_at(const kl_yreader *r, int i);
+const char *kl_ynode_text(const kl_yreader *r, int i);
+
+/* ---- feeder_load.c, feeder_fields.c, feeder_elements.c, feeder_topology.c:
+ * the loader's working state, shared by its files. */
+enum {
+    KL_REF_SOURCE_BUS, KL_REF_CABLE_COND, KL_REF_CABLE_STRAND, KL_REF_CONS_LAYOUT,
+    KL_REF_CONS_COND, KL_REF_CONS_CABLE, KL_REF_CONS_NEUTRAL0, KL_REF_CONS_NEUTRAL1,
+    KL_REF_SEC_CONS, KL_REF_SEC_XF, KL_REF_SEC_REG, KL_REF_LOAD_BUS, KL_REF_LOAD_SEC,
+    KL_REF_CAP_BUS
+};
+
+typedef struct {
+    int what;          /* KL_REF_* */
+    int elem;          /* index of the referring element */
+    const char *name;  /* the name referred to (arena) */
+    kl_loc loc;
+} kl_pending_ref;
+
+/* Phase and neutral positions of a construction, by position id, resolved
+ * against its layout once every layout has been read. */
+typedef struct {
+    const char *pos[3 + KL_MAX_NEUTRALS]; /* a, b, c, neutral 0, neutral 1; NULL when absent */
+    kl_loc loc[3 + KL_MAX_NEUTRALS];
+    int given_phases;  /* matrix constructions: mask from `phases:` */
+} kl_cons_pos;
+
+typedef struct {
+    kl_feeder *f;
+    kl_yreader *r;
+    kl_errors *err;
+    const char *file;
+    int nerr;               /* problems this load has reported */
+    int nomem;
+    char elem[160];         /* the element being read, for messages */
+    kl_names h_bus, h_cond, h_cable, h_layout, h_cons, h_sec, h_xf, h_reg, h_load, h_cap;
+    int cap_conductors, cap_cables, cap_layouts, cap_constructions, cap_buses,
+        cap_sections, cap_loads, cap_capacitors, cap_transformers, cap_regulators,
+        cap_declared, cap_secph, cap_conspos;
+    unsigned char *bus_declared; /* [cap_buses]: 1 once listed under buses: */
+    int *sec_phases_given;       /* [cap_sections]: mask written in the file, 0 = default */
+    kl_cons_pos *cons_pos;       /* [cap_constructions] */
+    kl_pending_ref *pending;
+    int npending, cap_pending;
+    int has_source;
+} kl_loader;
+
+/* Fields of one mapping, looked up by key index. */
+#define KL_FIELDS_MAX 40
+typedef struct {
+    int map;                   /* the mapping node */
+    const char *const *keys;   /* NULL-terminated */
+    int val[KL_FIELDS_MAX];    /* value node per key, -1 when absent */
+} kl_fields;
+
+enum { KL_F_REQ = 1, KL_F_POS = 2, KL_F_NONNEG = 4 };
+
+void kl_ld_error(kl_loader *L, int node, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
+void kl_ld_error_at(kl_loader *L, int line, int col, const char *fmt, ...) __attribute__((format(printf, 4, 5)));
+void kl_ld_label(kl_loader *L, const char *kind, const char *name, int index);
+int kl_ld_grow(kl_loader *L, void **arr, int *cap, int n, size_t size);
+const char *kl_ld_strdup(kl_loader *L, const char *s);
+int kl_ld_fields(kl_loader *L, int map, const char *const *keys, kl_fields *fl, const char *what);
+const char *kl_ld_str(kl_loader *L, const kl_fields *fl, int k, int flags);
+int kl_ld_real(kl_loader *L, const kl_fields *fl, int k, int q, double *out, double def, int flags);
+int kl_ld_real_node(kl_loader *L, int node, const char *key, int q, double *out, int flags);
+int kl_ld_complex_node(kl_loader *L, int node, const char *key, int q, kl_complex *out);
+int kl_ld_complex(kl_loader *L, const kl_fields *fl, int k, int q, kl_complex *out, int flags);
+int kl_ld_int(kl_loader *L, const kl_fields *fl, int k, int *out, int def, int flags);
+int kl_ld_bool(kl_loader *L, const kl_fields *fl, int k, int def);
+int kl_ld_enum(kl_loader *L, const kl_fields *fl, int k, const char *const *names, int def);
+int kl_ld_phases(kl_loader *L, int node, const char *key);
+int kl_ld_node(kl_loader *L, const kl_fields *fl, int k, int kind, int flags);
+int kl_ld_suggest(const char *word, const char *const *names, int n);
+void kl_ld_ref(kl_loader *L, int what, int elem, const char *name, int node, int *target,
+               const kl_names *table);
+
+void kl_ld_source(kl_loader *L, int map);
+void kl_ld_conductor(kl_loader *L, int map);
+void kl_ld_cable(kl_loader *L, int map);
+void kl_ld_layout(kl_loader *L, int map);
+void kl_ld_construction(kl_loader *L, int map);
+void kl_ld_bus(kl_loader *L, int map);
+void kl_ld_section(kl_loader *L, int map);
+void kl_ld_transformer(kl_loader *L, int map);
+void kl_ld_regulator(kl_loader *L, int map);
+void kl_ld_load(kl_loader *L, int map);
+void kl_ld_capacitor(kl_loader *L, int map);
+int kl_ld_bus_ref(kl_loader *L, int node, const char *key);
+void kl_ld_resolve(kl_loader *L);
+void kl_ld_topology(kl_loader *L);
 
 #endif

@@ -121,6 +121,8 @@ typedef struct {
     int construction;    /* lines: index into constructions */
     int device;          /* transformer / regulator: index into those arrays; -1 otherwise */
     int closed;          /* switches: 1 closed, 0 open; 1 for every other kind */
+    int reversed;        /* lines and switches: 1 when written with `to` on the source side
+                            (from/to stay as written; the loader's topology pass sets this) */
     kl_loc loc;
 } kl_section;
 
@@ -131,6 +133,10 @@ typedef struct {
     double x, y;         /* coordinates in the file's own plot units */
     int has_xy;
     const char *description; /* NULL when none */
+    int parent;          /* section feeding this bus (towards the source); -1 for the source
+                            bus and for buses not reached */
+    int energized;       /* 1: reached from the source through closed sections; 0 beyond an
+                            open switch (de-energized, phases still filled) or not reached */
     kl_loc loc;
 } kl_bus;
 
@@ -252,6 +258,10 @@ kl_status kl_feeder_load(const char *path, kl_feeder **out, kl_errors *err);
 /* The same from a buffer; `name` is used as the file name in messages. */
 kl_status kl_feeder_load_buffer(const char *text, size_t len, const char *name,
                                 kl_feeder **out, kl_errors *err);
+/* kl_feeder_load with a bound on the file size (bytes); files larger are
+ * refused before reading.  kl_feeder_load uses KL_FEEDER_MAX_BYTES. */
+#define KL_FEEDER_MAX_BYTES ((size_t)1 << 30)
+kl_status kl_feeder_load_limit(const char *path, size_t max_bytes, kl_feeder **out, kl_errors *err);
 void kl_feeder_free(kl_feeder *f);
 
 /* Lookups by name (linear or hashed; -1 when absent). */

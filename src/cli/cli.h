@@ -1,0 +1,77 @@
+/* kilter program: the commands and the option handling they share.
+ *
+ * Every command is `int kl_cmd_NAME(int argc, char **argv)` with argv[0] the
+ * command name; it returns the process exit code (KL_EXIT_*). */
+#ifndef KILTER_CLI_H
+#define KILTER_CLI_H
+
+#include <stdio.h>
+#include "kilter/error.h"
+#include "kilter/feeder.h"
+
+enum {
+    KL_EXIT_OK = 0,
+    KL_EXIT_INPUT = 2,    /* bad input file or value */
+    KL_EXIT_NOCONV = 3,   /* did not converge */
+    KL_EXIT_IO = 4,       /* cannot read or write a file */
+    KL_EXIT_NOMEM = 5,    /* out of memory */
+    KL_EXIT_USAGE = 64    /* bad command-line usage */
+};
+
+typedef enum { KL_FMT_TABLE = 0, KL_FMT_CSV = 1, KL_FMT_JSON = 2 } kl_cli_format;
+
+/* A command's own option: `--name VALUE` (has_arg) or `--name`. */
+typedef struct {
+    const char *name;     /* without the leading dashes, e.g. "html" */
+    int has_arg;
+    const char *metavar;  /* e.g. "FILE" */
+    const char *help;
+} kl_cli_opt;
+
+#define KL_CLI_MAX_OPTS 16
+
+typedef struct {
+    const char *cmd;
+    kl_cli_format format;
+    const char *output;                 /* -o FILE, NULL for standard output */
+    const char *feeder;                 /* FEEDER argument, or the demo feeder */
+    int feeder_is_demo;
+    const char *val[KL_CLI_MAX_OPTS];   /* own options, in the order given to kl_cli_parse:
+                                           the value, "" for a flag given, NULL when absent */
+} kl_cli_args;
+
+/* Parses `COMMAND [options] [FEEDER]` (options and FEEDER in any order).
+ * Returns -1 to go on, or an exit code: 0 after --help, 64 on bad usage. */
+int kl_cli_parse(kl_cli_args *a, int argc, char **argv, const char *summary,
+                 const kl_cli_opt *opts, int nopts);
+
+/* Output built in memory, then written whole: to standard output, or to
+ * FILE.tmp.PID renamed to FILE.  Nothing is left behind on failure. */
+typedef struct {
+    FILE *f;       /* write the report here */
+    char *buf;
+    size_t len;
+} kl_cli_out;
+
+int kl_cli_out_open(kl_cli_out *o);                  /* 0, or an exit code */
+int kl_cli_out_close(kl_cli_out *o, const char *path); /* 0, or an exit code; always frees */
+int kl_cli_write_file(const char *path, const char *data, size_t len); /* atomic; 0 or exit code */
+
+/* Prints every item as `kilter: file:line:col: element: message` on stderr. */
+void kl_cli_print_errors(const kl_errors *e);
+void kl_cli_error(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+int kl_cli_exit_code(kl_status s);
+/* Loads a->feeder, printing the errors; 0 or an exit code. */
+int kl_cli_load(const kl_cli_args *a, kl_feeder **f);
+
+/* Output helpers: a JSON string with escapes; a CSV field quoted when needed. */
+void kl_cli_json_str(FILE *f, const char *s);
+void kl_cli_csv_str(FILE *f, const char *s);
+
+int kl_cmd_check(int argc, char **argv);
+int kl_cmd_lines(int argc, char **argv);
+int kl_cmd_flow(int argc, char **argv);
+int kl_cmd_study(int argc, char **argv);
+int kl_cmd_rebalance(int argc, char **argv);
+
+#endif

@@ -1,0 +1,270 @@
+/* kilter program: option handling, atomic output and error printing shared by
+ * every command. */
+#include <errno.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+#include "cli.h"
+
+#ifndef KILTER_DEMO_FEEDER
+#define KILTER_DEMO_FEEDER "feeders/demo/quillmere-f3.yaml"
+#endif
+
+void kl_cli_error(const char *fmt, ...)
+{
+    va_list ap;
+    fputs("kilter: ", stderr);
+    va_start(ap, fmt);
+    vfprintf(stderr, fmt, ap);
+    va_end(ap);
+    fputc('\n', stderr);
+}
+
+static void help(const char *cmd, const char *summary, const kl_cli_opt *opts, int nopts)
+{
+    int i;
+    printf("usage: kilter %s [options] [FEEDER]\n\n%s\n\n", cmd, summary);
+    printf("FEEDER is a feeder file; without it the demo feeder is used:\n  %s\n\noptions:\n",
+           KILTER_DEMO_FEEDER);
+    printf("  %-22s %s\n", "--format table|csv|json", "output format (default table)");
+    printf("  %-22s %s\n", "-o, --output FILE", "write the output to FILE (whole, or not at all)");
+    for (i = 0; i < nopts; i++) {
+        char left[64];
+        snprintf(left, sizeof left, "--%s%s%s", opts[i].name, opts[i].has_arg ? " " : "",
+                 opts[i].has_arg ? opts[i].metavar : "");
+        printf("  %-22s %s\n", left, opts[i].help);
+    }
+    printf("  %-22s %s\n\n", "-h, --help", "show this help");
+    printf("exit codes: 0 success, 2 bad input, 3 did not converge, 4 cannot read/write a file,\n"
+           "            5 out of memory, 64 bad command-line usage\n");
+}
+
+static int set_format(kl_cli_args *a, const char *v)
+{
+    static const char *const names[] = {"table", "csv", "json"};
+    int i;
+    for (i = 0; i < 3; i++)
+        if (strcmp(v, names[i]) == 0) {
+            a->format = (kl_cli_format)i;
+            return -1;
+        }
+    kl_cli_error("%s: unknown format '%s': expected table, csv or json", a->cmd, v);
+    return KL_EXIT_USAGE;
+}
+
+/* The value of an option: `--opt=v`, or the next argument. */
+static const char *option_value(const char *arg, int argc, char **argv, int *i)
+{
+    const char *eq = strchr(arg, '=');
+    if (eq)
+        return eq + 1;
+    if (*i + 1 < argc)
+        return argv[++*i];
+    return NULL;
+}
+
+static int own_option(kl_cli_args *a, const char *arg, int argc, char **argv, int *i,
+                      const kl_cli_opt *opts, int nopts)
+{
+    size_t len = strcspn(arg + 2, "=");
+    int k;
+    for (k = 0; k < nopts && k < KL_CLI_MAX_OPTS; k++) {
+        if (strlen(opts[k].name) != len || strncmp(opts[k].name, arg + 2, len) != 0)
+            continue;
+        if (!opts[k].has_arg) {
+            a->val[k] = "";
+            return -1;
+        }
+        a->val[k] = option_value(arg, argc, argv, i);
+        if (a->val[k])
+            return -1;
+        kl_cli_error("%s: option --%s needs a value (%s)", a->cmd, opts[k].name, opts[k].metavar);
+        return KL_EXIT_USAGE;
+    }
+    kl_cli_error("%s: unknown option '%s' (try 'kilter %s --help')", a->cmd, arg, a->cmd);
+    return KL_EXIT_USAGE;
+}
+
+static int one_arg(kl_cli_args *a, int argc, char **argv, int *i, const kl_cli_opt *opts, int nopts)
+{
+    const char *arg = argv[*i], *v;
+    if (strcmp(arg, "--format") == 0 || strncmp(arg, "--format=", 9) == 0) {
+        v = option_value(arg, argc, argv, i);
+        if (!v) {
+            kl_cli_error("%s: --format needs a value: table, csv or json", a->cmd);
+            return KL_EXIT_USAGE;
+        }
+        return set_format(a, v);
+    }
+    if (strcmp(arg, "-o") == 0 || strcmp(arg, "--output") == 0 || strncmp(arg, "--output=", 9) == 0) {
+        a->output = option_value(arg, argc, argv, i);
+        if (a->output && a->output[0])
+            return -1;
+        kl_cli_error("%s: %s needs a file name", a->cmd, arg);
+        return KL_EXIT_USAGE;
+    }
+    if (strncmp(arg, "--", 2) == 0 && arg[2])
+        return own_option(a, arg, argc, argv, i, opts, nopts);
+    if (arg[0] == '-' && arg[1]) {
+        kl_cli_error("%s: unknown option '%s' (try 'kilter %s --help')", a->cmd, arg, a->cmd);
+        return KL_EXIT_USAGE;
+    }
+    if (!a->feeder_is_demo) {
+        kl_cli_error("%s: more than one feeder file given ('%s' and '%s')", a->cmd, a->feeder, arg);
+        return KL_EXIT_USAGE;
+    }
+    a->feeder = arg;
+    a->feeder_is_demo = 0;
+    return -1;
+}
+
+int kl_cli_parse(kl_cli_args *a, int argc, char **argv, const char *summary,
+                 const kl_cli_opt *opts, int nopts)
+{
+    int i, rc;
+    memset(a, 0, sizeof *a);
+    a->cmd = argv[0];
+    a->feeder = KILTER_DEMO_FEEDER;
+    a->feeder_is_demo = 1;
+    for (i = 1; i < argc; i++) {
+        if (strcmp(argv[i], "--help") == 0 || strcmp(argv[i], "-h") == 0) {
+            help(a->cmd, summary, opts, nopts);
+            return KL_EXIT_OK;
+        }
+        if (strcmp(argv[i], "--") == 0 && i + 1 < argc) {
+            a->feeder = argv[++i];
+            a->feeder_is_demo = 0;
+            continue;
+        }
+        rc = one_arg(a, argc, argv, &i, opts, nopts);
+        if (rc >= 0)
+            return rc;
+    }
+    return -1;
+}
+
+int kl_cli_out_open(kl_cli_out *o)
+{
+    o->buf = NULL;
+    o->len = 0;
+    o->f = open_memstream(&o->buf, &o->len);
+    if (!o->f) {
+        kl_cli_error("cannot allocate the output buffer: %s", strerror(errno));
+        return KL_EXIT_NOMEM;
+    }
+    return 0;
+}
+
+int kl_cli_write_file(const char *path, const char *data, size_t len)
+{
+    char tmp[4096];
+    FILE *f;
+    int ok;
+    if (snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid()) >= (int)sizeof tmp) {
+        kl_cli_error("%s: output file name too long", path);
+        return KL_EXIT_IO;
+    }
+    f = fopen(tmp, "wb");
+    if (!f) {
+        kl_cli_error("%s: cannot write: %s", path, strerror(errno));
+        return KL_EXIT_IO;
+    }
+    ok = fwrite(data, 1, len, f) == len;
+    ok = (fflush(f) == 0) && ok;
+    ok = (fsync(fileno(f)) == 0 || errno == EINVAL) && ok;
+    ok = (fclose(f) == 0) && ok;
+    if (!ok || rename(tmp, path) != 0) {
+        kl_cli_error("%s: cannot write: %s", path, strerror(errno));
+        remove(tmp);
+        return KL_EXIT_IO;
+    }
+    return 0;
+}
+
+int kl_cli_out_close(kl_cli_out *o, const char *path)
+{
+    int rc = 0;
+    if (fclose(o->f) != 0) {
+        kl_cli_error("cannot finish the output: %s", strerror(errno));
+        rc = KL_EXIT_NOMEM;
+    } else if (path) {
+        rc = kl_cli_write_file(path, o->buf, o->len);
+    } else if (fwrite(o->buf, 1, o->len, stdout) != o->len || fflush(stdout) != 0) {
+        kl_cli_error("cannot write to standard output: %s", strerror(errno));
+        rc = KL_EXIT_IO;
+    }
+    free(o->buf);
+    o->buf = NULL;
+    o->f = NULL;
+    return rc;
+}
+
+void kl_cli_print_errors(const kl_errors *e)
+{
+    char line[1400];
+    int i;
+    for (i = 0; i < e->count; i++) {
+        kl_error_format(&e->items[i], line, sizeof line);
+        fprintf(stderr, "kilter: %s\n", line);
+    }
+    if (e->dropped)
+        fprintf(stderr, "kilter: ... and %d more problems not shown\n", e->dropped);
+}
+
+int kl_cli_exit_code(kl_status s)
+{
+    switch (s) {
+    case KL_OK: return KL_EXIT_OK;
+    case KL_ENOCONV: return KL_EXIT_NOCONV;
+    case KL_EIO: return KL_EXIT_IO;
+    case KL_ENOMEM: return KL_EXIT_NOMEM;
+    default: return KL_EXIT_INPUT;
+    }
+}
+
+int kl_cli_load(const kl_cli_args *a, kl_feeder **f)
+{
+    kl_errors e;
+    kl_status s;
+    kl_errors_init(&e);
+    s = kl_feeder_load(a->feeder, f, &e);
+    kl_cli_print_errors(&e);
+    if (s == KL_ENOMEM && e.count == 0)
+        kl_cli_error("%s: out of memory while reading the feeder", a->feeder);
+    kl_errors_free(&e);
+    return kl_cli_exit_code(s);
+}
+
+void kl_cli_json_str(FILE *f, const char *s)
+{
+    fputc('"', f);
+    for (; s && *s; s++) {
+        unsigned char c = (unsigned char)*s;
+        if (c == '"' || c == '\\')
+            fprintf(f, "\\%c", c);
+        else if (c < 0x20)
+            fprintf(f, "\\u%04x", c);
+        else
+            fputc(c, f);
+    }
+    fputc('"', f);
+}
+
+void kl_cli_csv_str(FILE *f, const char *s)
+{
+    if (!s)
+        s = "";
+    if (!strpbrk(s, ",\"\n\r")) {
+        fputs(s, f);
+        return;
+    }
+    fputc('"', f);
+    for (; *s; s++) {
+        if (*s == '"')
+            fputc('"', f);
+        fputc(*s, f);
+    }
+    fputc('"', f);
+}

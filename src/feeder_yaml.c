@@ -1,0 +1,321 @@
+/* kilter: the loader's view of libyaml's event parser.
+ *
+ * The feeder file is never held as a document tree: the loader walks the
+ * top-level mapping event by event and reads one element (one list item) at a
+ * time into a node pool that is reused for the next element.  Anchors and
+ * aliases are refused outright: they are never needed in a feeder file and
+ * they are how a small file expands into a huge one. */
+#include <stdio.h>
+#include <string.h>
+#include <yaml.h>
+#include "kl_internal.h"
+
+#define MAX_DEPTH 32             /* deeper than any feeder element needs */
+#define MAX_NODES (1 << 20)      /* per element */
+#define MAX_TEXT (64u << 20)     /* bytes of scalar text per element */
+
+struct kl_yreader {
+    yaml_parser_t parser;
+    yaml_event_t ev;
+    int have_ev;
+    int failed;
+    int nomem;
+    const char *file;
+    kl_errors *err;
+    kl_ynode *nodes;
+    int nnodes, capnodes;
+    char *text;
+    size_t ntext, captext;
+};
+
+static kl_yreader *reader_alloc(const char *file, kl_errors *err)
+{
+    kl_yreader *r = kl_calloc(1, sizeof *r);
+    if (!r)
+        return NULL;
+    if (!yaml_parser_initialize(&r->parser)) {
+        kl_free(r);
+        return NULL;
+    }
+    r->file = file;
+    r->err = err;
+    return r;
+}
+
+kl_yreader *kl_yreader_new_file(void *fp, const char *file, kl_errors *err)
+{
+    kl_yreader *r = reader_alloc(file, err);
+    if (r)
+        yaml_parser_set_input_file(&r->parser, fp);
+    return r;
+}
+
+kl_yreader *kl_yreader_new_buffer(const char *text, size_t len, const char *file, kl_errors *err)
+{
+    kl_yreader *r = reader_alloc(file, err);
+    if (r)
+        yaml_parser_set_input_string(&r->parser, (const unsigned char *)text, len);
+    return r;
+}
+
+void kl_yreader_free(kl_yreader *r)
+{
+    if (!r)
+        return;
+    if (r->have_ev)
+        yaml_event_delete(&r->ev);
+    yaml_parser_delete(&r->parser);
+    kl_free(r->nodes);
+    kl_free(r->text);
+    kl_free(r);
+}
+
+static void fail(kl_yreader *r, int line, int col, const char *fmt, const char *a, const char *b)
+{
+    if (!r->failed)
+        kl_errors_add(r->err, r->file, line, col, NULL, fmt, a, b);
+    r->failed = 1;
+}
+
+static void syntax_error(kl_yreader *r)
+{
+    const yaml_parser_t *p = &r->parser;
+    const yaml_mark_t *m = &p->problem_mark;
+    if (p->error == YAML_MEMORY_ERROR) {
+        r->nomem = 1;
+        r->failed = 1;
+        return;
+    }
+    fail(r, (int)m->line + 1, (int)m->column + 1,
+         "YAML syntax error: %s%s; check the indentation, colons and quotes around this point",
+         p->problem ? p->problem : "unreadable input",
+         p->context ? " (while reading the enclosing block)" : "");
+}
+
+static int has_anchor(const yaml_event_t *e)
+{
+    switch (e->type) {
+    case YAML_SCALAR_EVENT: return e->data.scalar.anchor != NULL;
+    case YAML_MAPPING_START_EVENT: return e->data.mapping_start.anchor != NULL;
+    case YAML_SEQUENCE_START_EVENT: return e->data.sequence_start.anchor != NULL;
+    default: return 0;
+    }
+}
+
+static kl_yev event_kind(const yaml_event_t *e)
+{
+    switch (e->type) {
+    case YAML_STREAM_END_EVENT: return KL_YEV_STREAM_END;
+    case YAML_DOCUMENT_START_EVENT: return KL_YEV_DOC_START;
+    case YAML_DOCUMENT_END_EVENT: return KL_YEV_DOC_END;
+    case YAML_MAPPING_START_EVENT: return KL_YEV_MAP_START;
+    case YAML_MAPPING_END_EVENT: return KL_YEV_MAP_END;
+    case YAML_SEQUENCE_START_EVENT: return KL_YEV_SEQ_START;
+    case YAML_SEQUENCE_END_EVENT: return KL_YEV_SEQ_END;
+    case YAML_SCALAR_EVENT: return KL_YEV_SCALAR;
+    default: return KL_YEV_ERROR;
+    }
+}
+
+kl_yev kl_yreader_peek(kl_yreader *r)
+{
+    for (;;) {
+        if (r->failed)
+            return KL_YEV_ERROR;
+        if (!r->have_ev) {
+            if (!yaml_parser_parse(&r->parser, &r->ev)) {
+                syntax_error(r);
+                return KL_YEV_ERROR;
+            }
+            r->have_ev = 1;
+        }
+        if (r->ev.type == YAML_ALIAS_EVENT || has_anchor(&r->ev)) {
+            fail(r, (int)r->ev.start_mark.line + 1, (int)r->ev.start_mark.column + 1,
+                 "YAML anchors and aliases ('&name', '*name') are not accepted in a feeder file%s%s: "
+                 "write the values out in full", "", "");
+            return KL_YEV_ERROR;
+        }
+        if (r->ev.type != YAML_STREAM_START_EVENT)
+            return event_kind(&r->ev);
+        kl_yreader_consume(r);
+    }
+}
+
+void kl_yreader_consume(kl_yreader *r)
+{
+    if (r->have_ev) {
+        yaml_event_delete(&r->ev);
+        r->have_ev = 0;
+    }
+}
+
+void kl_yreader_mark(const kl_yreader *r, int *line, int *col)
+{
+    if (r->have_ev) {
+        *line = (int)r->ev.start_mark.line + 1;
+        *col = (int)r->ev.start_mark.column + 1;
+    } else {
+        *line = (int)r->parser.mark.line + 1;
+        *col = (int)r->parser.mark.column + 1;
+    }
+}
+
+int kl_yreader_nomem(const kl_yreader *r)
+{
+    return r->nomem;
+}
+
+void kl_yreader_reset(kl_yreader *r)
+{
+    r->nnodes = 0;
+    r->ntext = 0;
+}
+
+const kl_ynode *kl_ynode_at(const kl_yreader *r, int i)
+{
+    return &r->nodes[i];
+}
+
+const char *kl_ynode_text(const kl_yreader *r, int i)
+{
+    return r->nodes[i].kind == KL_YSCALAR ? r->text + r->nodes[i].text : "";
+}
+
+static int new_node(kl_yreader *r, int kind)
+{
+    kl_ynode *n;
+    if (r->nnodes == MAX_NODES) {
+        int line, col;
+        kl_yreader_mark(r, &line, &col);
+        fail(r, line, col, "element too large: more than a million YAML nodes in one element%s%s", "", "");
+        return -1;
+    }
+    if (r->nnodes == r->capnodes) {
+        int cap = r->capnodes ? r->capnodes * 2 : 64;
+        kl_ynode *p = kl_realloc(r->nodes, (size_t)cap * sizeof *p);
+        if (!p) {
+            r->nomem = r->failed = 1;
+            return -1;
+        }
+        r->nodes = p;
+        r->capnodes = cap;
+    }
+    n = &r->nodes[r->nnodes];
+    memset(n, 0, sizeof *n);
+    n->kind = kind;
+    kl_yreader_mark(r, &n->line, &n->col);
+    n->first = n->next = -1;
+    return r->nnodes++;
+}
+
+static int store_text(kl_yreader *r, int node)
+{
+    size_t len = r->ev.data.scalar.length;
+    if (len >= MAX_TEXT || r->ntext + len + 1 > MAX_TEXT) {
+        fail(r, r->nodes[node].line, r->nodes[node].col,
+             "scalar text too long (over 64 MiB in one element)%s%s", "", "");
+        return -1;
+    }
+    if (r->ntext + len + 1 > r->captext) {
+        size_t cap = r->captext ? r->captext : 1024;
+        char *p;
+        while (cap < r->ntext + len + 1)
+            cap *= 2;
+        p = kl_realloc(r->text, cap);
+        if (!p) {
+            r->nomem = r->failed = 1;
+            return -1;
+        }
+        r->text = p;
+        r->captext = cap;
+    }
+    memcpy(r->text + r->ntext, r->ev.data.scalar.value, len);
+    r->text[r->ntext + len] = '\0';
+    r->nodes[node].text = (int)r->ntext;
+    r->nodes[node].len = (int)len;
+    r->ntext += len + 1;
+    return 0;
+}
+
+static int read_value(kl_yreader *r, int depth);
+
+/* Children of a mapping or sequence, up to its end event. */
+static int read_children(kl_yreader *r, int node, kl_yev end, int depth)
+{
+    int last = -1;
+    for (;;) {
+        kl_yev k = kl_yreader_peek(r);
+        int c;
+        if (k == KL_YEV_ERROR)
+            return -1;
+        if (k == end) {
+            kl_yreader_consume(r);
+            return node;
+        }
+        c = read_value(r, depth + 1);
+        if (c < 0)
+            return -1;
+        if (last < 0)
+            r->nodes[node].first = c;
+        else
+            r->nodes[last].next = c;
+        last = c;
+        r->nodes[node].count++;
+    }
+}
+
+static int read_value(kl_yreader *r, int depth)
+{
+    kl_yev k = kl_yreader_peek(r);
+    int n;
+    if (k == KL_YEV_ERROR)
+        return -1;
+    if (depth > MAX_DEPTH) {
+        int line, col;
+        kl_yreader_mark(r, &line, &col);
+        fail(r, line, col, "YAML nested too deeply (more than 32 levels)%s%s: "
+             "a feeder element needs no more than three", "", "");
+        return -1;
+    }
+    if (k == KL_YEV_SCALAR) {
+        n = new_node(r, KL_YSCALAR);
+        if (n < 0 || store_text(r, n) < 0)
+            return -1;
+        kl_yreader_consume(r);
+        return n;
+    }
+    if (k == KL_YEV_MAP_START || k == KL_YEV_SEQ_START) {
+        n = new_node(r, k == KL_YEV_MAP_START ? KL_YMAP : KL_YSEQ);
+        if (n < 0)
+            return -1;
+        kl_yreader_consume(r);
+        return read_children(r, n, k == KL_YEV_MAP_START ? KL_YEV_MAP_END : KL_YEV_SEQ_END, depth);
+    }
+    {
+        int line, col;
+        kl_yreader_mark(r, &line, &col);
+        fail(r, line, col, "unexpected YAML structure%s%s", "", "");
+    }
+    return -1;
+}
+
+int kl_yreader_tree(kl_yreader *r)
+{
+    return read_value(r, 0);
+}
+
+int kl_yreader_skip(kl_yreader *r)
+{
+    long depth = 0;
+    do {
+        kl_yev k = kl_yreader_peek(r);
+        if (k == KL_YEV_ERROR || k == KL_YEV_STREAM_END || k == KL_YEV_DOC_END)
+            return -1;
+        if (k == KL_YEV_MAP_START || k == KL_YEV_SEQ_START)
+            depth++;
+        else if (k == KL_YEV_MAP_END || k == KL_YEV_SEQ_END)
+            depth--;
+        kl_yreader_consume(r);
+    } while (depth > 0);
+    return 0;
+}
