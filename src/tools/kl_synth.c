@@ -11,9 +11,9 @@
  *   - single-phase laterals (chains of 2..10 buses, the rest) on any three- or
  *     two-phase bus, on one of that bus's phases.
  * The depth of the tree is therefore bounded whatever N is; a larger N means more
- * laterals in parallel, not longer paths.  The total load is fixed (TOTAL_KVA), so the
- * load per bus falls as N grows and the head current and the trunk's voltage drop stay
- * those of an ordinary 12.47 kV feeder.
+ * laterals in parallel, not longer paths.  The total load is fixed (TOTAL_KVA, less for
+ * tiny feeders), so the load per bus falls as N grows and the head current and the
+ * trunk's voltage drop stay those of an ordinary 12.47 kV feeder.
  *
  * Output is streamed; memory is O(N) (a parent, a phase mask and a kind per bus) and
  * time is O(N).  The same N and seed give the same bytes: the generator uses its own
@@ -34,6 +34,7 @@
 #define TRUNK_MAX 30
 #define TRUNK_LENGTH_FT 15840.0 /* 3 mi of trunk */
 #define TOTAL_KVA 4500.0      /* total connected load: a typical 12.47 kV feeder head */
+#define BUS_KVA_MAX 60.0      /* small feeders: at most this per bus, so laterals stay within ampacity */
 #define SOURCE_PU 1.02        /* substation bus held a little above nominal (common practice) */
 
 enum { K_SOURCE, K_TRUNK, K_BRANCH, K_BRANCH_UG, K_TWO, K_ONE };
@@ -137,6 +138,13 @@ static void tree_free(synth_tree *t)
 
 /* ---------------------------------------------------------------- output: fixed part */
 
+/* Connected load of the whole feeder, kVA. */
+static double total_kva(long n)
+{
+    double kva = BUS_KVA_MAX * (double)(n - 1);
+    return kva < TOTAL_KVA ? kva : TOTAL_KVA;
+}
+
 static void write_header(FILE *f, long n, uint64_t seed)
 {
     fprintf(f,
@@ -153,7 +161,7 @@ static void write_header(FILE *f, long n, uint64_t seed)
         "  frequency: 60 Hz\n"
         "  regulated_voltage: %.2f pu\n"
         "  angle: 0 deg\n",
-        n, seed, TOTAL_KVA, n, seed, SOURCE_PU);
+        n, seed, total_kva(n), n, seed, SOURCE_PU);
 }
 
 /* Conductor data: the usual overhead-line handbook values (from memory). */
@@ -333,7 +341,7 @@ static double write_loads(FILE *f, const synth_tree *t, uint64_t seed)
         synth_load L = load_draw(t, i, &rng);
         if (L.has) total += L.size * popcount3(L.phases);
     }
-    double per_unit_kva = total > 0 ? TOTAL_KVA / total : 0.0;
+    double per_unit_kva = total > 0 ? total_kva(t->n) / total : 0.0;
     rng = seed ^ 0x10adULL;
     fputs("loads:\n", f);
     for (long i = 1; i < t->n; i++) {
