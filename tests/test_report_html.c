@@ -379,6 +379,53 @@ START_TEST(progress_reported)
 }
 END_TEST
 
+START_TEST(tree_layout_layered)
+{
+    /* A main 0-1-2-3 with laterals 1-4-5 and 2-6, one written far end first.
+     * Layered layout: x is the depth; the largest subtree stays on the
+     * parent's row, so the main runs straight along row 0; leaves get rows
+     * of their own; distances add the line lengths along the path. */
+    static const int from[6] = {0, 1, 2, 4, 5, 2}, to[6] = {1, 2, 3, 1, 4, 6};
+    kl_bus bus[7] = {{0}};
+    kl_section sec[6];
+    for (int s = 0; s < 6; s++)
+        sec[s] = (kl_section){.name = "s", .kind = KL_SEC_LINE, .from = from[s], .to = to[s],
+                              .phases = KL_PH_ABC, .length_m = 100.0 * (s + 1), .closed = 1,
+                              .device = -1};
+    kl_feeder f = {.buses = bus, .nbuses = 7, .sections = sec, .nsections = 6};
+    f.source.bus = 0;
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_plot_tree *t = NULL;
+    ck_assert_int_eq(kl_plot_tree_build(&f, &t, &err), KL_OK);
+    ck_assert_int_eq(t->nreached, 7);
+    double x[7], y[7];
+    int rows = 0;
+    ck_assert_int_eq(kl_plot_tree_layout(&f, t, x, y, &rows, &err), KL_OK);
+    static const int depth[7] = {0, 1, 2, 3, 2, 3, 3};
+    for (int b = 0; b < 7; b++) {
+        ck_assert_double_eq(x[b], depth[b]);
+        if (t->parent_bus[b] >= 0)
+            ck_assert(y[b] >= y[t->parent_bus[b]]);
+    }
+    ck_assert_int_eq(rows, 3); /* three leaves: 3, 5, 6 */
+    ck_assert(y[3] != y[5] && y[3] != y[6] && y[5] != y[6]);
+    ck_assert_double_eq(y[0], y[3]); /* bus 1 carries 5 buses below it: the main */
+    ck_assert_double_eq(y[1], y[3]);
+    ck_assert_double_eq_tol(t->dist_m[5], 100 + 400 + 500, 1e-9);
+    ck_assert_double_eq_tol(t->dist_m[6], 100 + 200 + 600, 1e-9);
+    /* an open switch cuts off what lies beyond it */
+    sec[5].closed = 0;
+    kl_plot_tree_free(t);
+    ck_assert_int_eq(kl_plot_tree_build(&f, &t, &err), KL_OK);
+    ck_assert_int_eq(t->nreached, 6);
+    ck_assert_int_eq(t->depth[6], -1);
+    ck_assert(isnan(t->dist_m[6]));
+    kl_plot_tree_free(t);
+    kl_errors_free(&err);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("report_html");
@@ -392,6 +439,7 @@ int main(void)
     tcase_add_test(tc, write_failure_reported);
     tcase_add_loop_test(tc, allocation_failures, 0, 2);
     tcase_add_test(tc, progress_reported);
+    tcase_add_test(tc, tree_layout_layered);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
