@@ -91,10 +91,10 @@ static void phase_panel(FILE *out, const kl_report_input *in, int b, const kl_co
         if (!((ph >> p) & 1))
             continue;
         kl_complex v = in->ph.v[3 * b + p];
-        kl_svg_textf(out, 20, y, "fill=\"#222\"", "%s " KL_FMT_PU " pu at " KL_FMT_DEG " deg",
+        kl_svg_textf(out, 20, y, "fill=\"#222\"", "%s " KL_NUM_PU " pu at " KL_NUM_DEG " deg",
                      vl[p], cabs(v) / vbase, deg(v));
         if (have_i)
-            kl_svg_textf(out, 230, y, "fill=\"#222\"", "%s " KL_FMT_AMP " A at " KL_FMT_DEG " deg",
+            kl_svg_textf(out, 230, y, "fill=\"#222\"", "%s " KL_NUM_AMP " A at " KL_NUM_DEG " deg",
                          il[p], cabs(i[p]), deg(i[p]));
         y += 16;
     }
@@ -149,10 +149,10 @@ static void seq_panel(FILE *out, const kl_report_input *in, int b, const kl_comp
         seq_arrows(out, cx, cy, i012, 0.8 * R / iref, "I", 1);
     double y = cy + R + 36;
     for (int q = 0; q < 3; q++, y += 16) {
-        kl_svg_textf(out, PANEL + 20, y, "fill=\"#222\"", "V%d " KL_FMT_PU " pu at " KL_FMT_DEG " deg",
+        kl_svg_textf(out, PANEL + 20, y, "fill=\"#222\"", "V%d " KL_NUM_PU " pu at " KL_NUM_DEG " deg",
                      q, cabs(v012[q]), deg(v012[q]));
         if (have_i)
-            kl_svg_textf(out, PANEL + 230, y, "fill=\"#222\"", "I%d " KL_FMT_AMP " A at " KL_FMT_DEG
+            kl_svg_textf(out, PANEL + 230, y, "fill=\"#222\"", "I%d " KL_NUM_AMP " A at " KL_NUM_DEG
                          " deg", q, cabs(i012[q]), deg(i012[q]));
     }
     kl_svg_text(out, PANEL + 20, y + 4, "fill=\"#666\" font-size=\"10\"",

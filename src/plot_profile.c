@@ -111,7 +111,7 @@ static void draw(FILE *out, const kl_report_input *in, const kl_plot_tree *t)
         double x = kl_svg_fx(&fr, t->dist_m[e.worst_bus] * to_unit), y = kl_svg_fy(&fr, e.worst_v);
         kl_svg_circle(out, x, y, 4, "fill=\"none\" stroke=\"#111\" stroke-width=\"1.5\"");
         char lab[300];
-        snprintf(lab, sizeof lab, "lowest: %s phase %c, " KL_FMT_PU " pu",
+        snprintf(lab, sizeof lab, "lowest: %s phase %c, " KL_NUM_PU " pu",
                  f->buses[e.worst_bus].name ? f->buses[e.worst_bus].name : "?",
                  "abc"[e.worst_ph], e.worst_v);
         kl_svg_text(out, x - 6, y + 16, "text-anchor=\"end\" fill=\"#111\"", lab);

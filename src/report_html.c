@@ -3,7 +3,7 @@
  * Inline CSS and SVG only: no script, no font or image fetched from
  * anywhere, so the file reads the same mailed, archived or offline.  Every
  * name from the feeder file goes through kl_xml_escape.  Figures in the
- * tables use the KL_FMT_* formats of report.h, the same the CSV outputs use,
+ * tables use the KL_NUM_* formats of report.h, the same the CSV outputs use,
  * so the two never disagree in a digit. */
 #include <complex.h>
 #include <math.h>
@@ -142,7 +142,7 @@ static void summary_cards(FILE *out, const kl_report_input *in, const summary *s
     const kl_feeder *f = in->feeder;
     card_open(out, "Lowest voltage");
     if (s->vmin_bus >= 0) {
-        fprintf(out, KL_FMT_PU " pu</span><br>bus ", s->vmin);
+        fprintf(out, KL_NUM_PU " pu</span><br>bus ", s->vmin);
         kl_xml_escape(out, bus_name(f, s->vmin_bus));
         fprintf(out, ", phase %c", "abc"[s->vmin_ph]);
     } else
@@ -150,14 +150,14 @@ static void summary_cards(FILE *out, const kl_report_input *in, const summary *s
     fputs("</div>\n", out);
     card_open(out, "Highest voltage unbalance factor");
     if (s->vuf_bus >= 0) {
-        fprintf(out, KL_FMT_PCT " %%</span><br>bus ", s->vuf);
+        fprintf(out, KL_NUM_PCT " %%</span><br>bus ", s->vuf);
         kl_xml_escape(out, bus_name(f, s->vuf_bus));
     } else
         fputs("&ndash;</span><br>no three-phase bus", out);
     fputs("</div>\n", out);
     card_open(out, "Largest neutral current");
     if (s->in_sec >= 0) {
-        fprintf(out, KL_FMT_AMP " A</span><br>section ", s->in_max);
+        fprintf(out, KL_NUM_AMP " A</span><br>section ", s->in_max);
         kl_xml_escape(out, f->sections[s->in_sec].name);
     } else
         fputs("&ndash;</span><br>not computed", out);
@@ -165,8 +165,8 @@ static void summary_cards(FILE *out, const kl_report_input *in, const summary *s
     kl_complex i012[3];
     kl_seq_from_phase(s->head_i, i012);
     card_open(out, "Current at the feeder head");
-    fprintf(out, KL_FMT_AMP " / " KL_FMT_AMP " / " KL_FMT_AMP " A</span><br>phases a / b / c; "
-            "residual 3I0 = " KL_FMT_AMP " A", cabs(s->head_i[0]), cabs(s->head_i[1]),
+    fprintf(out, KL_NUM_AMP " / " KL_NUM_AMP " / " KL_NUM_AMP " A</span><br>phases a / b / c; "
+            "residual 3I0 = " KL_NUM_AMP " A", cabs(s->head_i[0]), cabs(s->head_i[1]),
             cabs(s->head_i[2]), 3 * cabs(i012[0]));
     double pickup = f->source.relay_pickup_a, ratio;
     if (kl_limits_share(3 * cabs(i012[0]), pickup, in->opt.limits.relay_share, &ratio) >= 0)
@@ -271,11 +271,11 @@ static void unbalance_row(FILE *out, const kl_report_input *in, int b)
     fputs("<tr>", out);
     td_name(out, bus_name(in->feeder, b));
     for (int p = 0; p < 3; p++)
-        td_num(out, KL_FMT_PU, kl_report_v_pu(in, b, p));
+        td_num(out, KL_NUM_PU, kl_report_v_pu(in, b, p));
     for (int q = 0; q < 3; q++)
-        td_num(out, KL_FMT_PU, v012[q]);
-    td_num(out, KL_FMT_PCT, 100 * u.vuf);
-    td_num(out, KL_FMT_PCT, 100 * u.lvur);
+        td_num(out, KL_NUM_PU, v012[q]);
+    td_num(out, KL_NUM_PCT, 100 * u.vuf);
+    td_num(out, KL_NUM_PCT, 100 * u.lvur);
     fprintf(out, "<td class=\"n %s\">%s</td></tr>\n", over > 0 ? "bad" : "ok",
             over < 0 ? "&ndash;" : (over & KL_VUF_OVER_SUPPLY) ? "above both levels"
             : (over & KL_VUF_OVER_COMPAT) ? "above the lower level" : "within");
@@ -323,13 +323,13 @@ static void neutral_row(FILE *out, const kl_report_input *in, int s)
     td_name(out, bus_name(f, sec->to));
     td_name(out, kl_phases_str(sec->phases, ph));
     for (int p = 0; p < 3; p++)
-        td_num(out, KL_FMT_AMP, (sec->phases >> p) & 1 ? cabs(in->ph.i[3 * s + p]) : NAN);
+        td_num(out, KL_NUM_AMP, (sec->phases >> p) & 1 ? cabs(in->ph.i[3 * s + p]) : NAN);
     double a = kl_report_neutral_a(in, s), amp = NAN, ratio = NAN;
     if (sec->kind == KL_SEC_LINE && sec->construction >= 0
         && sec->construction < f->nconstructions)
         amp = f->constructions[sec->construction].neutral_ampacity_a;
     int over = kl_limits_share(a, amp, in->opt.limits.neutral_share, &ratio);
-    td_num(out, KL_FMT_AMP, a);
+    td_num(out, KL_NUM_AMP, a);
     td_num(out, "%.0f", amp > 0 ? amp : NAN);
     td_num(out, "%.0f", 100 * ratio);
     fprintf(out, "<td class=\"n %s\">%s</td></tr>\n", over > 0 ? "bad" : "ok",

@@ -217,9 +217,9 @@ START_TEST(unbalance_table_figures)
     ck_assert_double_eq_tol(vuf, 100 * cabs(v2) / cabs(v1), 0.005);
     double v1pu = cell(h, "<table class=\"unbalance\">", "x&quot;y&#39;z", 5);
     ck_assert_double_eq_tol(v1pu, cabs(v1) / (480 / sqrt(3)), 0.00005);
-    /* the same figures in the CSV number format (report.h KL_FMT_PCT) */
+    /* the same figures in the CSV number format (report.h KL_NUM_PCT) */
     char want[32];
-    snprintf(want, sizeof want, "<td>" KL_FMT_PCT "</td>", 100 * cabs(v2) / cabs(v1));
+    snprintf(want, sizeof want, "<td>" KL_NUM_PCT "</td>", 100 * cabs(v2) / cabs(v1));
     ck_assert_ptr_nonnull(strstr(h, want));
     /* one- and two-phase buses have no sequence values: not in the table */
     const char *t0 = strstr(h, "<table class=\"unbalance\">"), *t1 = strstr(t0, "</table>");

@@ -54,10 +54,10 @@ void kl_report_options_default(kl_report_options *o);
 
 /* Number formats shared by the HTML tables and the CSV outputs, so that both
  * print the same figures (the structural test compares them). */
-#define KL_FMT_PU "%.4f"   /* per-unit voltages and sequence magnitudes */
-#define KL_FMT_PCT "%.2f"  /* unbalance factors and rates, % */
-#define KL_FMT_AMP "%.1f"  /* currents, A */
-#define KL_FMT_DEG "%.2f"  /* angles, degrees */
+#define KL_NUM_PU "%.4f"   /* per-unit voltages and sequence magnitudes */
+#define KL_NUM_PCT "%.2f"  /* unbalance factors and rates, % */
+#define KL_NUM_AMP "%.1f"  /* currents, A */
+#define KL_NUM_DEG "%.2f"  /* angles, degrees */
 
 /* The whole report.  KL_EARG when in/feeder/arrays are missing or the phasor
  * bus is out of range; KL_ENOMEM; KL_EIO when writing to `out` failed. */
