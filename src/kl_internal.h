@@ -252,4 +252,38 @@ int kl_ld_bus_ref(kl_loader *L, int node, const char *key);
 void kl_ld_resolve(kl_loader *L);
 void kl_ld_topology(kl_loader *L);
 
+/* ---- cmatrix3.c, network.c, transformer.c, regulator.c, load_model.c,
+ * sweep.c, flow.c: the load flow (include/kilter/network.h, flow.h). */
+struct kl_network;
+struct kl_flow_result;
+void kl_cm3_identity(kl_complex m[9], int mask);
+void kl_cm3_mul(const kl_complex x[9], const kl_complex y[9], kl_complex r[9]);
+void kl_cm3_vec(const kl_complex m[9], const kl_complex v[3], kl_complex r[3]);
+void kl_cm3_transpose(const kl_complex m[9], kl_complex r[9]);
+void kl_cm3_mask(kl_complex m[9], int mask);
+int kl_cm3_inverse(const kl_complex m[9], kl_complex r[9]);
+
+/* transformer.c: the ideal ratio matrix A (V_load = A V_source - B I_load,
+ * I_source = A^T I_load) and B of one bank.  step_up: the source side is the
+ * bank's low winding.  Fills the load-side phase mask and line-to-neutral base;
+ * returns KL_EINPUT with `why` filled for a connection it cannot model. */
+kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int step_up,
+                                  kl_complex A[9], kl_complex B[9], int *load_phases,
+                                  double *load_base_ln, char *why, size_t nwhy);
+
+/* regulator.c */
+void kl_regulator_matrices(const kl_regulator *r, const int tap[3], int phases,
+                           kl_complex A[9], kl_complex d[9], kl_complex a[9]);
+/* Moves the taps of automatic regulator r once, from the solved state in net;
+ * returns the number of units whose tap moved. */
+int kl_regulator_control(struct kl_network *net, int r);
+/* Relay (compensated) voltage of each unit on the 120 V base. */
+void kl_regulator_relay_voltage(const struct kl_network *net, int r, double vr[3]);
+
+/* load_model.c: adds every load's and capacitor's current at the present
+ * voltages into net->j (scale multiplies load powers). */
+void kl_load_inject(struct kl_network *net, double scale);
+/* Actual powers at the present voltages into res->s_load, q_cap, s_loads. */
+void kl_load_powers(const struct kl_network *net, double scale, struct kl_flow_result *res);
+
 #endif

@@ -1,0 +1,103 @@
+/* kilter: the feeder analysed once for solving: buses and branches in sweep
+ * order as flat arrays, each branch in the generalized matrix form
+ *
+ *     V_from = a V_to + b I_to        I_from = c V_to + d I_to
+ *     V_to   = A V_from - B I_to
+ *
+ * (W. H. Kersting, "Distribution System Modeling and Analysis", ch. 6-8,
+ * from memory).  Voltages are phase-to-neutral (ground) volts of the phases
+ * a, b, c; currents are line currents in amperes; absent phases hold zero.
+ *
+ * Built once by kl_network_build; the solvers (sweep.c, nodal.c) only read
+ * topology and write values, so repeated solves (regulator taps, load
+ * levels, rebalancing candidates) allocate nothing.
+ *
+ * Rephasing: which phase slot each entry of a load connects to is a value
+ * (ld_slot), read by the load model at every iteration, not topology.  A
+ * `kl_network_rephase_load(net, load, slots)` function can therefore be
+ * added without rebuilding; moving a whole lateral needs its branch matrices
+ * permuted the same way (rows/columns of a..B and the bus phase masks) and
+ * can be written against these arrays as well. */
+#ifndef KILTER_NETWORK_H
+#define KILTER_NETWORK_H
+
+#include "kilter/error.h"
+#include "kilter/feeder.h"
+
+typedef enum {
+    KL_BR_LINE = 1,        /* (part of) a line section */
+    KL_BR_SWITCH = 2,      /* closed switch: identity */
+    KL_BR_TRANSFORMER = 3,
+    KL_BR_REGULATOR = 4
+} kl_branch_kind;
+
+/* One network load: a spot load, or one lumped part of a distributed load. */
+typedef struct {
+    int load;              /* feeder load id */
+    int bus;               /* network bus id */
+    double weight;         /* share of the feeder load's power (1 for spot loads) */
+} kl_net_load;
+
+typedef struct kl_network {
+    const kl_feeder *feeder;  /* not owned; must outlive the network */
+
+    /* buses: ids 0..nfeeder_buses-1 are the feeder's bus ids; internal nodes
+     * (distributed-load lumping points) follow. */
+    int nbuses;
+    int nfeeder_buses;
+    int source;            /* bus id of the source */
+    int *order;            /* [nbuses] bus ids breadth-first from the source */
+    int *phases;           /* [nbuses] phase mask (center-tap secondary: a = leg 1, b = leg 2) */
+    double *v_base_ln;     /* [nbuses] line-to-neutral base, V */
+    int *parent;           /* [nbuses] branch feeding the bus, -1 for the source */
+
+    /* branches in sweep order: parents before children */
+    int nbranches;
+    int *br_from, *br_to;  /* [nbranches] bus ids */
+    int *br_kind;          /* [nbranches] kl_branch_kind */
+    int *br_phases;        /* [nbranches] phase mask on the source side */
+    int *br_section;       /* [nbranches] feeder section id */
+    kl_complex *a, *b, *c, *d, *A, *B; /* [9*nbranches] row-major 3x3 each */
+    kl_complex *zser;      /* [9*nbranches] lines: series impedance (ohm); devices: B (load side) */
+    kl_complex *ysh;       /* [9*nbranches] lines: total shunt admittance (S), half at each end */
+
+    /* per feeder section [nsections]: branch carrying its sending end and its
+     * receiving end (differ when a distributed load splits it); -1 when the
+     * section is an open switch */
+    int *sec_first, *sec_last;
+
+    /* loads as solved: spot loads, then lumped parts of distributed loads */
+    int nloads;
+    kl_net_load *loads;    /* [nloads] */
+    int *ld_slot;          /* [3*feeder nloads] phase slot (0..2) of each load entry:
+                            * wye entry k sits on phase slot s; delta entry k joins
+                            * phases s and (s+1)%3.  Identity (s = k) when built. */
+
+    /* regulators */
+    int *reg_branch;       /* [nregulators] branch id */
+    int *tap;              /* [3*nregulators] present taps */
+
+    /* source: ideal voltages, and the Thevenin impedance when there is one */
+    kl_complex v_source[3];
+    int has_zsource;
+    kl_complex zsource[9];
+
+    /* workspace written by the solvers */
+    int v_valid;           /* 1 once a solve has left voltages to start from */
+    kl_complex *v;         /* [3*nbuses] present voltages */
+    kl_complex *j;         /* [3*nbuses] current drawn at each bus (loads + children) */
+    kl_complex *i_from;    /* [3*nbranches] sending-end currents */
+    kl_complex *i_to;      /* [3*nbranches] receiving-end currents */
+} kl_network;
+
+/* Analyses the feeder: breadth-first order from the source, per-bus phases
+ * and bases, branch matrices.  Line constructions must be derived
+ * (kl_lines_derive) or given as matrices.  Errors: islands, loops, phases
+ * absent upstream, missing data: KL_ETOPO / KL_EINPUT with the element named. */
+kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err);
+void kl_network_free(kl_network *net);
+
+/* Recomputes regulator r's branch matrices from net->tap (no allocation). */
+void kl_network_regulator_update(kl_network *net, int r);
+
+#endif

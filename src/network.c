@@ -1,0 +1,609 @@
+/* kilter: network analysis for the load flow.  Breadth-first search from the
+ * source gives the sweep order (every branch after the branch feeding its
+ * source-side bus); each section becomes one branch in generalized matrix form
+ * (Kersting ch. 6: a = d = U + Z Y / 2, b = Z, c = Y + Y Z Y / 4,
+ * A = a^-1, B = a^-1 b, from memory), or two branches when a distributed load
+ * is lumped on it.
+ *
+ * Distributed load: the exact lumped-load model (Kersting ch. 3, from memory):
+ * 2/3 of the load at an internal node one quarter of the length from the
+ * source end, 1/3 at the far end.  It reproduces both the voltage drop and the
+ * loss of a uniformly distributed load; on the IEEE 13-node feeder it gives
+ * the published voltages more closely than all of it at the midpoint (figures
+ * in docs-flow.md). */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+#include "kilter/network.h"
+#include "kl_internal.h"
+
+#define DIST_AT 0.25          /* internal node position, share of the length */
+#define DIST_NEAR (2.0 / 3.0) /* share of the load at the internal node */
+
+static const double DEG = 3.14159265358979323846 / 180.0;
+
+static void net_err(kl_errors *e, const kl_feeder *f, kl_loc loc, const char *kind,
+                    const char *name, const char *msg)
+{
+    char elem[128];
+    snprintf(elem, sizeof elem, "%s %s", kind, name ? name : "?");
+    kl_errors_add(e, f->path, loc.line, loc.col, elem, "%s", msg);
+}
+
+/* Incidence lists of the closed sections (compressed rows by bus). */
+typedef struct {
+    int *start; /* [nbuses+1] */
+    int *sec;   /* [2*nsections] */
+} incidence;
+
+static kl_status incidence_build(const kl_feeder *f, incidence *g)
+{
+    g->start = kl_calloc((size_t)f->nbuses + 1, sizeof(int));
+    g->sec = kl_malloc(sizeof(int) * (2 * (size_t)f->nsections + 1));
+    int *fill = kl_calloc((size_t)f->nbuses + 1, sizeof(int));
+    if (!g->start || !g->sec || !fill) {
+        kl_free(fill);
+        return KL_ENOMEM;
+    }
+    for (int s = 0; s < f->nsections; s++) {
+        const kl_section *sc = &f->sections[s];
+        if (!sc->closed)
+            continue;
+        g->start[sc->from + 1]++;
+        g->start[sc->to + 1]++;
+    }
+    for (int b = 0; b < f->nbuses; b++)
+        g->start[b + 1] += g->start[b];
+    for (int s = 0; s < f->nsections; s++) {
+        const kl_section *sc = &f->sections[s];
+        if (!sc->closed)
+            continue;
+        g->sec[g->start[sc->from] + fill[sc->from]++] = s;
+        g->sec[g->start[sc->to] + fill[sc->to]++] = s;
+    }
+    kl_free(fill);
+    return KL_OK;
+}
+
+/* Checks ids the rest of the build relies on (the loader checks them too). */
+static kl_status check_ids(const kl_feeder *f, kl_errors *err)
+{
+    kl_status st = KL_OK;
+    if (f->nbuses <= 0 || f->source.bus < 0 || f->source.bus >= f->nbuses) {
+        net_err(err, f, f->source.loc, "source", "", "the source bus is missing or unknown: "
+                "name an existing bus in `source: bus:`");
+        return KL_EINPUT;
+    }
+    for (int s = 0; s < f->nsections; s++) {
+        const kl_section *sc = &f->sections[s];
+        if (sc->from < 0 || sc->from >= f->nbuses || sc->to < 0 || sc->to >= f->nbuses) {
+            net_err(err, f, sc->loc, "section", sc->name, "refers to an unknown bus");
+            st = KL_EINPUT;
+        } else if (sc->from == sc->to) {
+            net_err(err, f, sc->loc, "section", sc->name,
+                    "joins a bus to itself: give two different buses in from/to");
+            st = KL_EINPUT;
+        }
+    }
+    return st;
+}
+
+/* Breadth-first search over closed sections.  Fills sec_order (sections in
+ * visiting order), rev[s] (1 when reached from its `to` bus) and seen[bus]. */
+static kl_status search(const kl_feeder *f, const incidence *g, int *sec_order, int *nsec,
+                        int *rev, int *seen, int *queue, int *used, kl_errors *err)
+{
+    kl_status st = KL_OK;
+    int head = 0, tail = 0, n = 0;
+    queue[tail++] = f->source.bus;
+    seen[f->source.bus] = 1;
+    while (head < tail) {
+        int u = queue[head++];
+        for (int k = g->start[u]; k < g->start[u + 1]; k++) {
+            int s = g->sec[k];
+            if (used[s])
+                continue;
+            used[s] = 1;
+            const kl_section *sc = &f->sections[s];
+            int w = sc->from == u ? sc->to : sc->from;
+            if (seen[w]) {
+                char msg[512];
+                snprintf(msg, sizeof msg, "closes a loop (bus %s is already fed another way): "
+                         "the backward/forward sweep solves radial feeders only; open a switch "
+                         "in the loop or use the nodal solver (--solver nodal)",
+                         f->buses[w].name);
+                net_err(err, f, sc->loc, "section", sc->name, msg);
+                st = KL_ETOPO;
+                continue;
+            }
+            seen[w] = 1;
+            rev[s] = sc->from != u;
+            sec_order[n++] = s;
+            queue[tail++] = w;
+        }
+    }
+    *nsec = n;
+    return st;
+}
+
+static kl_status report_islands(const kl_feeder *f, const int *seen, kl_errors *err)
+{
+    int count = 0;
+    for (int b = 0; b < f->nbuses; b++) {
+        if (seen[b])
+            continue;
+        if (count++ >= 5)
+            continue;
+        const char *via = NULL;
+        for (int s = 0; s < f->nsections; s++) {
+            const kl_section *sc = &f->sections[s];
+            if (!sc->closed && (sc->from == b || sc->to == b))
+                via = sc->name;
+        }
+        char msg[512];
+        if (via)
+            snprintf(msg, sizeof msg, "is not connected to the source bus %s (island: only "
+                     "reached through open switch %s): close the switch or remove the buses "
+                     "beyond it", f->buses[f->source.bus].name, via);
+        else
+            snprintf(msg, sizeof msg, "is not connected to the source bus %s (island): "
+                     "connect it with a section or remove it", f->buses[f->source.bus].name);
+        net_err(err, f, f->buses[b].loc, "bus", f->buses[b].name, msg);
+    }
+    if (count > 5)
+        kl_errors_add(err, f->path, 0, 0, NULL, "%d more buses are not connected to the source",
+                      count - 5);
+    return count ? KL_ETOPO : KL_OK;
+}
+
+/* Number of distributed loads per section, in has_dist[nsections]. */
+static kl_status count_distributed(const kl_feeder *f, int *has_dist, kl_errors *err)
+{
+    kl_status st = KL_OK;
+    for (int l = 0; l < f->nloads; l++) {
+        const kl_load *ld = &f->loads[l];
+        if (ld->bus >= 0)
+            continue;
+        if (ld->section < 0 || ld->section >= f->nsections) {
+            net_err(err, f, ld->loc, "load", ld->name, "names neither a bus nor a section");
+            st = KL_EINPUT;
+        } else if (f->sections[ld->section].kind != KL_SEC_LINE) {
+            net_err(err, f, ld->loc, "load", ld->name, "is distributed along a section that "
+                    "is not a line: put it at a bus instead");
+            st = KL_EINPUT;
+        } else {
+            has_dist[ld->section] = 1;
+        }
+    }
+    return st;
+}
+
+static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int nbr, int nld)
+{
+    size_t nb = (size_t)nbus, nr = (size_t)nbr;
+    n->order = kl_calloc(nb, sizeof(int));
+    n->phases = kl_calloc(nb, sizeof(int));
+    n->v_base_ln = kl_calloc(nb, sizeof(double));
+    n->parent = kl_calloc(nb, sizeof(int));
+    n->br_from = kl_calloc(nr, sizeof(int));
+    n->br_to = kl_calloc(nr, sizeof(int));
+    n->br_kind = kl_calloc(nr, sizeof(int));
+    n->br_phases = kl_calloc(nr, sizeof(int));
+    n->br_section = kl_calloc(nr, sizeof(int));
+    kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B, &n->zser, &n->ysh};
+    int ok = n->order && n->phases && n->v_base_ln && n->parent && n->br_from && n->br_to &&
+             n->br_kind && n->br_phases && n->br_section;
+    for (size_t k = 0; k < sizeof m / sizeof m[0]; k++) {
+        *m[k] = kl_calloc(9 * nr, sizeof(kl_complex));
+        ok = ok && *m[k];
+    }
+    n->sec_first = kl_calloc((size_t)f->nsections, sizeof(int));
+    n->sec_last = kl_calloc((size_t)f->nsections, sizeof(int));
+    n->loads = kl_calloc((size_t)nld, sizeof(kl_net_load));
+    n->ld_slot = kl_calloc(3 * (size_t)f->nloads, sizeof(int));
+    n->reg_branch = kl_calloc((size_t)f->nregulators, sizeof(int));
+    n->tap = kl_calloc(3 * (size_t)f->nregulators, sizeof(int));
+    n->v = kl_calloc(3 * nb, sizeof(kl_complex));
+    n->j = kl_calloc(3 * nb, sizeof(kl_complex));
+    n->i_from = kl_calloc(3 * nr, sizeof(kl_complex));
+    n->i_to = kl_calloc(3 * nr, sizeof(kl_complex));
+    ok = ok && n->sec_first && n->sec_last && n->loads && n->ld_slot && n->reg_branch &&
+         n->tap && n->v && n->j && n->i_from && n->i_to;
+    return ok ? KL_OK : KL_ENOMEM;
+}
+
+void kl_network_free(kl_network *n)
+{
+    if (!n)
+        return;
+    void *p[] = {n->order, n->phases, n->v_base_ln, n->parent, n->br_from, n->br_to,
+                 n->br_kind, n->br_phases, n->br_section, n->a, n->b, n->c, n->d, n->A,
+                 n->B, n->zser, n->ysh, n->sec_first, n->sec_last, n->loads, n->ld_slot,
+                 n->reg_branch, n->tap, n->v, n->j, n->i_from, n->i_to};
+    for (size_t k = 0; k < sizeof p / sizeof p[0]; k++)
+        kl_free(p[k]);
+    kl_free(n);
+}
+
+/* a^-1 on the present phases (identity rows stand in for absent ones). */
+static int inverse_on(const kl_complex a[9], int mask, kl_complex r[9])
+{
+    kl_complex t[9];
+    memcpy(t, a, sizeof t);
+    kl_cm3_mask(t, mask);
+    for (int p = 0; p < 3; p++)
+        if (!(mask & (1 << p)))
+            t[4 * p] = 1.0;
+    if (kl_cm3_inverse(t, r))
+        return -1;
+    kl_cm3_mask(r, mask);
+    return 0;
+}
+
+/* Line matrices of branch k for `share` of the section's length. */
+static kl_status line_matrices(kl_network *n, int k, const kl_section *sc, double share,
+                               kl_errors *err)
+{
+    const kl_feeder *f = n->feeder;
+    const kl_construction *cn = &f->constructions[sc->construction];
+    int mask = n->br_phases[k];
+    double len = sc->length_m * share;
+    kl_complex *Z = n->zser + 9 * k, *Y = n->ysh + 9 * k, ZY[9], YZ[9], YZY[9];
+    for (int i = 0; i < 9; i++) {
+        if (cn->derived) {
+            Z[i] = cn->zabc[i / 3][i % 3] * len;
+            Y[i] = cn->yabc[i / 3][i % 3] * len;
+        } else {
+            Z[i] = cn->z_given[i / 3][i % 3] * len;
+            Y[i] = I * cn->b_given[i / 3][i % 3] * len;
+        }
+    }
+    kl_cm3_mask(Z, mask);
+    kl_cm3_mask(Y, mask);
+    kl_cm3_mul(Z, Y, ZY);
+    kl_cm3_mul(Y, Z, YZ);
+    kl_cm3_mul(YZ, Y, YZY);
+    kl_complex *a = n->a + 9 * k, *c = n->c + 9 * k, *d = n->d + 9 * k;
+    kl_cm3_identity(a, mask);
+    for (int i = 0; i < 9; i++) {
+        a[i] += 0.5 * ZY[i];
+        c[i] = Y[i] + 0.25 * YZY[i];
+    }
+    kl_cm3_mask(a, mask);
+    memcpy(d, a, 9 * sizeof *d);
+    memcpy(n->b + 9 * k, Z, 9 * sizeof *Z);
+    if (inverse_on(a, mask, n->A + 9 * k)) {
+        net_err(err, f, sc->loc, "section", sc->name, "has a singular line matrix: check the "
+                "construction's impedance and susceptance");
+        return KL_EINPUT;
+    }
+    kl_cm3_mul(n->A + 9 * k, Z, n->B + 9 * k);
+    return KL_OK;
+}
+
+static kl_status check_line(const kl_network *n, const kl_section *sc, int *mask, kl_errors *err)
+{
+    const kl_feeder *f = n->feeder;
+    if (sc->construction < 0 || sc->construction >= f->nconstructions) {
+        net_err(err, f, sc->loc, "section", sc->name, "has no construction");
+        return KL_EINPUT;
+    }
+    const kl_construction *cn = &f->constructions[sc->construction];
+    if (!cn->derived && cn->kind != KL_CONS_MATRIX) {
+        net_err(err, f, cn->loc, "construction", cn->name, "has no impedance yet: derive line "
+                "constants (kl_lines_derive) before building the network");
+        return KL_EINPUT;
+    }
+    *mask = sc->phases ? sc->phases : cn->phases;
+    if (*mask & ~cn->phases) {
+        net_err(err, f, sc->loc, "section", sc->name, "uses a phase its construction does not "
+                "carry: give phases the construction has");
+        return KL_EINPUT;
+    }
+    if (!(sc->length_m > 0) || !isfinite(sc->length_m)) {
+        net_err(err, f, sc->loc, "section", sc->name, "needs a positive length");
+        return KL_EINPUT;
+    }
+    return KL_OK;
+}
+
+/* Which winding faces the source: the one whose rating is closer to the
+ * source-side bus base (step-up when that is the low winding). */
+static int transformer_step_up(const kl_transformer *t, double base_ln)
+{
+    double lo = t->kv_low * 1000.0, hi = t->kv_high * 1000.0;
+    if (t->low != KL_WINDING_SINGLE && t->low != KL_WINDING_CENTER_TAP)
+        lo /= sqrt(3.0);
+    if (t->high != KL_WINDING_SINGLE)
+        hi /= sqrt(3.0);
+    if (!(lo > 0) || !(hi > 0))
+        return 0;
+    return fabs(log(base_ln / lo)) < fabs(log(base_ln / hi));
+}
+
+static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_errors *err)
+{
+    const kl_feeder *f = n->feeder;
+    int from = n->br_from[k], to = n->br_to[k];
+    kl_complex *A = n->A + 9 * k;
+    if (sc->kind == KL_SEC_TRANSFORMER) {
+        if (sc->device < 0 || sc->device >= f->ntransformers) {
+            net_err(err, f, sc->loc, "section", sc->name, "names an unknown transformer");
+            return KL_EINPUT;
+        }
+        const kl_transformer *t = &f->transformers[sc->device];
+        char why[384];
+        int up = transformer_step_up(t, n->v_base_ln[from]);
+        if (kl_transformer_matrices(t, n->br_phases[k], up, A, n->B + 9 * k, &n->phases[to],
+                                    &n->v_base_ln[to], why, sizeof why)) {
+            net_err(err, f, sc->loc, "section", sc->name, why);
+            return KL_EINPUT;
+        }
+        n->br_kind[k] = KL_BR_TRANSFORMER;
+        kl_cm3_transpose(A, n->d + 9 * k);
+        memcpy(n->zser + 9 * k, n->B + 9 * k, 9 * sizeof(kl_complex));
+        /* a, b only where A is invertible (wye-wye, single-phase); else zero */
+        if (inverse_on(A, n->phases[to] == n->br_phases[k] ? n->br_phases[k] : 0,
+                       n->a + 9 * k) == 0)
+            kl_cm3_mul(n->a + 9 * k, n->B + 9 * k, n->b + 9 * k);
+        return KL_OK;
+    }
+    n->phases[to] = n->br_phases[k];
+    n->v_base_ln[to] = n->v_base_ln[from];
+    if (sc->kind == KL_SEC_REGULATOR) {
+        if (sc->device < 0 || sc->device >= f->nregulators) {
+            net_err(err, f, sc->loc, "section", sc->name, "names an unknown regulator");
+            return KL_EINPUT;
+        }
+        n->br_kind[k] = KL_BR_REGULATOR;
+        n->reg_branch[sc->device] = k;
+        kl_network_regulator_update(n, sc->device);
+        return KL_OK;
+    }
+    n->br_kind[k] = KL_BR_SWITCH;
+    kl_cm3_identity(n->a + 9 * k, n->br_phases[k]);
+    memcpy(n->d + 9 * k, n->a + 9 * k, 9 * sizeof(kl_complex));
+    memcpy(A, n->a + 9 * k, 9 * sizeof(kl_complex));
+    return KL_OK;
+}
+
+void kl_network_regulator_update(kl_network *n, int r)
+{
+    int k = n->reg_branch[r];
+    if (k < 0)
+        return;
+    const kl_regulator *rg = &n->feeder->regulators[r];
+    kl_regulator_matrices(rg, n->tap + 3 * r, n->br_phases[k], n->A + 9 * k, n->d + 9 * k,
+                          n->a + 9 * k);
+}
+
+static kl_status phases_present(const kl_network *n, const kl_section *sc, int k,
+                                kl_errors *err)
+{
+    int from = n->br_from[k];
+    int missing = n->br_phases[k] & ~n->phases[from];
+    if (!missing)
+        return KL_OK;
+    char b1[4], b2[4], msg[384];
+    snprintf(msg, sizeof msg, "carries phase(s) %s but bus %s upstream has only %s: "
+             "give the section phases that exist at its source-side bus",
+             kl_phases_str(missing, b1), n->feeder->buses[n->br_from[k]].name,
+             kl_phases_str(n->phases[from], b2));
+    net_err(err, n->feeder, sc->loc, "section", sc->name, msg);
+    return KL_ETOPO;
+}
+
+/* Emits the branch(es) of section s; *nbr and *nbus advance. */
+static kl_status emit_section(kl_network *n, int s, int reversed, int split, int *nbr,
+                              int *nbus, kl_errors *err)
+{
+    const kl_feeder *f = n->feeder;
+    const kl_section *sc = &f->sections[s];
+    int from = reversed ? sc->to : sc->from, to = reversed ? sc->from : sc->to;
+    int mask = sc->phases ? sc->phases : n->phases[from];
+    kl_status st;
+    if (reversed && (sc->kind == KL_SEC_TRANSFORMER || sc->kind == KL_SEC_REGULATOR)) {
+        net_err(err, f, sc->loc, "section", sc->name, "is fed from its `to` bus: a transformer "
+                "or regulator section must name its source-side bus in `from`");
+        return KL_ETOPO;
+    }
+    if (sc->kind == KL_SEC_LINE && (st = check_line(n, sc, &mask, err)))
+        return st;
+    int k = (*nbr)++;
+    n->br_from[k] = from;
+    n->br_to[k] = split ? *nbus : to;
+    n->br_phases[k] = mask;
+    n->br_section[k] = s;
+    n->sec_first[s] = n->sec_last[s] = k;
+    if ((st = phases_present(n, sc, k, err)))
+        return st;
+    if (sc->kind != KL_SEC_LINE) {
+        st = device_branch(n, k, sc, err);
+        n->parent[to] = k;
+        return st;
+    }
+    n->br_kind[k] = KL_BR_LINE;
+    n->phases[n->br_to[k]] = mask;
+    n->v_base_ln[n->br_to[k]] = n->v_base_ln[from];
+    n->parent[n->br_to[k]] = k;
+    if ((st = line_matrices(n, k, sc, split ? DIST_AT : 1.0, err)))
+        return st;
+    if (!split)
+        return KL_OK;
+    int mid = (*nbus)++;
+    int k2 = (*nbr)++;
+    n->br_from[k2] = mid;
+    n->br_to[k2] = to;
+    n->br_phases[k2] = mask;
+    n->br_section[k2] = s;
+    n->br_kind[k2] = KL_BR_LINE;
+    n->sec_last[s] = k2;
+    n->phases[to] = mask;
+    n->v_base_ln[to] = n->v_base_ln[from];
+    n->parent[to] = k2;
+    return line_matrices(n, k2, sc, 1.0 - DIST_AT, err);
+}
+
+static void source_setup(kl_network *n)
+{
+    const kl_source *src = &n->feeder->source;
+    int b = src->bus;
+    n->phases[b] = KL_PH_ABC;
+    n->parent[b] = -1;
+    n->v_base_ln[b] = src->kv_ll * 1000.0 / sqrt(3.0);
+    double vpu = src->v_pu > 0 ? src->v_pu : 1.0;
+    for (int p = 0; p < 3; p++)
+        n->v_source[p] = vpu * n->v_base_ln[b] * cexp(I * (src->angle_deg - 120.0 * p) * DEG);
+    n->has_zsource = src->has_equivalent;
+    /* Zs = z1 U + (z0 - z1)/3 (ones): the phase form of the sequence impedances */
+    for (int i = 0; i < 9; i++)
+        n->zsource[i] = (src->z0_ohm - src->z1_ohm) / 3.0 + (i % 4 == 0 ? src->z1_ohm : 0);
+}
+
+static kl_status place_loads(kl_network *n, const int *mid_of, const int *seen, kl_errors *err)
+{
+    const kl_feeder *f = n->feeder;
+    kl_status st = KL_OK;
+    int m = 0;
+    for (int l = 0; l < f->nloads; l++) {
+        const kl_load *ld = &f->loads[l];
+        for (int k = 0; k < 3; k++)
+            n->ld_slot[3 * l + k] = k;
+        if (ld->bus >= f->nbuses) {
+            net_err(err, f, ld->loc, "load", ld->name, "refers to an unknown bus");
+            st = KL_EINPUT;
+            continue;
+        }
+        if (ld->bus < 0 && n->sec_first[ld->section] < 0)
+            continue; /* its section lies in an island, reported already */
+        int bus = ld->bus >= 0 ? ld->bus : n->br_to[n->sec_last[ld->section]];
+        if (!seen[bus])
+            continue;
+        int need = ld->phases, have = n->phases[bus];
+        if (ld->conn == KL_CONN_DELTA)
+            need = ((need & 1) ? 3 : 0) | ((need & 2) ? 6 : 0) | ((need & 4) ? 5 : 0);
+        if (need & ~have) {
+            char b1[4], b2[4], msg[384];
+            snprintf(msg, sizeof msg, "needs phase(s) %s that bus %s does not have (it has %s): "
+                     "connect the load to phases the bus carries", kl_phases_str(need & ~have, b1),
+                     f->buses[bus].name, kl_phases_str(have, b2));
+            net_err(err, f, ld->loc, "load", ld->name, msg);
+            st = KL_EINPUT;
+            continue;
+        }
+        if (ld->bus >= 0) {
+            n->loads[m++] = (kl_net_load){l, bus, 1.0};
+        } else {
+            n->loads[m++] = (kl_net_load){l, mid_of[ld->section], DIST_NEAR};
+            n->loads[m++] = (kl_net_load){l, bus, 1.0 - DIST_NEAR};
+        }
+    }
+    n->nloads = m;
+    return st;
+}
+
+static kl_status check_capacitors(const kl_network *n, const int *seen, kl_errors *err)
+{
+    const kl_feeder *f = n->feeder;
+    kl_status st = KL_OK;
+    for (int c = 0; c < f->ncapacitors; c++) {
+        const kl_capacitor *cp = &f->capacitors[c];
+        if (cp->bus < 0 || cp->bus >= f->nbuses) {
+            net_err(err, f, cp->loc, "capacitor", cp->name, "refers to an unknown bus");
+            st = KL_EINPUT;
+            continue;
+        }
+        int need = cp->phases, have = n->phases[cp->bus];
+        if (cp->conn == KL_CONN_DELTA)
+            need = ((need & 1) ? 3 : 0) | ((need & 2) ? 6 : 0) | ((need & 4) ? 5 : 0);
+        if (seen[cp->bus] && (need & ~have)) {
+            net_err(err, f, cp->loc, "capacitor", cp->name, "is connected to a phase its bus "
+                    "does not have: give phases the bus carries");
+            st = KL_EINPUT;
+        }
+    }
+    return st;
+}
+
+/* Builds branches, buses, loads and workspace.  Temporary arrays are freed
+ * at the one exit. */
+kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
+{
+    if (!f || !out || !err)
+        return KL_EARG;
+    *out = NULL;
+    kl_status st = check_ids(f, err);
+    if (st)
+        return st;
+    size_t nb = (size_t)f->nbuses, ns = (size_t)f->nsections + 1;
+    incidence g = {NULL, NULL};
+    int *sec_order = kl_calloc(ns, sizeof(int)), *rev = kl_calloc(ns, sizeof(int));
+    int *seen = kl_calloc(nb, sizeof(int)), *queue = kl_calloc(nb, sizeof(int));
+    int *used = kl_calloc(ns, sizeof(int)), *has_dist = kl_calloc(ns, sizeof(int));
+    int *mid_of = kl_calloc(ns, sizeof(int));
+    kl_network *n = kl_calloc(1, sizeof *n);
+    int nsec = 0, nsplit = 0, ndist = 0;
+    if (!sec_order || !rev || !seen || !queue || !used || !has_dist || !mid_of || !n ||
+        (st = incidence_build(f, &g)) != KL_OK) {
+        st = KL_ENOMEM;
+        goto done;
+    }
+    n->feeder = f;
+    st = search(f, &g, sec_order, &nsec, rev, seen, queue, used, err);
+    kl_status st2 = report_islands(f, seen, err);
+    kl_status st3 = count_distributed(f, has_dist, err);
+    if (st || st2 || st3) {
+        st = st ? st : st2 ? st2 : st3;
+        goto done;
+    }
+    for (int s = 0; s < f->nsections; s++)
+        nsplit += has_dist[s];
+    for (int l = 0; l < f->nloads; l++)
+        ndist += f->loads[l].bus < 0;
+    n->nfeeder_buses = f->nbuses;
+    n->nbuses = f->nbuses + nsplit;
+    n->nbranches = nsec + nsplit;
+    n->source = f->source.bus;
+    if ((st = alloc_arrays(n, f, n->nbuses, n->nbranches, f->nloads + ndist)))
+        goto done;
+    for (int s = 0; s < f->nsections; s++)
+        n->sec_first[s] = n->sec_last[s] = -1;
+    for (int r = 0; r < f->nregulators; r++) {
+        n->reg_branch[r] = -1;
+        for (int p = 0; p < 3; p++)
+            n->tap[3 * r + p] = f->regulators[r].tap[p];
+    }
+    source_setup(n);
+    n->order[0] = n->source;
+    int nbr = 0, nbus = f->nbuses, norder = 1;
+    for (int q = 0; q < nsec && !st; q++) {
+        int s = sec_order[q];
+        int first_mid = nbus;
+        st = emit_section(n, s, rev[s], has_dist[s], &nbr, &nbus, err);
+        if (has_dist[s]) {
+            mid_of[s] = first_mid;
+            n->order[norder++] = first_mid;
+        }
+        n->order[norder++] = n->br_to[n->sec_last[s] >= 0 ? n->sec_last[s] : 0];
+    }
+    if (!st)
+        st = place_loads(n, mid_of, seen, err);
+    if (!st)
+        st = check_capacitors(n, seen, err);
+done:
+    kl_free(g.start);
+    kl_free(g.sec);
+    kl_free(sec_order);
+    kl_free(rev);
+    kl_free(seen);
+    kl_free(queue);
+    kl_free(used);
+    kl_free(has_dist);
+    kl_free(mid_of);
+    if (st) {
+        kl_network_free(n);
+        return st;
+    }
+    *out = n;
+    return KL_OK;
+}

@@ -1,0 +1,164 @@
+/* kilter: the backward/forward sweep (Kersting ch. 10, "ladder iterative
+ * technique", from memory).  One iteration:
+ *   backward, children before parents:  I_to = J_to (loads + children),
+ *                                        I_from = c V_to + d I_to,  J_from += I_from
+ *   forward, parents before children:    V_to = A V_from - B I_to
+ * with the source bus held at its ideal voltages (or E - Z_s J_source behind
+ * a Thevenin equivalent).  Converged when the largest change of any phase
+ * voltage between two iterations is below tol (per unit of the bus base). */
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+#include "kilter/flow.h"
+#include "kl_internal.h"
+
+/* Backward sweep: currents from the present voltages. */
+static void sweep_backward(kl_network *n, double scale)
+{
+    memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
+    kl_load_inject(n, scale);
+    for (int k = n->nbranches - 1; k >= 0; k--) {
+        kl_complex *ito = n->i_to + 3 * k, *ifr = n->i_from + 3 * k, t[3];
+        const kl_complex *vto = n->v + 3 * n->br_to[k], *jto = n->j + 3 * n->br_to[k];
+        kl_complex *jfr = n->j + 3 * n->br_from[k];
+        memcpy(ito, jto, 3 * sizeof *ito);
+        kl_cm3_vec(n->c + 9 * k, vto, ifr);
+        kl_cm3_vec(n->d + 9 * k, ito, t);
+        for (int p = 0; p < 3; p++) {
+            ifr[p] += t[p];
+            jfr[p] += ifr[p];
+        }
+    }
+}
+
+/* Sets v to new values, returning the largest change in per unit (or
+ * INFINITY on a non-finite value) and where it sits. */
+static double set_voltage(kl_network *n, int bus, const kl_complex vnew[3], double worst,
+                          int *where)
+{
+    kl_complex *v = n->v + 3 * bus;
+    double base = n->v_base_ln[bus];
+    for (int p = 0; p < 3; p++) {
+        kl_complex x = (n->phases[bus] & (1 << p)) ? vnew[p] : 0;
+        double dv = cabs(x - v[p]) / base;
+        if (!isfinite(creal(x)) || !isfinite(cimag(x)))
+            dv = INFINITY;
+        if (dv > worst) {
+            worst = dv;
+            *where = bus;
+        }
+        v[p] = x;
+    }
+    return worst;
+}
+
+/* Forward sweep: voltages from the currents; returns the largest change. */
+static double sweep_forward(kl_network *n, int *where)
+{
+    kl_complex vs[3], t[3];
+    memcpy(vs, n->v_source, sizeof vs);
+    if (n->has_zsource) {
+        kl_cm3_vec(n->zsource, n->j + 3 * n->source, t);
+        for (int p = 0; p < 3; p++)
+            vs[p] -= t[p];
+    }
+    double worst = set_voltage(n, n->source, vs, 0.0, where);
+    for (int k = 0; k < n->nbranches; k++) {
+        kl_complex vnew[3];
+        kl_cm3_vec(n->A + 9 * k, n->v + 3 * n->br_from[k], vnew);
+        kl_cm3_vec(n->B + 9 * k, n->i_to + 3 * k, t);
+        for (int p = 0; p < 3; p++)
+            vnew[p] -= t[p];
+        worst = set_voltage(n, n->br_to[k], vnew, worst, where);
+    }
+    return worst;
+}
+
+/* Lowest present-phase voltage in per unit, for the non-convergence message. */
+static double lowest_voltage(const kl_network *n, int *bus)
+{
+    double low = INFINITY;
+    for (int b = 0; b < n->nbuses; b++)
+        for (int p = 0; p < 3; p++) {
+            if (!(n->phases[b] & (1 << p)))
+                continue;
+            double x = cabs(n->v[3 * b + p]) / n->v_base_ln[b];
+            if (!(x >= low)) {
+                low = x;
+                *bus = b;
+            }
+        }
+    return low;
+}
+
+static const char *bus_name(const kl_network *n, int b, char *buf, size_t len)
+{
+    if (b >= 0 && b < n->nfeeder_buses)
+        return n->feeder->buses[b].name;
+    snprintf(buf, len, "(internal node of a distributed load)");
+    return buf;
+}
+
+static void report_noconv(const kl_network *n, int it, double worst, int where, kl_errors *err)
+{
+    char b1[64], b2[64];
+    int lowbus = -1;
+    double low = lowest_voltage(n, &lowbus);
+    const char *why;
+    if (!isfinite(worst) || !isfinite(low) || low < 0.5)
+        why = "voltages collapse: the load is beyond what the feeder can carry (check load "
+              "values and their units, or lower the load scale)";
+    else
+        why = "the iteration oscillates or creeps: raise the iteration limit, or look for very "
+              "large loads or near-zero impedances";
+    kl_errors_add(err, n->feeder->path, 0, 0, "load flow",
+                  "did not converge after %d iterations: largest voltage change %.3g pu at bus "
+                  "%s; lowest voltage %.3f pu at bus %s; likely reason: %s", it, worst,
+                  bus_name(n, where, b1, sizeof b1), isfinite(low) ? low : 0.0,
+                  bus_name(n, lowbus, b2, sizeof b2), why);
+}
+
+/* Starts from the source voltages carried through every branch at no load. */
+static void flat_start(kl_network *n)
+{
+    int where = -1;
+    memset(n->i_to, 0, 3 * (size_t)n->nbranches * sizeof n->i_to[0]);
+    memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
+    sweep_forward(n, &where);
+    n->v_valid = 1;
+}
+
+kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_result *res,
+                         kl_errors *err)
+{
+    if (!n || !opt || !err)
+        return KL_EARG;
+    double scale = opt->load_scale;
+    if (!n->v_valid)
+        flat_start(n);
+    double worst = INFINITY;
+    int where = -1, it = 0;
+    while (it < opt->max_iter) {
+        it++;
+        sweep_backward(n, scale);
+        where = -1;
+        worst = sweep_forward(n, &where);
+        if (!isfinite(worst) || worst < opt->tol_pu)
+            break;
+    }
+    /* final currents consistent with the final voltages (exact power balance) */
+    if (isfinite(worst))
+        sweep_backward(n, scale);
+    if (res) {
+        res->iterations = it;
+        res->total_iterations += it;
+        res->mismatch_pu = worst;
+        res->mismatch_bus = where < n->nfeeder_buses ? where : -1;
+        res->converged = worst < opt->tol_pu;
+    }
+    if (worst < opt->tol_pu)
+        return KL_OK;
+    report_noconv(n, it, worst, where, err);
+    n->v_valid = 0;
+    return KL_ENOCONV;
+}
