@@ -114,11 +114,14 @@ int kl_regulator_control(kl_network *net, int r)
         if (!(rg->phases & monitored & (1 << p)))
             continue;
         int *t = &net->tap[3 * r + p], old = *t;
-        /* steps needed to bring the relay voltage to the nearer band edge */
-        if (vr[p] < lo)
-            *t += (int)ceil((lo - vr[p]) / step_v - 1e-9);
-        else if (vr[p] > hi)
-            *t -= (int)ceil((vr[p] - hi) / step_v - 1e-9);
+        /* out of band: the steps that bring the relay voltage nearest the voltage
+         * level (band centre), at least one toward it (Kersting ch. 7, from memory) */
+        if (vr[p] < lo || vr[p] > hi) {
+            int k = (int)lround((rg->voltage_level_v - vr[p]) / step_v);
+            if (k == 0)
+                k = vr[p] < lo ? 1 : -1;
+            *t += k;
+        }
         *t = *t > lim ? lim : *t < -lim ? -lim : *t;
         moved += *t != old;
     }
