@@ -105,12 +105,14 @@ static void report_noconv(const kl_network *n, int it, double worst, int where, 
     int lowbus = -1;
     double low = lowest_voltage(n, &lowbus);
     const char *why;
-    if (!isfinite(worst) || !isfinite(low) || low < 0.5)
-        why = "voltages collapse: the load is beyond what the feeder can carry (check load "
-              "values and their units, or lower the load scale)";
+    /* a sweep that still moves voltages by whole percent after all its
+     * iterations is not creeping toward a solution: there is none near */
+    if (!isfinite(worst) || !isfinite(low) || low < 0.5 || worst > 0.01)
+        why = "voltages collapse or swing between iterations: the load is beyond what the "
+              "feeder can carry (check load values and their units, or lower the load scale)";
     else
-        why = "the iteration oscillates or creeps: raise the iteration limit, or look for very "
-              "large loads or near-zero impedances";
+        why = "the iteration creeps toward a solution too slowly: raise the iteration limit, "
+              "or look for very large loads or near-zero impedances";
     kl_errors_add(err, n->feeder->path, 0, 0, "load flow",
                   "did not converge after %d iterations: largest voltage change %.3g pu at bus "
                   "%s; lowest voltage %.3f pu at bus %s; likely reason: %s", it, worst,

@@ -1,0 +1,489 @@
+/* Load flow physics and robustness: power balance, symmetry, circuit-theory
+ * closed forms, transformer phase displacement, neutral current, topology
+ * errors, non-convergence and allocation failure.  Sources beside each check. */
+#include <check.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include "flow_fixture.h"
+#include "kilter/flow.h"
+#include "kilter/network.h"
+#include "kl_internal.h"
+
+static hand_feeder H;
+
+/* Symmetric (transposed-like) three-phase line: self zs, mutual zm ohm/mile. */
+static int sym_line(hand_feeder *h, double complex zs, double complex zm, double bs)
+{
+    double complex z[6] = {zs, zm, zm, zs, zm, zs};
+    double b[6] = {bs, 0, 0, bs, 0, bs};
+    return hf_matrix(h, "sym", "abc", z, b);
+}
+
+static kl_status run(const kl_feeder *f, const kl_flow_options *o, kl_network **net,
+                     kl_flow_result **res, kl_errors *err)
+{
+    kl_flow_options d;
+    kl_flow_options_default(&d);
+    *net = NULL;
+    *res = NULL;
+    kl_status st = kl_network_build(f, net, err);
+    if (st)
+        return st;
+    st = kl_flow_result_alloc(*net, res, err);
+    if (st)
+        return st;
+    return kl_flow_solve(*net, o ? o : &d, *res, err);
+}
+
+static void done(kl_network *n, kl_flow_result *r, kl_errors *e)
+{
+    kl_flow_result_free(r);
+    kl_network_free(n);
+    kl_errors_free(e);
+}
+
+static const char *first(const kl_errors *e)
+{
+    return e->count ? e->items[0].message : "(no message)";
+}
+
+/* Unbalanced feeder with every load model, a delta load, a capacitor and a
+ * delta/grounded-wye bank. */
+static void build_mixed(hand_feeder *h)
+{
+    hf_init(h, "mixed", "src", 12.47);
+    double complex z[6] = {0.4576 + 1.0780 * I, 0.1560 + 0.5017 * I, 0.1535 + 0.3849 * I,
+                           0.4666 + 1.0482 * I, 0.1580 + 0.4236 * I, 0.4615 + 1.0651 * I};
+    double b[6] = {5.9, -1.9, -1.2, 5.6, -0.7, 5.3};
+    int c = hf_matrix(h, "main", "abc", z, b);
+    hf_line(h, "s1", "src", "b1", 2000, c);
+    hf_transformer(h, "t1", "b1", "b2", 6000, 12.47, KL_WINDING_DELTA, 4.16,
+                   KL_WINDING_GRD_WYE, 1, 6);
+    hf_line(h, "s2", "b2", "b3", 2500, c);
+    hf_line(h, "s3", "b3", "b4", 1000, c);
+    hf_load(h, "l1", "b3", KL_CONN_WYE, KL_LOAD_PQ, (double[]){900, 300, 600},
+            (double[]){400, 100, 350});
+    hf_load(h, "l2", "b4", KL_CONN_DELTA, KL_LOAD_Z, (double[]){200, 0, 350},
+            (double[]){100, 0, 120});
+    hf_load(h, "l3", "b4", KL_CONN_WYE, KL_LOAD_I, (double[]){0, 400, 0},
+            (double[]){0, 150, 0});
+    int z3 = hf_load(h, "l4", "b1", KL_CONN_WYE, KL_LOAD_ZIP, (double[]){100, 200, 300},
+                     (double[]){50, 60, 70});
+    h->load[z3].zip[0] = 0.3;
+    h->load[z3].zip[1] = 0.3;
+    h->load[z3].zip[2] = 0.4;
+    int d = hf_load(h, "l5", NULL, KL_CONN_WYE, KL_LOAD_PQ, (double[]){50, 80, 20},
+                    (double[]){20, 30, 10});
+    h->load[d].section = 2;
+    hf_cap(h, "c1", "b4", (double[]){300, 300, 300});
+}
+
+/* Conservation of complex power (Tellegen's theorem): what enters at the
+ * source equals the loads plus every section's loss, to 1e-6 relative. */
+START_TEST(test_power_balance)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    build_mixed(&H);
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    kl_complex in = 0, out = 0;
+    for (int p = 0; p < 3; p++) {
+        in += r->s_head[p];
+        out += r->s_loads[p] + r->s_losses[p];
+    }
+    ck_assert_msg(cabs(in - out) <= 1e-6 * cabs(in), "in %g%+gj out %g%+gj", creal(in),
+                  cimag(in), creal(out), cimag(out));
+    /* losses are positive in total (passive network) */
+    ck_assert(creal(r->s_losses[0] + r->s_losses[1] + r->s_losses[2]) > 0);
+    done(n, r, &e);
+}
+END_TEST
+
+/* A balanced feeder gives balanced results: equal magnitudes, 120 degrees
+ * apart (symmetrical network + balanced load: common practice). */
+START_TEST(test_balanced)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "balanced", "src", 12.47);
+    int c = sym_line(&H, 0.5 + 1.2 * I, 0.15 + 0.45 * I, 5.5);
+    hf_line(&H, "s1", "src", "b1", 5000, c);
+    hf_transformer(&H, "t1", "b1", "b2", 5000, 12.47, KL_WINDING_DELTA, 4.16,
+                   KL_WINDING_GRD_WYE, 1, 6);
+    hf_line(&H, "s2", "b2", "b3", 3000, c);
+    hf_load(&H, "l1", "b3", KL_CONN_WYE, KL_LOAD_PQ, (double[]){800, 800, 800},
+            (double[]){400, 400, 400});
+    hf_load(&H, "l2", "b3", KL_CONN_DELTA, KL_LOAD_Z, (double[]){300, 300, 300},
+            (double[]){100, 100, 100});
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    for (int b = 0; b < H.f.nbuses; b++) {
+        kl_complex *v = r->v + 3 * b;
+        for (int p = 1; p < 3; p++) {
+            /* V_p = V_a * exp(-j 120 p deg) */
+            kl_complex want = v[0] * cexp(-I * 120.0 * p * DEG);
+            ck_assert_msg(cabs(v[p] - want) <= 1e-7 * cabs(v[0]), "bus %d phase %d", b, p);
+        }
+    }
+    for (int s = 0; s < H.f.nsections; s++) {
+        kl_complex *i = r->i + 3 * s;
+        ck_assert(cabs(i[0] + i[1] + i[2]) <= 1e-7 * cabs(i[0]));
+    }
+    done(n, r, &e);
+}
+END_TEST
+
+/* Circuit theory (Ohm's law, common practice): one phase-a line of series
+ * impedance Z feeding a constant-impedance load Zl gives V = E Zl/(Z + Zl). */
+START_TEST(test_single_phase_closed_form)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "one phase", "src", 12.47);
+    double complex z[6] = {0.6 + 1.1 * I, 0, 0, 0, 0, 0};
+    double b[6] = {0};
+    int c = hf_matrix(&H, "a-only", "a", z, b);
+    hf_line(&H, "s1", "src", "b1", MILE / FT * 2, c); /* 2 miles */
+    hf_load(&H, "l1", "b1", KL_CONN_WYE, KL_LOAD_Z, (double[]){1500, 0, 0},
+            (double[]){700, 0, 0});
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    double vn = 12470 / sqrt(3.0);
+    kl_complex zl = vn * vn / conj(1500e3 + 700e3 * I), zline = 2 * (0.6 + 1.1 * I);
+    kl_complex want = vn * zl / (zline + zl);
+    ck_assert_msg(cabs(r->v[3 * 1] - want) <= 1e-5 * vn, "%g vs %g", cabs(r->v[3]), cabs(want));
+    ck_assert(r->v[3 + 1] == 0 && r->v[3 + 2] == 0);
+    done(n, r, &e);
+}
+END_TEST
+
+/* Thevenin source (common practice): balanced constant-impedance load Zl
+ * behind z1 only: V = E Zl/(z1 + Zl) on every phase. */
+START_TEST(test_thevenin_source)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "thevenin", "src", 12.47);
+    H.f.source.has_equivalent = 1;
+    H.f.source.z1_ohm = 0.3 + 2.1 * I;
+    H.f.source.z0_ohm = 0.6 + 6.3 * I;
+    int c = sym_line(&H, 0, 0, 0);
+    H.cons[c].z_given[0][0] = H.cons[c].z_given[1][1] = H.cons[c].z_given[2][2] = 1e-9;
+    hf_section(&H, "sw", "src", "b1", KL_SEC_SWITCH);
+    H.sec[0].phases = KL_PH_ABC;
+    hf_load(&H, "l1", "b1", KL_CONN_WYE, KL_LOAD_Z, (double[]){2000, 2000, 2000},
+            (double[]){900, 900, 900});
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    double vn = 12470 / sqrt(3.0);
+    kl_complex zl = vn * vn / conj(2000e3 + 900e3 * I);
+    for (int p = 0; p < 3; p++) {
+        kl_complex want = vn * cexp(-I * 120.0 * p * DEG) * zl / (0.3 + 2.1 * I + zl);
+        ck_assert_msg(cabs(r->v[3 + p] - want) <= 1e-5 * vn, "phase %d", p);
+    }
+    done(n, r, &e);
+}
+END_TEST
+
+/* Transformer connections at no load: rated load-side voltage, and the ANSI
+ * standard phase displacement (ANSI/IEEE C57.12.00: the low-voltage side lags
+ * the high-voltage side by 30 degrees for delta-wye and wye-delta banks,
+ * from memory), whichever side faces the source. */
+START_TEST(test_transformer_no_load)
+{
+    static const struct { kl_winding hi, lo; int up; double shift; } C[] = {
+        {KL_WINDING_GRD_WYE, KL_WINDING_GRD_WYE, 0, 0},
+        {KL_WINDING_DELTA, KL_WINDING_GRD_WYE, 0, -30},
+        {KL_WINDING_GRD_WYE, KL_WINDING_DELTA, 1, +30}, /* step-up: the wye high side leads */
+        {KL_WINDING_DELTA, KL_WINDING_GRD_WYE, 1, +30},  /* step-up: the delta high side leads */
+        {KL_WINDING_WYE, KL_WINDING_DELTA, 0, -30},
+        {KL_WINDING_DELTA, KL_WINDING_DELTA, 0, 0},
+        {KL_WINDING_GRD_WYE, KL_WINDING_DELTA, 0, -30},
+    };
+    for (size_t k = 0; k < sizeof C / sizeof C[0]; k++) {
+        kl_network *n;
+        kl_flow_result *r;
+        kl_errors e;
+        kl_errors_init(&e);
+        double kv_src = C[k].up ? 4.16 : 12.47, kv_load = C[k].up ? 12.47 : 4.16;
+        hf_init(&H, "xf", "src", kv_src);
+        hf_transformer(&H, "t", "src", "b1", 3000, 12.47, C[k].hi, 4.16, C[k].lo, 1, 6);
+        ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "case %zu: %s", k, first(&e));
+        double vb = kv_load * 1000 / sqrt(3.0);
+        ck_assert_msg(fabs(r->v_base_ln[1] - vb) < 1e-6 * vb, "case %zu base", k);
+        for (int p = 0; p < 3; p++) {
+            kl_complex want = vb * cexp(I * (C[k].shift - 120.0 * p) * DEG);
+            ck_assert_msg(cabs(r->v[3 + p] - want) <= 1e-9 * vb, "case %zu phase %d: %.3f V "
+                          "%.2f deg", k, p, cabs(r->v[3 + p]), carg(r->v[3 + p]) / DEG);
+        }
+        done(n, r, &e);
+    }
+}
+END_TEST
+
+/* Every transformer connection conserves power: input = load + I^2 R of the
+ * bank, and with r = x = 0 the loss is zero (ideal transformer: common practice). */
+START_TEST(test_transformer_power)
+{
+    static const kl_winding C[][2] = {
+        {KL_WINDING_GRD_WYE, KL_WINDING_GRD_WYE}, {KL_WINDING_DELTA, KL_WINDING_GRD_WYE},
+        {KL_WINDING_WYE, KL_WINDING_DELTA}, {KL_WINDING_DELTA, KL_WINDING_DELTA},
+        {KL_WINDING_OPEN_WYE, KL_WINDING_OPEN_DELTA}};
+    for (size_t k = 0; k < sizeof C / sizeof C[0]; k++) {
+        kl_network *n;
+        kl_flow_result *r;
+        kl_errors e;
+        kl_errors_init(&e);
+        hf_init(&H, "xf", "src", 12.47);
+        hf_transformer(&H, "t", "src", "b1", 3000, 12.47, C[k][0], 0.48, C[k][1], 0, 0);
+        if (C[k][0] == KL_WINDING_OPEN_WYE)
+            H.sec[0].phases = KL_PH_A | KL_PH_B;
+        kl_connection conn = C[k][1] == KL_WINDING_GRD_WYE ? KL_CONN_WYE : KL_CONN_DELTA;
+        hf_load(&H, "l", "b1", conn, KL_LOAD_PQ, (double[]){300, 200, 250},
+                (double[]){100, 50, 80});
+        ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "case %zu: %s", k, first(&e));
+        kl_complex in = r->s_head[0] + r->s_head[1] + r->s_head[2];
+        kl_complex ld = r->s_loads[0] + r->s_loads[1] + r->s_loads[2];
+        ck_assert_msg(cabs(in - 750e3 - 230e3 * I) <= 1e-6 * cabs(in), "case %zu: in %g", k,
+                      creal(in));
+        ck_assert(cabs(ld - 750e3 - 230e3 * I) <= 1e-6 * cabs(ld));
+        done(n, r, &e);
+    }
+}
+END_TEST
+
+/* Center-tapped 120/240 V secondary: legs at +120 V and -120 V, 240 V across
+ * (common practice); a 240 V load across the legs takes its power. */
+START_TEST(test_center_tap)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "ct", "src", 12.47);
+    hf_transformer(&H, "t", "src", "b1", 50, 7.2, KL_WINDING_SINGLE, 0.24,
+                   KL_WINDING_CENTER_TAP, 1.1, 1.8);
+    H.sec[0].phases = KL_PH_B;
+    H.xf[0].kv_high = 12.47 / sqrt(3.0);
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    kl_complex va = r->v[3], vb = r->v[4];
+    ck_assert(fabs(cabs(va) - 120) < 1e-9 && fabs(cabs(vb) - 120) < 1e-9);
+    ck_assert(cabs(va + vb) < 1e-9);
+    ck_assert(fabs(cabs(va - vb) - 240) < 1e-9);
+    done(n, r, &e);
+    kl_errors_init(&e);
+    hf_load(&H, "house", "b1", KL_CONN_DELTA, KL_LOAD_PQ, (double[]){10, 0, 0},
+            (double[]){3, 0, 0});
+    hf_load(&H, "lights", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){1.5, 0, 0},
+            (double[]){0.2, 0, 0});
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    kl_complex in = r->s_head[0] + r->s_head[1] + r->s_head[2];
+    ck_assert(creal(in) > 11.5e3 && creal(in) < 11.5e3 * 1.05);
+    ck_assert(cabs(in - 11.5e3 - 3.2e3 * I - (r->s_losses[0] + r->s_losses[1] + r->s_losses[2]))
+              <= 1e-6 * cabs(in));
+    done(n, r, &e);
+}
+END_TEST
+
+/* Neutral current through tn: with the neutral grounded at both ends its
+ * voltage drop is zero, so z_na Ia + z_nb Ib + z_nc Ic + z_nn In = 0
+ * (Kersting ch. 4 Kron reduction, from memory).  Primitive matrix of
+ * Kersting's example 4.1 (ohm/mile, from memory). */
+START_TEST(test_neutral_current)
+{
+    static const double complex zp[4][4] = {
+        {0.4013 + 1.4133 * I, 0.0953 + 0.8515 * I, 0.0953 + 0.7266 * I, 0.0953 + 0.7524 * I},
+        {0.0953 + 0.8515 * I, 0.4013 + 1.4133 * I, 0.0953 + 0.7802 * I, 0.0953 + 0.7865 * I},
+        {0.0953 + 0.7266 * I, 0.0953 + 0.7802 * I, 0.4013 + 1.4133 * I, 0.0953 + 0.7674 * I},
+        {0.0953 + 0.7524 * I, 0.0953 + 0.7865 * I, 0.0953 + 0.7674 * I, 0.6873 + 1.5465 * I}};
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "neutral", "src", 12.47);
+    double complex z[6] = {0};
+    double b[6] = {0};
+    int c = hf_matrix(&H, "4w", "abc", z, b);
+    kl_construction *cn = &H.cons[c];
+    cn->derived = 1;
+    cn->ntn = 1;
+    for (int i = 0; i < 3; i++) {
+        cn->tn[0][i] = -zp[3][i] / zp[3][3];
+        for (int j = 0; j < 3; j++)
+            cn->zabc[i][j] = (zp[i][j] - zp[i][3] * zp[3][j] / zp[3][3]) / MILE;
+    }
+    hf_line(&H, "s1", "src", "b1", 3000, c);
+    hf_load(&H, "l1", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){1200, 500, 200},
+            (double[]){500, 200, 100});
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    kl_complex *i = r->i, in = r->i_neutral[0];
+    kl_complex drop = zp[3][0] * i[0] + zp[3][1] * i[1] + zp[3][2] * i[2] + zp[3][3] * in;
+    ck_assert_msg(cabs(drop) <= 1e-9 * cabs(zp[3][3] * in), "neutral drop %g", cabs(drop));
+    ck_assert(cabs(in) > 1.0); /* an unbalanced load puts current in the neutral */
+    ck_assert(cabs(r->i_earth[0] + i[0] + i[1] + i[2] + in) < 1e-9 * cabs(in));
+    done(n, r, &e);
+}
+END_TEST
+
+/* Bad networks get a clear error (the brief's rules: islands, loops, phases
+ * absent upstream, impossible loading). */
+START_TEST(test_loop_and_island)
+{
+    kl_network *n = NULL;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "loop", "src", 12.47);
+    int c = sym_line(&H, 0.5 + 1 * I, 0.1 + 0.4 * I, 0);
+    hf_line(&H, "s1", "src", "b1", 1000, c);
+    hf_line(&H, "s2", "b1", "b2", 1000, c);
+    hf_line(&H, "tie", "b2", "src", 1000, c);
+    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_ETOPO);
+    ck_assert(n == NULL);
+    ck_assert(strstr(first(&e), "loop") && strstr(first(&e), "nodal"));
+    ck_assert(strncmp(e.items[0].element, "section ", 8) == 0); /* s2 or tie: either closes it */
+    kl_errors_free(&e);
+
+    kl_errors_init(&e);
+    H.sec[2].kind = KL_SEC_SWITCH;
+    H.sec[2].closed = 0;
+    H.sec[2].phases = KL_PH_ABC;
+    hf_line(&H, "s4", "b3", "b4", 1000, c);
+    hf_section(&H, "open", "b2", "b3", KL_SEC_SWITCH);
+    H.sec[4].closed = 0;
+    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_ETOPO);
+    ck_assert(strstr(first(&e), "island") && strstr(first(&e), "open switch"));
+    ck_assert_str_eq(e.items[0].element, "bus b3");
+    kl_errors_free(&e);
+}
+END_TEST
+
+START_TEST(test_phase_absent_upstream)
+{
+    kl_network *n = NULL;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "phases", "src", 12.47);
+    double complex z[6] = {0, 0, 0, 1.3 + 1.3 * I, 0.2 + 0.4 * I, 1.3 + 1.3 * I};
+    double b[6] = {0};
+    int bc = hf_matrix(&H, "bc", "bc", z, b);
+    int c3 = sym_line(&H, 0.5 + 1 * I, 0.1 + 0.4 * I, 0);
+    hf_line(&H, "s1", "src", "b1", 1000, bc);
+    hf_line(&H, "s2", "b1", "b2", 1000, c3);
+    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_ETOPO);
+    ck_assert(strstr(first(&e), "phase(s) a"));
+    ck_assert_str_eq(e.items[0].element, "section s2");
+    kl_errors_free(&e);
+    /* a load on a phase the bus lacks */
+    kl_errors_init(&e);
+    H.sec[1].construction = bc;
+    H.sec[1].phases = KL_PH_B | KL_PH_C;
+    hf_load(&H, "wrong", "b2", KL_CONN_WYE, KL_LOAD_PQ, (double[]){10, 0, 0}, (double[]){1, 0, 0});
+    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_EINPUT);
+    ck_assert_str_eq(e.items[0].element, "load wrong");
+    kl_errors_free(&e);
+}
+END_TEST
+
+/* Load beyond the feeder's capability: the sweep must say it did not
+ * converge, where, and why; never return numbers as results.  (A 12.47 kV
+ * line of ~10 ohm cannot deliver 100 MW: common practice.) */
+START_TEST(test_voltage_collapse)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "collapse", "src", 12.47);
+    int c = sym_line(&H, 0.5 + 1.2 * I, 0.15 + 0.45 * I, 0);
+    hf_line(&H, "s1", "src", "far", 40000, c);
+    hf_load(&H, "huge", "far", KL_CONN_WYE, KL_LOAD_PQ, (double[]){30000, 30000, 30000},
+            (double[]){10000, 10000, 10000});
+    kl_status st = run(&H.f, NULL, &n, &r, &e);
+    ck_assert_int_eq(st, KL_ENOCONV);
+    ck_assert(!r->converged);
+    ck_assert_msg(strstr(first(&e), "did not converge") && strstr(first(&e), "far") &&
+                  strstr(first(&e), "beyond what the"), "%s", first(&e));
+    done(n, r, &e);
+}
+END_TEST
+
+/* Allocation failure anywhere in the build or the result record gives
+ * KL_ENOMEM and leaks nothing (sanitizer build). */
+START_TEST(test_alloc_failure)
+{
+    build_mixed(&H);
+    for (long k = 0; k < 80; k++) {
+        kl_network *n = NULL;
+        kl_flow_result *r = NULL;
+        kl_errors e;
+        kl_errors_init(&e);
+        kl_alloc_fail_after(k);
+        kl_status st = kl_network_build(&H.f, &n, &e);
+        if (st == KL_OK)
+            st = kl_flow_result_alloc(n, &r, &e);
+        kl_alloc_fail_after(-1);
+        ck_assert(st == KL_OK || st == KL_ENOMEM);
+        if (st == KL_OK) {
+            kl_flow_options o;
+            kl_flow_options_default(&o);
+            ck_assert_int_eq(kl_flow_solve(n, &o, r, &e), KL_OK);
+        }
+        done(n, r, &e);
+    }
+}
+END_TEST
+
+/* No allocation while solving: repeated solves at other load levels. */
+START_TEST(test_no_alloc_in_solve)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    build_mixed(&H);
+    ck_assert(run(&H.f, NULL, &n, &r, &e) == KL_OK);
+    kl_flow_options o;
+    kl_flow_options_default(&o);
+    long before = kl_alloc_count();
+    double p_prev = 0;
+    for (int k = 1; k <= 5; k++) {
+        o.load_scale = 0.25 * k;
+        ck_assert_int_eq(kl_flow_solve(n, &o, r, &e), KL_OK);
+        double p = creal(r->s_head[0] + r->s_head[1] + r->s_head[2]);
+        ck_assert(p > p_prev); /* more load, more input */
+        p_prev = p;
+    }
+    ck_assert_int_eq(kl_alloc_count(), before);
+    done(n, r, &e);
+}
+END_TEST
+
+int main(void)
+{
+    Suite *s = suite_create("flow_physics");
+    TCase *tc = tcase_create("physics");
+    tcase_add_test(tc, test_power_balance);
+    tcase_add_test(tc, test_balanced);
+    tcase_add_test(tc, test_single_phase_closed_form);
+    tcase_add_test(tc, test_thevenin_source);
+    tcase_add_test(tc, test_transformer_no_load);
+    tcase_add_test(tc, test_transformer_power);
+    tcase_add_test(tc, test_center_tap);
+    tcase_add_test(tc, test_neutral_current);
+    tcase_add_test(tc, test_loop_and_island);
+    tcase_add_test(tc, test_phase_absent_upstream);
+    tcase_add_test(tc, test_voltage_collapse);
+    tcase_add_test(tc, test_alloc_failure);
+    tcase_add_test(tc, test_no_alloc_in_solve);
+    suite_add_tcase(s, tc);
+    SRunner *sr = srunner_create(s);
+    srunner_run_all(sr, CK_NORMAL);
+    int failed = srunner_ntests_failed(sr);
+    srunner_free(sr);
+    return failed ? EXIT_FAILURE : EXIT_SUCCESS;
+}
