@@ -20,6 +20,7 @@ typedef struct {
     kl_wire w[KL_LINES_MAX_WIRES];
     int n, np;
     int phase[3]; /* phase index (0 a, 1 b, 2 c) of each of the first np wires */
+    char what[KL_LINES_MAX_WIRES][48]; /* for messages: "phase a", "shield of phase a", ... */
 } wire_set;
 
 typedef struct {
@@ -87,6 +88,7 @@ static kl_status add_phases(const where *at, int cond, wire_set *s)
         st = layout_point(at, at->c->phase_wire[p], &x, &y);
         if (st == KL_OK) {
             s->phase[s->np] = p;
+            snprintf(s->what[s->n], sizeof s->what[0], "phase %c", 'a' + p);
             wire_from_conductor(k, x, y, &s->w[s->n++]);
             s->np++;
         }
@@ -107,8 +109,11 @@ static kl_status add_neutrals(const where *at, wire_set *s)
         st = conductor_at(at, at->c->neutral_conductor[i], &k);
         if (st == KL_OK)
             st = layout_point(at, at->c->neutral_wire[i], &x, &y);
-        if (st == KL_OK)
+        if (st == KL_OK) {
+            const char *id = at->f->layouts[at->c->layout].wire[at->c->neutral_wire[i]];
+            snprintf(s->what[s->n], sizeof s->what[0], "the neutral at position %s", id ? id : "?");
             wire_from_conductor(k, x, y, &s->w[s->n++]);
+        }
     }
     return st;
 }
@@ -135,6 +140,8 @@ static kl_status add_shields(const where *at, const kl_cable *cb, wire_set *s)
             return fail(at, "its cable's shield cannot be modelled: check strands (>= 1), "
                             "diameter over the neutral (> phase conductor + strand), tape "
                             "diameter, thickness and resistivity (all positive)");
+        snprintf(s->what[s->n], sizeof s->what[0], "the %s of phase %c",
+                 cb->kind == KL_CABLE_TAPE ? "tape shield" : "concentric neutral", 'a' + s->phase[i]);
         if (r->ring_m <= s->w[i].radius_m)
             return fail(at, "its cable's shield lies inside the phase conductor: check the "
                             "cable diameters");
@@ -157,12 +164,30 @@ static void scatter_z(const wire_set *s, const kl_complex *zr, const kl_complex 
     c->ntn = ntn;
 }
 
+/* Two conductors in one place, or a conductor inside another cable's shield. */
+static kl_status check_overlap(const where *at, const wire_set *s)
+{
+    for (int i = 0; i < s->n; i++)
+        for (int j = i + 1; j < s->n; j++) {
+            if (kl_wire_gmd(&s->w[i], &s->w[j]) > 0)
+                continue;
+            char msg[300];
+            snprintf(msg, sizeof msg, "%s and %s overlap (centres %.4g m apart): move their "
+                     "layout positions apart", s->what[i], s->what[j],
+                     hypot(s->w[i].x_m - s->w[j].x_m, s->w[i].y_m - s->w[j].y_m));
+            return fail(at, msg);
+        }
+    return KL_OK;
+}
+
 static kl_status series(const where *at, const wire_set *s, int isolated, double freq,
                         double rho, kl_carson_form form, kl_construction *c)
 {
     kl_complex zp[KL_LINES_MAX_WIRES * KL_LINES_MAX_WIRES], zr[9];
     kl_complex tn[KL_LINES_MAX_WIRES * 3];
     kl_errors local;
+    if (check_overlap(at, s) != KL_OK)
+        return KL_EINPUT;
     kl_errors_init(&local);
     kl_status st = kl_carson_primitive(s->w, s->n, freq, rho, form, zp, &local);
     if (st != KL_OK) {
