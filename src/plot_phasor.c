@@ -17,9 +17,11 @@ static const char *const phase_colour[3] = {KL_COLOUR_A, KL_COLOUR_B, KL_COLOUR_
 /* sequence colours of our own: zero grey, positive green, negative purple */
 static const char *const seq_colour[3] = {"#5a5a5a", "#2f7d3a", "#6a3d9a"};
 
+/* Angle in degrees; an angle that would print as "-0.00" prints as 0.00. */
 static double deg(kl_complex z)
 {
-    return carg(z) * (180.0 / 3.14159265358979323846);
+    double d = carg(z) * (180.0 / 3.14159265358979323846);
+    return fabs(d) < 0.005 ? 0.0 : d;
 }
 
 static void arrow(FILE *out, double cx, double cy, kl_complex z, double scale,

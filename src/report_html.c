@@ -200,14 +200,66 @@ static void cautions(FILE *out)
           "Check the figures against field readings before acting on them.</div>\n", out);
 }
 
-static void section_summary(FILE *out, const kl_report_input *in, const summary *s)
+/* Ranks buses by key(in, b) (NAN = left out), largest first; returns the count. */
+static int rank_buses(const kl_report_input *in, double (*key)(const kl_report_input *, int),
+                      ranked *r)
+{
+    int n = 0;
+    for (int b = 0; b < in->feeder->nbuses; b++) {
+        double k = key(in, b);
+        if (isfinite(k))
+            r[n++] = (ranked){k, b};
+    }
+    qsort(r, (size_t)n, sizeof *r, by_key_desc);
+    return n;
+}
+
+static double neg_vmin(const kl_report_input *in, int b)
+{
+    return -kl_report_vmin_pu(in, b);
+}
+
+#define WORST_LISTED 5
+
+static kl_status worst_buses(FILE *out, const kl_report_input *in, kl_errors *err)
+{
+    const kl_feeder *f = in->feeder;
+    ranked *r = kl_malloc(sizeof *r * (size_t)(f->nbuses + 1));
+    if (!r) {
+        kl_errors_add(err, f->path, 0, 0, NULL, "out of memory ranking buses for the report");
+        return KL_ENOMEM;
+    }
+    fputs("<h3>Worst buses</h3>\n<p>Lowest voltage: ", out);
+    int n = rank_buses(in, neg_vmin, r);
+    for (int k = 0; k < n && k < WORST_LISTED; k++) {
+        fputs(k ? ", " : "", out);
+        kl_xml_escape(out, bus_name(f, r[k].id));
+        fprintf(out, " " KL_NUM_PU " pu", -r[k].key);
+    }
+    fputs(n ? ".<br>\nLargest voltage unbalance factor: " : "&ndash;<br>\nLargest voltage "
+          "unbalance factor: ", out);
+    n = rank_buses(in, kl_report_vuf_pct, r);
+    for (int k = 0; k < n && k < WORST_LISTED; k++) {
+        fputs(k ? ", " : "", out);
+        kl_xml_escape(out, bus_name(f, r[k].id));
+        fprintf(out, " " KL_NUM_PCT " %%", r[k].key);
+    }
+    fputs(n ? ".</p>\n" : "&ndash; (no three-phase bus)</p>\n", out);
+    kl_free(r);
+    return KL_OK;
+}
+
+static kl_status section_summary(FILE *out, const kl_report_input *in, const summary *s,
+                                 kl_errors *err)
 {
     fputs("<section id=\"summary\">\n<h2>Summary</h2>\n<div class=\"cards\">\n", out);
     summary_cards(out, in, s);
     fputs("</div>\n", out);
     limits_list(out, in, s);
+    kl_status st = worst_buses(out, in, err);
     cautions(out);
     fputs("</section>\n", out);
+    return st;
 }
 
 static kl_status section_plot(FILE *out, const char *id, const char *heading, const char *note,
@@ -395,11 +447,12 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
     summary s;
     gather(&s, in);
     head(out, in);
-    section_summary(out, in, &s);
+    st = section_summary(out, in, &s, err);
     kl_progress_step(in->progress, "writing the report", 1, 6);
-    st = section_plot(out, "profile", "Voltage along the feeder", "Each section is drawn from "
-                      "its source-side bus to its far bus, so every lateral appears where it "
-                      "leaves the main.", kl_plot_profile_write, in, err);
+    if (st == KL_OK)
+        st = section_plot(out, "profile", "Voltage along the feeder", "Each section is drawn "
+                          "from its source-side bus to its far bus, so every lateral appears "
+                          "where it leaves the main.", kl_plot_profile_write, in, err);
     kl_progress_step(in->progress, "writing the report", 2, 6);
     if (st == KL_OK)
         st = section_plot(out, "map", "Feeder map", "Line weight and dash show the phasing; "
