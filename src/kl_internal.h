@@ -286,4 +286,15 @@ void kl_load_inject(struct kl_network *net, double scale);
 /* Actual powers at the present voltages into res->s_load, q_cap, s_loads. */
 void kl_load_powers(const struct kl_network *net, double scale, struct kl_flow_result *res);
 
+/* ---- study.c, neutral_sizing.c, contributors.c: the feeder as a tree of
+ * live sections, breadth-first from the source (parents before children). */
+typedef struct {
+    int *psec;    /* [nbuses] live section feeding the bus, -1 at the source / unreached */
+    int *order;   /* [norder] live sections, parents before children */
+    int norder;
+} kl_study_tree;
+/* sec_live: [nsections] 1 when the section carries current (NULL: closed ones). */
+kl_status kl_study_tree_build(const kl_feeder *f, const int *sec_live, kl_study_tree *t);
+void kl_study_tree_free(kl_study_tree *t);
+
 #endif
