@@ -224,7 +224,7 @@ static int popcount3(int m)
 static int is_tap(const kl_feeder *f, const kl_study_phases *ph, int k)
 {
     const kl_section *sec = &f->sections[k];
-    int up = ph->bus_phases ? ph->bus_phases[sec->from] : f->buses[sec->from].phases;
+    int b = kl_sec_up(sec), up = ph->bus_phases ? ph->bus_phases[b] : f->buses[b].phases;
     return popcount3(sec->phases) < popcount3(up);
 }
 
@@ -247,7 +247,7 @@ static void tap_sums(const kl_feeder *f, const kl_study_phases *ph,
                 tap_share[k] += share[L];
                 tap_loads[k]++;
             }
-            k = t->psec[f->sections[k].from];
+            k = t->psec[kl_sec_up(&f->sections[k])];
         }
     }
 }

@@ -296,5 +296,9 @@ typedef struct {
 /* sec_live: [nsections] 1 when the section carries current (NULL: closed ones). */
 kl_status kl_study_tree_build(const kl_feeder *f, const int *sec_live, kl_study_tree *t);
 void kl_study_tree_free(kl_study_tree *t);
+/* The source-side and load-side buses of a section (sections may be written
+ * with `to` on the source side: kl_section.reversed). */
+static inline int kl_sec_up(const kl_section *s) { return s->reversed ? s->to : s->from; }
+static inline int kl_sec_down(const kl_section *s) { return s->reversed ? s->from : s->to; }
 
 #endif

@@ -22,7 +22,7 @@
 static double load_triplen(const kl_feeder *f, const kl_study_phases *ph, int L)
 {
     const kl_load *ld = &f->loads[L];
-    int bus = ld->bus >= 0 ? ld->bus : f->sections[ld->section].to;
+    int bus = ld->bus >= 0 ? ld->bus : kl_sec_down(&f->sections[ld->section]);
     double sum = 0;
     if (!(ld->third_harmonic > 0) || ld->conn != KL_CONN_WYE)
         return 0;
@@ -65,8 +65,8 @@ static void triplen_sum(const kl_feeder *f, const kl_study_phases *ph,
             s->i_n3[f->loads[L].section] += h;
     }
     for (int n = t->norder - 1; n >= 0; n--) {
-        int k = t->order[n], from = f->sections[k].from, up;
-        s->i_n3[k] += at_bus[f->sections[k].to];
+        int k = t->order[n], from = kl_sec_up(&f->sections[k]), up;
+        s->i_n3[k] += at_bus[kl_sec_down(&f->sections[k])];
         up = t->psec[from];
         if (up >= 0)
             at_bus[from] += pass_up(f, k) * s->i_n3[k];
@@ -100,7 +100,7 @@ static int assign_runs(const kl_feeder *f, const kl_study_tree *t, kl_study *s)
     for (int k = 0; k < f->nsections; k++)
         s->run[k] = -1;
     for (int n = 0; n < t->norder; n++) {
-        int k = t->order[n], up = t->psec[f->sections[k].from];
+        int k = t->order[n], up = t->psec[kl_sec_up(&f->sections[k])];
         if (isnan(s->i_n_rms[k]))
             continue;
         if (up >= 0 && s->run[up] >= 0

@@ -210,7 +210,7 @@ static void eval_head(const kl_feeder *f, const kl_study_phases *ph,
     s->head_3i0 = 0;
     for (int k = 0; k < f->nsections; k++) {
         const kl_section *sec = &f->sections[k];
-        if (sec->from != f->source.bus || !sec_live(f, ph, k))
+        if (kl_sec_up(sec) != f->source.bus || !sec_live(f, ph, k))
             continue;
         for (int p = 0; p < 3; p++)
             if (sec->phases & (1 << p))

@@ -28,7 +28,7 @@ static void walk(const kl_feeder *f, const int *first, const int *out,
     while (head < tail) {
         int b = queue[head++];
         for (int e = first[b]; e < first[b + 1]; e++) {
-            int k = out[e], to = f->sections[k].to;
+            int k = out[e], to = kl_sec_down(&f->sections[k]);
             if (to == f->source.bus || t->psec[to] >= 0)
                 continue;
             t->psec[to] = k;
@@ -55,11 +55,11 @@ kl_status kl_study_tree_build(const kl_feeder *f, const int *sec_live, kl_study_
         t->psec[b] = -1;
     for (int k = 0; k < f->nsections; k++)
         if (live(f, sec_live, k))
-            first[f->sections[k].from + 1]++;
+            first[kl_sec_up(&f->sections[k]) + 1]++;
     for (int b = 0; b < f->nbuses; b++)
         first[b + 1] += first[b];
     for (int k = 0; k < f->nsections; k++) {
-        int b = f->sections[k].from;
+        int b = kl_sec_up(&f->sections[k]);
         if (live(f, sec_live, k))
             out[first[b] + cursor[b]++] = k;
     }
