@@ -8,14 +8,19 @@
  * same data set), so the check that matters is that, loaded and passed through the line
  * constants (modified Carson equations, Kron reduction, concentric-neutral cable), they
  * give the published phase impedance matrices with each phase in its published place.
- * A wrong phasing (601 is B A C on positions 1, 2, 3, ...) moves entries and fails here. */
+ * A wrong phasing (601 is B A C on positions 1, 2, 3, ...) moves entries and fails here.
+ * Last, the whole file is solved (automatic regulator) and compared with the published
+ * power-flow results of 2004-06-24. */
 #include <check.h>
 #include <complex.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include <gsl/gsl_errno.h>
 #include "kilter/feeder.h"
+#include "kilter/flow.h"
 #include "kilter/lines.h"
+#include "kilter/network.h"
 
 #define OHM_PER_MI (1.0 / 1609.344)  /* ohm/mi -> ohm/m */
 #define US_PER_MI (1e-6 / 1609.344)  /* uS/mi -> S/m */
@@ -227,6 +232,68 @@ START_TEST(devices_match_published)
 }
 END_TEST
 
+/* ---------------------------------------------------------------- the solved feeder */
+
+/* Published node voltages (pu of the line-to-neutral base, degrees), results of
+ * 2004-06-24; 0 where the phase is absent. */
+static const struct { const char *bus; double m[3], a[3]; } pub_v[] = {
+    {"650", {1.0000, 1.0000, 1.0000}, {0.00, -120.00, 120.00}},
+    {"rg60", {1.0625, 1.0500, 1.0687}, {0.00, -120.00, 120.00}},
+    {"632", {1.0210, 1.0420, 1.0174}, {-2.49, -121.72, 117.83}},
+    {"633", {1.0180, 1.0401, 1.0148}, {-2.56, -121.77, 117.82}},
+    {"634", {0.9940, 1.0218, 0.9960}, {-3.23, -122.22, 117.34}},
+    {"645", {0, 1.0329, 1.0155}, {0, -121.90, 117.86}},
+    {"646", {0, 1.0311, 1.0134}, {0, -121.98, 117.90}},
+    {"671", {0.9900, 1.0529, 0.9778}, {-5.30, -122.34, 116.02}},
+    {"680", {0.9900, 1.0529, 0.9778}, {-5.30, -122.34, 116.02}},
+    {"684", {0.9881, 0, 0.9758}, {-5.32, 0, 115.92}},
+    {"611", {0, 0, 0.9738}, {0, 0, 115.78}},
+    {"652", {0.9825, 0, 0}, {-5.25, 0, 0}},
+    {"692", {0.9900, 1.0529, 0.9777}, {-5.31, -122.34, 116.02}},
+    {"675", {0.9835, 1.0553, 0.9758}, {-5.56, -122.52, 116.03}},
+};
+
+START_TEST(solved_feeder_matches_published_results)
+{
+    kl_errors e;
+    kl_errors_init(&e);
+    kl_network *net = NULL;
+    kl_flow_result *r = NULL;
+    kl_flow_options opt;
+    kl_flow_options_default(&opt);
+    gsl_set_error_handler_off();
+    ck_assert_int_eq(kl_network_build(F, &net, &e), KL_OK);
+    ck_assert_int_eq(kl_flow_result_alloc(net, &r, &e), KL_OK);
+    ck_assert_int_eq(kl_flow_solve(net, &opt, r, &e), KL_OK);
+    ck_assert(r->converged);
+    /* Published final taps A 10, B 8, C 11. */
+    ck_assert_int_eq(r->tap[0], 10);
+    ck_assert_int_eq(r->tap[1], 8);
+    ck_assert_int_eq(r->tap[2], 11);
+    /* Published input 3577.191 kW + j1724.772 kvar; within 0.2 %. */
+    double p = 0, q = 0;
+    for (int k = 0; k < 3; k++) { p += creal(r->s_head[k]); q += cimag(r->s_head[k]); }
+    ck_assert_msg(fabs(p - 3577.191e3) < 0.002 * 3577.191e3, "input %.3f kW", p / 1e3);
+    ck_assert_msg(fabs(q - 1724.772e3) < 0.002 * 1724.772e3, "input %.3f kvar", q / 1e3);
+    /* Voltages: published to 4 decimals and 2 in angle; 0.0005 pu and 0.05 degree. */
+    for (size_t k = 0; k < sizeof pub_v / sizeof pub_v[0]; k++) {
+        int b = kl_feeder_find_bus(F, pub_v[k].bus);
+        ck_assert_int_ge(b, 0);
+        for (int ph = 0; ph < 3; ph++) {
+            if (pub_v[k].m[ph] == 0) continue;
+            kl_complex v = r->v[3 * b + ph] / r->v_base_ln[b];
+            double deg = carg(v) * 180.0 / 3.14159265358979323846;
+            ck_assert_msg(fabs(cabs(v) - pub_v[k].m[ph]) < 5e-4 && fabs(deg - pub_v[k].a[ph]) < 0.05,
+                          "%s phase %c: %.4f/%.2f, published %.4f/%.2f", pub_v[k].bus, 'a' + ph,
+                          cabs(v), deg, pub_v[k].m[ph], pub_v[k].a[ph]);
+        }
+    }
+    kl_flow_result_free(r);
+    kl_network_free(net);
+    kl_errors_free(&e);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("feeders_ieee13");
@@ -238,6 +305,7 @@ int main(void)
     tcase_add_test(tc, segments_match_published);
     tcase_add_test(tc, loads_match_published);
     tcase_add_test(tc, devices_match_published);
+    tcase_add_test(tc, solved_feeder_matches_published_results);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
