@@ -1,0 +1,404 @@
+/* The nodal (KLU) load flow: agreement with the backward/forward sweep, the
+ * physics of a looped network the sweep cannot solve, and its failures.
+ *
+ * References: the two solvers are independent formulations of the same
+ * network equations (a tree walk of the generalized branch matrices, and a
+ * sparse LU solve of the nodal/branch equations), so their agreement to
+ * 1e-6 pu is the cross-check the load-flow issue asks for; power balance
+ * (source input = loads + losses) and Kirchhoff's current law are physics
+ * (common practice); the IEEE PES 13-node test feeder's published voltages
+ * (IEEE PES Distribution System Analysis Subcommittee, "IEEE 13 Node Test
+ * Feeder", results 2004) are the outside reference for the full feeder. */
+#include <check.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include "flow_fixture.h"
+#include "kilter/flow.h"
+#include "kilter/network.h"
+#include "kl_internal.h"
+
+#define AGREE_PU 1e-6 /* the issue's agreement requirement */
+
+static hand_feeder H;
+
+/* Solves f with one solver; the caller frees net and res.  Returns the status. */
+static kl_status solve_with(const kl_feeder *f, kl_solver solver, double tol,
+                            kl_network **net, kl_flow_result **res, kl_errors *err)
+{
+    kl_flow_options opt;
+    kl_flow_options_default(&opt);
+    opt.solver = solver;
+    if (tol > 0)
+        opt.tol_pu = tol;
+    *net = NULL;
+    *res = NULL;
+    kl_status st = kl_network_build(f, net, err);
+    if (st)
+        return st;
+    if ((st = kl_flow_result_alloc(*net, res, err)))
+        return st;
+    return kl_flow_solve(*net, &opt, *res, err);
+}
+
+static const char *first_error(const kl_errors *e)
+{
+    return e->count ? e->items[0].message : "(no message)";
+}
+
+/* Largest |V_nodal - V_sweep| in pu of the bus base over every bus and phase,
+ * and the largest current difference relative to the largest current. */
+static void compare(const kl_flow_result *a, const kl_flow_result *b, double *dv_pu,
+                    double *di_rel)
+{
+    double dv = 0, di = 0, imax = 0;
+    for (int k = 0; k < 3 * a->nbuses; k++) {
+        double d = cabs(a->v[k] - b->v[k]) / a->v_base_ln[k / 3];
+        dv = d > dv ? d : dv;
+    }
+    for (int k = 0; k < 3 * a->nsections; k++) {
+        double d = cabs(a->i[k] - b->i[k]);
+        di = d > di ? d : di;
+        imax = cabs(a->i[k]) > imax ? cabs(a->i[k]) : imax;
+    }
+    *dv_pu = dv;
+    *di_rel = imax > 0 ? di / imax : di;
+}
+
+/* Solves with both solvers at the default tolerance and checks agreement
+ * (voltages to AGREE_PU, currents to 1e-5 relative), equal taps, and the
+ * nodal solution's power balance. */
+static void check_agree(const kl_feeder *f, const char *what)
+{
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_network *ns = NULL, *nn = NULL;
+    kl_flow_result *rs = NULL, *rn = NULL;
+    kl_status st = solve_with(f, KL_SOLVER_SWEEP, 0, &ns, &rs, &err);
+    ck_assert_msg(st == KL_OK, "%s sweep: %s", what, first_error(&err));
+    st = solve_with(f, KL_SOLVER_NODAL, 0, &nn, &rn, &err);
+    ck_assert_msg(st == KL_OK, "%s nodal: %s", what, first_error(&err));
+    double dv, di;
+    compare(rn, rs, &dv, &di);
+    fprintf(stderr, "%-32s nodal-sweep: %.2e pu, currents %.2e rel; iterations %d / %d\n",
+            what, dv, di, rn->total_iterations, rs->total_iterations);
+    ck_assert_msg(dv <= AGREE_PU, "%s: nodal and sweep differ by %.3g pu", what, dv);
+    ck_assert_msg(di <= 1e-5, "%s: currents differ by %.3g relative", what, di);
+    for (int k = 0; k < 3 * f->nregulators; k++)
+        ck_assert_int_eq(rn->tap[k], rs->tap[k]);
+    /* power balance over the three phases: source input = loads + losses
+     * (conservation of complex power; per phase it need not hold: mutual
+     * coupling, delta loads and banks move power between phases) */
+    kl_complex bal = 0;
+    double scale = 0;
+    for (int p = 0; p < 3; p++) {
+        bal += rn->s_head[p] - rn->s_loads[p] - rn->s_losses[p];
+        scale += cabs(rn->s_head[p]);
+    }
+    ck_assert_msg(cabs(bal) <= 1e-6 * scale, "%s: power balance off by %.3g VA of %.3g", what,
+                  cabs(bal), scale);
+    kl_flow_result_free(rs);
+    kl_flow_result_free(rn);
+    kl_network_free(ns);
+    kl_network_free(nn);
+    kl_errors_free(&err);
+}
+
+/* IEEE 13-node configuration 601 and 603/605 impedances (ohm/mile) and
+ * susceptances (uS/mile), published data sheet; used as realistic lines. */
+static const double complex Z601[6] = {0.3465 + 1.0179 * I, 0.1560 + 0.5017 * I,
+    0.1580 + 0.4236 * I, 0.3375 + 1.0478 * I, 0.1535 + 0.3849 * I, 0.3414 + 1.0348 * I};
+static const double B601[6] = {6.2998, -1.9958, -1.2595, 5.9597, -0.7417, 5.6386};
+static const double complex Z603[6] = {0, 0, 0, 1.3294 + 1.3471 * I, 0.2066 + 0.4591 * I,
+    1.3238 + 1.3569 * I};
+static const double B603[6] = {0, 0, 0, 4.7097, -0.8999, 4.6658};
+static const double complex Z605[6] = {0, 0, 0, 0, 0, 1.3292 + 1.3475 * I};
+static const double B605[6] = {0, 0, 0, 0, 0, 4.5193};
+
+/* A three-phase main with a two-phase and a single-phase tap, loads of every
+ * model in wye and delta, capacitors, a closed switch. */
+static void build_taps(hand_feeder *h)
+{
+    hf_init(h, "taps (hand-built)", "src", 12.47);
+    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
+    int c2 = hf_matrix(h, "603", "bc", Z603, B603);
+    int c1 = hf_matrix(h, "605", "c", Z605, B605);
+    hf_line(h, "m1", "src", "b1", 3000, c3);
+    hf_line(h, "m2", "b1", "b2", 2500, c3);
+    hf_section(h, "sw", "b2", "b3", KL_SEC_SWITCH);
+    h->sec[h->f.nsections - 1].phases = KL_PH_ABC;
+    hf_line(h, "m3", "b3", "b4", 1500, c3);
+    hf_line(h, "t2", "b1", "l1", 800, c2);
+    hf_line(h, "t1", "l1", "l2", 600, c1);
+    hf_load(h, "pq", "b2", KL_CONN_WYE, KL_LOAD_PQ, (double[]){300, 150, 220},
+            (double[]){120, 80, 90});
+    hf_load(h, "z", "b4", KL_CONN_DELTA, KL_LOAD_Z, (double[]){200, 180, 0},
+            (double[]){90, 60, 0});
+    hf_load(h, "i", "b4", KL_CONN_WYE, KL_LOAD_I, (double[]){100, 0, 140},
+            (double[]){40, 0, 50});
+    hf_load(h, "dpq", "b3", KL_CONN_DELTA, KL_LOAD_PQ, (double[]){150, 150, 150},
+            (double[]){70, 70, 70});
+    hf_load(h, "lat2", "l1", KL_CONN_DELTA, KL_LOAD_I, (double[]){0, 90, 0},
+            (double[]){0, 40, 0});
+    int z = hf_load(h, "zip", "l2", KL_CONN_WYE, KL_LOAD_ZIP, (double[]){0, 0, 120},
+                    (double[]){0, 0, 60});
+    h->load[z].zip[0] = 0.3;
+    h->load[z].zip[1] = 0.3;
+    h->load[z].zip[2] = 0.4;
+    hf_cap(h, "c4", "b4", (double[]){100, 100, 100});
+    hf_cap(h, "c2", "l2", (double[]){0, 0, 50});
+}
+
+START_TEST(test_taps_loads_switch)
+{
+    build_taps(&H);
+    check_agree(&H.f, "taps, all load models, switch");
+}
+END_TEST
+
+/* The same feeder behind a Thevenin source (the source bus voltage moves). */
+START_TEST(test_thevenin_source)
+{
+    build_taps(&H);
+    H.f.source.has_equivalent = 1;
+    H.f.source.z1_ohm = 0.4 + 2.5 * I;
+    H.f.source.z0_ohm = 0.9 + 6.0 * I;
+    check_agree(&H.f, "Thevenin source");
+}
+END_TEST
+
+typedef struct {
+    const char *what;
+    double kv_high, kv_low;
+    kl_winding high, low;
+    const char *phases; /* source-side phases of the bank */
+    int step_up;        /* 1: the low winding faces the source */
+} xf_case;
+
+/* Every transformer connection the sweep models (Kersting ch. 8 banks). */
+static const xf_case XF[] = {
+    {"grounded wye / grounded wye", 12.47, 4.16, KL_WINDING_GRD_WYE, KL_WINDING_GRD_WYE, "abc", 0},
+    {"delta / grounded wye step-down", 12.47, 4.16, KL_WINDING_DELTA, KL_WINDING_GRD_WYE, "abc", 0},
+    {"delta / grounded wye step-up", 24.9, 12.47, KL_WINDING_GRD_WYE, KL_WINDING_DELTA, "abc", 1},
+    {"ungrounded wye / delta", 12.47, 4.16, KL_WINDING_WYE, KL_WINDING_DELTA, "abc", 0},
+    {"delta / delta", 12.47, 4.16, KL_WINDING_DELTA, KL_WINDING_DELTA, "abc", 0},
+    {"open wye / open delta", 12.47, 4.16, KL_WINDING_OPEN_WYE, KL_WINDING_OPEN_DELTA, "ab", 0},
+    {"single phase", 7.2, 2.4, KL_WINDING_SINGLE, KL_WINDING_SINGLE, "c", 0},
+    {"single phase, center tap", 7.2, 0.24, KL_WINDING_SINGLE, KL_WINDING_CENTER_TAP, "b", 0},
+};
+
+/* 12.47 kV main, the bank, a short low-side line (or none), unbalanced loads. */
+static void build_xf(hand_feeder *h, const xf_case *c)
+{
+    hf_init(h, c->what, "src", 12.47);
+    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
+    hf_line(h, "m1", "src", "hv", 2000, c3);
+    double kva = 1500;
+    if (c->high == KL_WINDING_SINGLE)
+        kva = 100;
+    /* step-up: the 12.47 kV low winding faces the source */
+    hf_transformer(h, "bank", "hv", "lv", kva, c->kv_high, c->high, c->kv_low, c->low, 1.0, 6.0);
+    h->sec[h->f.nsections - 1].phases = hf_phases(c->phases);
+    if (c->high == KL_WINDING_SINGLE) {
+        if (c->low == KL_WINDING_CENTER_TAP) {
+            hf_load(h, "legs", "lv", KL_CONN_WYE, KL_LOAD_PQ, (double[]){12, 8, 0},
+                    (double[]){4, 2, 0});
+            hf_load(h, "240", "lv", KL_CONN_DELTA, KL_LOAD_Z, (double[]){20, 0, 0},
+                    (double[]){6, 0, 0});
+        } else {
+            hf_load(h, "one", "lv", KL_CONN_WYE, KL_LOAD_PQ, (double[]){0, 0, 60},
+                    (double[]){0, 0, 25});
+        }
+        return;
+    }
+    int low_is_delta = c->low == KL_WINDING_DELTA || c->low == KL_WINDING_OPEN_DELTA;
+    if (low_is_delta) /* a three-wire secondary: line-to-line loads */
+        hf_load(h, "dl", "lv", KL_CONN_DELTA, KL_LOAD_PQ, (double[]){400, 250, 300},
+                (double[]){150, 100, 120});
+    else
+        hf_load(h, "wl", "lv", KL_CONN_WYE, KL_LOAD_PQ, (double[]){400, 250, 300},
+                (double[]){150, 100, 120});
+    hf_load(h, "dz", "lv", KL_CONN_DELTA, KL_LOAD_Z, (double[]){100, 0, 60},
+            (double[]){30, 0, 20});
+}
+
+START_TEST(test_transformer_connections)
+{
+    const xf_case *c = &XF[_i];
+    build_xf(&H, c);
+    check_agree(&H.f, c->what);
+}
+END_TEST
+
+static void add_regulator(hand_feeder *h, const char *from, const char *to, kl_reg_connection conn,
+                          kl_reg_mode mode, const int tap[3])
+{
+    int s = hf_section(h, "reg", from, to, KL_SEC_REGULATOR);
+    h->sec[s].device = h->f.nregulators;
+    h->sec[s].phases = KL_PH_ABC;
+    kl_regulator *r = &h->reg[h->f.nregulators++];
+    r->name = "reg";
+    r->conn = conn;
+    r->mode = mode;
+    r->phases = conn == KL_REG_OPEN_DELTA ? (KL_PH_A | KL_PH_B) : KL_PH_ABC;
+    r->steps = 16;
+    r->step_pu = 0.00625;
+    /* IEEE 13-node published regulator settings: 122 V level, 2 V band, PT 20, CT 700 A,
+     * R 3 V, X 9 V */
+    r->voltage_level_v = 122;
+    r->bandwidth_v = 2;
+    r->pt_ratio = 20;
+    r->ct_primary_a = 700;
+    for (int p = 0; p < 3; p++) {
+        r->tap[p] = tap[p];
+        r->ldc_r_v[p] = 3;
+        r->ldc_x_v[p] = 9;
+    }
+    r->monitored = r->phases;
+}
+
+/* IEEE 13-node-like: 4.16 kV, regulator at the head, loads of all kinds. */
+static void build_reg(hand_feeder *h, kl_reg_connection conn, kl_reg_mode mode)
+{
+    hf_init(h, "regulated (hand-built)", "src", 4.16);
+    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
+    add_regulator(h, "src", "rg", conn, mode, (int[]){5, 3, 7});
+    hf_line(h, "m1", "rg", "b1", 2000, c3);
+    hf_line(h, "m2", "b1", "b2", 2000, c3);
+    hf_load(h, "d", "b1", KL_CONN_DELTA, KL_LOAD_PQ, (double[]){385, 385, 385},
+            (double[]){220, 220, 220});
+    hf_load(h, "w", "b2", KL_CONN_WYE, KL_LOAD_PQ, (double[]){485, 68, 290},
+            (double[]){190, 60, 212});
+}
+
+START_TEST(test_regulator_wye_fixed)
+{
+    build_reg(&H, KL_REG_WYE, KL_REG_FIXED);
+    check_agree(&H.f, "wye regulator, fixed taps");
+}
+END_TEST
+
+START_TEST(test_regulator_wye_auto)
+{
+    build_reg(&H, KL_REG_WYE, KL_REG_AUTO);
+    check_agree(&H.f, "wye regulator, automatic");
+}
+END_TEST
+
+START_TEST(test_regulator_closed_delta)
+{
+    build_reg(&H, KL_REG_CLOSED_DELTA, KL_REG_FIXED);
+    check_agree(&H.f, "closed-delta regulator");
+}
+END_TEST
+
+START_TEST(test_regulator_open_delta)
+{
+    build_reg(&H, KL_REG_OPEN_DELTA, KL_REG_FIXED);
+    check_agree(&H.f, "open-delta regulator");
+}
+END_TEST
+
+/* A load far beyond the feeder's capability: reported as non-convergence
+ * with iterations, mismatch, bus and a likely reason, never as results. */
+START_TEST(test_noconv_reported)
+{
+    build_taps(&H);
+    H.load[0].s_va[0] *= 400;
+    H.load[0].s_va[1] *= 400;
+    H.load[0].s_va[2] *= 400;
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_network *net;
+    kl_flow_result *res;
+    kl_status st = solve_with(&H.f, KL_SOLVER_NODAL, 0, &net, &res, &err);
+    ck_assert_int_eq(st, KL_ENOCONV);
+    ck_assert(!res->converged);
+    const char *m = first_error(&err);
+    ck_assert_msg(strstr(m, "did not converge after") && strstr(m, "at bus") &&
+                  strstr(m, "likely reason"), "message: %s", m);
+    kl_flow_result_free(res);
+    kl_network_free(net);
+    kl_errors_free(&err);
+}
+END_TEST
+
+/* A line with zero series impedance has no admittance: a located error. */
+START_TEST(test_zero_impedance_line)
+{
+    build_taps(&H);
+    static const double complex z0[6] = {0};
+    static const double b0[6] = {0};
+    int c = hf_matrix(&H, "nothing", "abc", z0, b0);
+    H.sec[0].construction = c;
+    H.sec[0].loc = (kl_loc){12, 5};
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_network *net;
+    kl_flow_result *res;
+    kl_status st = solve_with(&H.f, KL_SOLVER_NODAL, 0, &net, &res, &err);
+    ck_assert_int_eq(st, KL_EINPUT);
+    ck_assert_int_eq(err.items[0].line, 12);
+    ck_assert_msg(strstr(first_error(&err), "singular"), "%s", first_error(&err));
+    kl_flow_result_free(res);
+    kl_network_free(net);
+    kl_errors_free(&err);
+}
+END_TEST
+
+/* Every allocation of the nodal solver failing in turn gives KL_ENOMEM and
+ * leaks nothing (the sanitizer build checks the leaks). */
+START_TEST(test_alloc_failures)
+{
+    build_taps(&H);
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_network *net = NULL;
+    kl_flow_result *res = NULL;
+    ck_assert_int_eq(kl_network_build(&H.f, &net, &err), KL_OK);
+    ck_assert_int_eq(kl_flow_result_alloc(net, &res, &err), KL_OK);
+    kl_flow_options opt;
+    kl_flow_options_default(&opt);
+    int failures = 0;
+    for (long n = 0; n < 40; n++) {
+        kl_errors_clear(&err);
+        net->v_valid = 0;
+        kl_alloc_fail_after(n);
+        kl_status st = kl_nodal_solve(net, &opt, res, &err);
+        kl_alloc_fail_after(-1);
+        if (st == KL_OK)
+            break;
+        ck_assert_int_eq(st, KL_ENOMEM);
+        failures++;
+    }
+    ck_assert(failures > 3);
+    net->v_valid = 0;
+    ck_assert_int_eq(kl_nodal_solve(net, &opt, res, &err), KL_OK);
+    kl_flow_result_free(res);
+    kl_network_free(net);
+    kl_errors_free(&err);
+}
+END_TEST
+
+int main(void)
+{
+    Suite *s = suite_create("nodal");
+    TCase *tc = tcase_create("agreement");
+    tcase_add_test(tc, test_taps_loads_switch);
+    tcase_add_test(tc, test_thevenin_source);
+    tcase_add_loop_test(tc, test_transformer_connections, 0, (int)(sizeof XF / sizeof XF[0]));
+    tcase_add_test(tc, test_regulator_wye_fixed);
+    tcase_add_test(tc, test_regulator_wye_auto);
+    tcase_add_test(tc, test_regulator_closed_delta);
+    tcase_add_test(tc, test_regulator_open_delta);
+    suite_add_tcase(s, tc);
+    TCase *te = tcase_create("errors");
+    tcase_add_test(te, test_noconv_reported);
+    tcase_add_test(te, test_zero_impedance_line);
+    tcase_add_test(te, test_alloc_failures);
+    suite_add_tcase(s, te);
+    SRunner *sr = srunner_create(s);
+    srunner_run_all(sr, CK_NORMAL);
+    int failed = srunner_ntests_failed(sr);
+    srunner_free(sr);
+    return failed ? EXIT_FAILURE : EXIT_SUCCESS;
+}
