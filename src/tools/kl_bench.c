@@ -1,0 +1,182 @@
+/* kl_bench: times each stage of a load flow on one feeder file.
+ *
+ *   kl_bench [--no-nodal] [--repeat R] FILE
+ *
+ * Stages: load (kl_feeder_load), derive (kl_lines_derive) + build
+ * (kl_network_build), sweep solve (kl_sweep_solve at the file's taps, from
+ * a flat start), nodal solve (kl_nodal_solve: assembly, ordering,
+ * factorisation and iterations, from a flat start).  With --repeat R the
+ * solves run R times and the fastest is printed (the first run pays for
+ * page faults).  Prints one line of key=value pairs for scripts/bench.sh,
+ * with peak resident memory from getrusage (ru_maxrss, KiB on Linux) and
+ * the largest difference between the two solvers' voltages.
+ *
+ * Stage times are process CPU seconds (single-threaded: kilter and KLU use
+ * one core), so that other work on a shared machine does not inflate them;
+ * wall_s is the wall-clock time of the whole run for comparison. */
+#include <complex.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/resource.h>
+#include <sys/stat.h>
+#include <time.h>
+#include "kilter/feeder.h"
+#include "kilter/flow.h"
+#include "kilter/lines.h"
+#include "kilter/network.h"
+
+/* Process CPU time: the machine is shared, and wall time would count the
+ * time other processes hold the cores; the program is single-threaded, so
+ * on an idle machine the two agree.  Wall time is printed for the whole run. */
+static double now(void)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &t);
+    return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+static double wall(void)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+static long peak_kib(void)
+{
+    struct rusage ru;
+    getrusage(RUSAGE_SELF, &ru);
+    return ru.ru_maxrss;
+}
+
+static void print_errors(const char *stage, const kl_errors *err)
+{
+    char buf[1200];
+    for (int k = 0; k < err->count && k < 10; k++) {
+        kl_error_format(&err->items[k], buf, sizeof buf);
+        fprintf(stderr, "kl_bench: %s: %s\n", stage, buf);
+    }
+}
+
+typedef kl_status (*solver_fn)(kl_network *, const kl_flow_options *, kl_flow_result *,
+                               kl_errors *);
+
+/* Fastest of `repeat` flat-start solves; -1 on failure. */
+static double time_solve(solver_fn fn, kl_network *net, kl_flow_result *res, int repeat,
+                         const char *stage, kl_errors *err)
+{
+    kl_flow_options opt;
+    kl_flow_options_default(&opt);
+    double best = INFINITY;
+    for (int r = 0; r < repeat; r++) {
+        net->v_valid = 0;
+        res->total_iterations = 0;
+        double t0 = now();
+        kl_status st = fn(net, &opt, res, err);
+        double t = now() - t0;
+        if (st) {
+            print_errors(stage, err);
+            return -1;
+        }
+        best = t < best ? t : best;
+    }
+    return best;
+}
+
+static void usage(void)
+{
+    fprintf(stderr, "usage: kl_bench [--no-nodal] [--repeat R] FILE\n");
+}
+
+int main(int argc, char **argv)
+{
+    const char *path = NULL;
+    int nodal = 1, repeat = 1;
+    for (int k = 1; k < argc; k++) {
+        if (strcmp(argv[k], "--no-nodal") == 0)
+            nodal = 0;
+        else if (strcmp(argv[k], "--repeat") == 0 && k + 1 < argc)
+            repeat = atoi(argv[++k]);
+        else if (argv[k][0] != '-' && !path)
+            path = argv[k];
+        else {
+            usage();
+            return 2;
+        }
+    }
+    if (!path || repeat < 1) {
+        usage();
+        return 2;
+    }
+    struct stat sb;
+    if (stat(path, &sb) != 0) {
+        fprintf(stderr, "kl_bench: %s: cannot read the file\n", path);
+        return 1;
+    }
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_feeder *f = NULL;
+    kl_network *net = NULL;
+    kl_flow_result *res = NULL;
+    kl_complex *vs = NULL;
+    int rc = 1;
+    double w0 = wall(), t0 = now();
+    if (kl_feeder_load(path, &f, &err)) {
+        print_errors("load", &err);
+        goto done;
+    }
+    double t_load = now() - t0;
+    long rss_load = peak_kib();
+    t0 = now();
+    if (kl_lines_derive(f, KL_CARSON_APPROX, &err)) {
+        print_errors("derive", &err);
+        goto done;
+    }
+    double t_derive = now() - t0;
+    t0 = now();
+    if (kl_network_build(f, &net, &err) || kl_flow_result_alloc(net, &res, &err)) {
+        print_errors("network", &err);
+        goto done;
+    }
+    double t_build = now() - t0;
+    long rss_build = peak_kib();
+    double t_sweep = time_solve(kl_sweep_solve, net, res, repeat, "sweep", &err);
+    if (t_sweep < 0)
+        goto done;
+    int it_sweep = res->iterations;
+    long rss_sweep = peak_kib();
+    double t_nodal = 0, dv = 0;
+    int it_nodal = 0;
+    if (nodal) {
+        size_t nv = 3 * (size_t)net->nbuses;
+        vs = malloc(nv * sizeof *vs);
+        if (!vs)
+            goto done;
+        memcpy(vs, net->v, nv * sizeof *vs);
+        if ((t_nodal = time_solve(kl_nodal_solve, net, res, repeat, "nodal", &err)) < 0)
+            goto done;
+        it_nodal = res->iterations;
+        for (size_t k = 0; k < nv; k++) {
+            double d = cabs(vs[k] - net->v[k]) / net->v_base_ln[k / 3];
+            dv = d > dv ? d : dv;
+        }
+    }
+    long rss = peak_kib();
+    printf("buses=%d sections=%d file_bytes=%lld load_s=%.4f derive_s=%.4f build_s=%.4f "
+           "sweep_s=%.4f sweep_iter=%d nodal_s=%.4f nodal_iter=%d nodal_dv_pu=%.2e "
+           "rss_load_kib=%ld rss_build_kib=%ld rss_sweep_kib=%ld rss_peak_kib=%ld "
+           "bytes_per_bus=%.0f wall_s=%.3f cpu_s=%.3f\n",
+           f->nbuses, f->nsections, (long long)sb.st_size, t_load, t_derive, t_build, t_sweep,
+           it_sweep, t_nodal, it_nodal, dv, rss_load, rss_build, rss_sweep, rss,
+           1024.0 * (double)rss / f->nbuses, wall() - w0, now());
+    rc = 0;
+done:
+    free(vs);
+    kl_flow_result_free(res);
+    kl_network_free(net);
+    kl_feeder_free(f);
+    kl_errors_free(&err);
+    return rc;
+}
