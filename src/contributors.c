@@ -321,14 +321,14 @@ static void rank_bus(const kl_feeder *f, const kl_study_phases *ph,
     }
 }
 
-/* Buses over an unbalance level, worst VUF first (insertion sort: the list
+/* Buses over an unbalance level (and the complaint's bus), worst VUF first (insertion sort: the list
  * is short and qsort has no context argument in C11). */
-static void select_buses(kl_study *s)
+static void select_buses(kl_study *s, int at_bus)
 {
     s->ncbus = 0;
     for (int b = 0; b < s->nbuses; b++) {
         int j;
-        if (s->vuf_flags[b] <= 0)
+        if (s->vuf_flags[b] <= 0 && !(b == at_bus && s->unb[b].defined))
             continue;
         for (j = s->ncbus; j > 0 && s->unb[s->cbus[j - 1]].vuf < s->unb[b].vuf; j--)
             s->cbus[j] = s->cbus[j - 1];
@@ -337,7 +337,7 @@ static void select_buses(kl_study *s)
     }
 }
 
-static kl_status table_alloc(kl_study *s, int max_keep)
+static kl_status table_alloc(kl_study *s, int max_keep, int at_bus)
 {
     size_t nb = (size_t)s->nbuses + 1, items;
     s->cbus = kl_calloc(nb, sizeof *s->cbus);
@@ -347,7 +347,7 @@ static kl_status table_alloc(kl_study *s, int max_keep)
     s->c_remainder = kl_calloc(nb, sizeof *s->c_remainder);
     if (!s->cbus || !s->cstart || !s->c_unbal_total || !s->c_three_phase || !s->c_remainder)
         return KL_ENOMEM;
-    select_buses(s);
+    select_buses(s, at_bus);
     items = (size_t)(s->ncbus > 0 ? s->ncbus : 1) * (size_t)(max_keep > 0 ? max_keep : 1);
     s->ckind = kl_calloc(items, sizeof *s->ckind);
     s->cid = kl_calloc(items, sizeof *s->cid);
@@ -363,7 +363,7 @@ kl_status kl_contrib_rank(const kl_feeder *f, const kl_study_phases *ph,
     kl_status st = paths_check(f, paths, f->source.bus, err);
     if (st != KL_OK)
         return st;
-    st = table_alloc(s, opt->max_contributors);
+    st = table_alloc(s, opt->max_contributors, opt->at_bus);
     if (st == KL_OK)
         st = rank_ws_alloc(f, ph, paths, &r);
     if (st == KL_OK) {

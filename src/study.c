@@ -20,6 +20,7 @@ void kl_study_options_default(kl_study_options *opt)
      * from memory), leaving room for load growth and unseen harmonics. */
     opt->sizing_margin = 0.25;
     opt->max_contributors = 10;
+    opt->at_bus = -1;
 }
 
 void kl_study_free(kl_study *s)

@@ -58,6 +58,8 @@ typedef struct {
     double sizing_margin;        /* neutral sizing: required = (1 + margin) x worst current;
                                     default 0.25 (common practice, see docs-study.md) */
     int max_contributors;        /* kept per bus, largest share first; default 10 */
+    int at_bus;                  /* feeder bus id whose contributors are wanted even
+                                    within the limits (the complaint check); -1 none */
 } kl_study_options;
 
 /* What a contributor is. */
@@ -138,6 +140,23 @@ typedef struct kl_study {
 } kl_study;
 
 void kl_study_options_default(kl_study_options *opt);
+
+/* ---- study_flow.c: the two views over a solved load flow (flow.h,
+ * network.h).  The view copies the network's load list into flat arrays
+ * (owned by the view); everything else points into net and res, which must
+ * outlive it. */
+struct kl_network;
+struct kl_flow_result;
+typedef struct {
+    kl_study_phases ph;
+    kl_study_paths paths;
+    int *ld_load, *ld_bus;       /* [paths.nloads] owned */
+    double *ld_weight;           /* [paths.nloads] owned */
+} kl_study_view;
+
+kl_status kl_study_view_init(kl_study_view *w, const struct kl_network *net,
+                             const struct kl_flow_result *res, kl_errors *err);
+void kl_study_view_free(kl_study_view *w);
 
 /* Runs the whole study.  paths may be NULL (no contributors then).  KL_EARG
  * for missing arrays or non-finite solved values (the element named in

@@ -1,0 +1,314 @@
+/* Tests of the study (src/study.c, study_flow.c, complaint.c) on the IEEE
+ * 13-node feeder solved by kilter, against sequence values computed here
+ * from the published phase voltages, and the neutral identity (physics). */
+#include <check.h>
+#include <complex.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include "kilter/flow.h"
+#include "kilter/lines.h"
+#include "kilter/network.h"
+#include "kilter/study.h"
+#include "study_fixture.h"
+
+#define PI 3.14159265358979323846
+
+typedef struct {
+    kl_feeder *f;
+    kl_network *net;
+    kl_flow_result *res;
+    kl_study_view view;
+    kl_study *s;
+} solved;
+
+static kl_errors err;
+
+static void setup(void) { kl_errors_init(&err); }
+static void teardown(void) { kl_errors_free(&err); }
+
+static void dump_errors(void)
+{
+    char buf[1200];
+    for (int k = 0; k < err.count; k++) {
+        kl_error_format(&err.items[k], buf, sizeof buf);
+        fprintf(stderr, "%s\n", buf);
+    }
+}
+
+/* Loads, derives, solves and studies a feeder file; `ungrounded` isolates
+ * every construction's neutral before the line constants are derived. */
+static void solve_file(const char *rel, int ungrounded, solved *x)
+{
+    char path[1024];
+    kl_flow_options fo;
+    kl_study_options so;
+    memset(x, 0, sizeof *x);
+    snprintf(path, sizeof path, "%s/%s", KILTER_SOURCE_DIR, rel);
+    kl_status st = kl_feeder_load(path, &x->f, &err);
+    if (st == KL_OK && ungrounded)
+        for (int c = 0; c < x->f->nconstructions; c++)
+            x->f->constructions[c].neutral_grounded = 0;
+    if (st == KL_OK)
+        st = kl_lines_derive(x->f, KL_CARSON_APPROX, &err);
+    if (st == KL_OK)
+        st = kl_network_build(x->f, &x->net, &err);
+    if (st == KL_OK)
+        st = kl_flow_result_alloc(x->net, &x->res, &err);
+    kl_flow_options_default(&fo);
+    if (st == KL_OK)
+        st = kl_flow_solve(x->net, &fo, x->res, &err);
+    if (st == KL_OK)
+        st = kl_study_view_init(&x->view, x->net, x->res, &err);
+    kl_study_options_default(&so);
+    if (st == KL_OK)
+        st = kl_study_run(x->f, &x->view.ph, &x->view.paths, &so, &x->s, &err);
+    if (st != KL_OK)
+        dump_errors();
+    ck_assert_int_eq(st, KL_OK);
+}
+
+static void solved_free(solved *x)
+{
+    kl_study_free(x->s);
+    kl_study_view_free(&x->view);
+    kl_flow_result_free(x->res);
+    kl_network_free(x->net);
+    kl_feeder_free(x->f);
+}
+
+/* Published node voltages of the IEEE PES 13-node test feeder (results of
+ * 2004-06-24, /work/shared/reference/ieee-13-node.md): pu of the
+ * line-to-neutral base, degrees; the three-phase nodes. */
+typedef struct { const char *node; double m[3], a[3]; } pub_v;
+static const pub_v pub[] = {
+    { "632", { 1.0210, 1.0420, 1.0174 }, { -2.49, -121.72, 117.83 } },
+    { "633", { 1.0180, 1.0401, 1.0148 }, { -2.56, -121.77, 117.82 } },
+    { "634", { 0.9940, 1.0218, 0.9960 }, { -3.23, -122.22, 117.34 } },
+    { "671", { 0.9900, 1.0529, 0.9778 }, { -5.30, -122.34, 116.02 } },
+    { "680", { 0.9900, 1.0529, 0.9778 }, { -5.30, -122.34, 116.02 } },
+    { "692", { 0.9900, 1.0529, 0.9777 }, { -5.31, -122.34, 116.02 } },
+    { "675", { 0.9835, 1.0553, 0.9758 }, { -5.56, -122.52, 116.03 } },
+};
+
+/* Sequence magnitudes from the published phasors, written out from the
+ * Fortescue definitions (AIEE Trans. 37, 1918) with cexp for the operator a,
+ * independently of src/sequence.c. */
+static void pub_seq(const pub_v *p, double m012[3])
+{
+    kl_complex v[3], a = cexp(I * 2.0 * PI / 3.0);
+    for (int k = 0; k < 3; k++)
+        v[k] = p->m[k] * cexp(I * p->a[k] * PI / 180.0);
+    m012[0] = cabs(v[0] + v[1] + v[2]) / 3.0;
+    m012[1] = cabs(v[0] + a * v[1] + a * a * v[2]) / 3.0;
+    m012[2] = cabs(v[0] + a * a * v[1] + a * v[2]) / 3.0;
+}
+
+/* Tolerance: the load flow agrees with the published voltages within
+ * 0.002 pu per phasor (tests/test_flow_ieee13.c).  A sequence component is a
+ * third of a sum of three phasors, so it moves by at most 0.002 pu; the
+ * printed digits (0.0001 pu, 0.01 deg = 0.00018 pu) add 0.0002.  VUF =
+ * |V2|/|V1| then moves by at most (dV2 + VUF dV1) / (V1 - dV1) < 0.0023. */
+#define SEQ_TOL 0.0022
+#define VUF_TOL 0.0023
+
+START_TEST(ieee13_sequence_matches_published)
+{
+    solved x;
+    solve_file("feeders/reference/ieee-13-node.yaml", 0, &x);
+    for (size_t k = 0; k < sizeof pub / sizeof pub[0]; k++) {
+        double m012[3];
+        int b = kl_feeder_find_bus(x.f, pub[k].node);
+        ck_assert_msg(b >= 0, "bus %s missing", pub[k].node);
+        pub_seq(&pub[k], m012);
+        const kl_seq_point *v = &x.s->vbus[b];
+        ck_assert(v->defined & KL_SEQ_DEF_SEQUENCE);
+        for (int q = 0; q < 3; q++) {
+            double got = cabs(v->x012[q]) / x.res->v_base_ln[b];
+            ck_assert_msg(fabs(got - m012[q]) <= SEQ_TOL, "bus %s |V%d| %.5f pu, published %.5f",
+                          pub[k].node, q, got, m012[q]);
+        }
+        ck_assert_msg(fabs(x.s->unb[b].vuf - m012[2] / m012[1]) <= VUF_TOL,
+                      "bus %s VUF %.5f, published phasors give %.5f", pub[k].node,
+                      x.s->unb[b].vuf, m012[2] / m012[1]);
+    }
+    solved_free(&x);
+}
+END_TEST
+
+/* KCL at a section end: phase currents + neutral + earth return = 0, so
+ * I_n = -(Ia + Ib + Ic) - I_e on every four-wire line, and I_n recomputed
+ * from the construction's tn rows equals the study's (physics). */
+START_TEST(neutral_identity_grounded)
+{
+    solved x;
+    int checked = 0;
+    solve_file("feeders/reference/ieee-13-node.yaml", 0, &x);
+    for (int k = 0; k < x.f->nsections; k++) {
+        const kl_section *sec = &x.f->sections[k];
+        if (isnan(creal(x.s->i_n1[k])) || sec->kind != KL_SEC_LINE)
+            continue;
+        const kl_construction *c = &x.f->constructions[sec->construction];
+        kl_complex in = 0;
+        double scale = cabs(x.s->isec[k].sum) + cabs(x.res->i[3 * k]) + 1.0;
+        for (int r = 0; r < c->ntn; r++)
+            for (int p = 0; p < 3; p++)
+                if (sec->phases & (1 << p))
+                    in += c->tn[r][p] * x.res->i[3 * k + p];
+        ck_assert(cabs(x.s->i_n1[k] + x.s->isec[k].sum + x.s->i_e[k]) <= 1e-9 * scale + 1e-9);
+        ck_assert(cabs(in - x.s->i_n1[k]) <= 1e-9 * (cabs(in) + 1.0));
+        checked++;
+    }
+    ck_assert_int_ge(checked, 5);
+    solved_free(&x);
+}
+END_TEST
+
+/* An isolated neutral has no earth path: it carries the whole residual,
+ * I_n = -(Ia + Ib + Ic) (physics). */
+START_TEST(neutral_identity_ungrounded)
+{
+    solved x;
+    int checked = 0;
+    solve_file("feeders/reference/ieee-13-node.yaml", 1, &x);
+    for (int k = 0; k < x.f->nsections; k++) {
+        const kl_section *sec = &x.f->sections[k];
+        if (isnan(creal(x.s->i_n1[k])) || sec->kind != KL_SEC_LINE
+            || x.f->constructions[sec->construction].kind != KL_CONS_OVERHEAD)
+            continue;
+        double scale = cabs(x.s->isec[k].sum) + 1.0;
+        ck_assert_msg(cabs(x.s->i_n1[k] + x.s->isec[k].sum) <= 1e-6 * scale,
+                      "section %s: In %.4f A, -sum %.4f A", sec->name,
+                      cabs(x.s->i_n1[k]), cabs(x.s->isec[k].sum));
+        checked++;
+    }
+    ck_assert_int_ge(checked, 5);
+    solved_free(&x);
+}
+END_TEST
+
+/* The demo feeder is built unbalanced on purpose (feeders/demo/README.md):
+ * the study finds a bus over an unbalance level and names contributors
+ * whose shares, with the rest, add to 1 (construction of the remainder). */
+START_TEST(demo_has_broken_limit_and_contributors)
+{
+    solved x;
+    solve_file("feeders/demo/quillmere-f3.yaml", 0, &x);
+    ck_assert_int_ge(x.s->n_vuf_compat, 1);
+    ck_assert(x.s->contrib_done);
+    ck_assert_int_ge(x.s->ncbus, 1);
+    ck_assert_int_ge(x.s->cstart[1] - x.s->cstart[0], 1);
+    ck_assert(x.s->cshare[0] > 0);
+    ck_assert_double_eq_tol(x.s->c_unbal_total[0] + x.s->c_three_phase[0] + x.s->c_remainder[0],
+                            1.0, 1e-9);
+    solved_free(&x);
+}
+END_TEST
+
+/* Complaint check: a reading equal to the model agrees; the IEEE Std 1159
+ * worked example's magnitudes (230, 232, 225 V) give its 1.7 % unbalance
+ * rate (IEEE Std 1159-1995 clause 4.4.4); readings 5 % off disagree. */
+START_TEST(complaint_agrees_and_disagrees)
+{
+    static fx_feeder x;
+    kl_complex z[9];
+    kl_study_options opt;
+    kl_study *s = NULL;
+    kl_complaint_input in = { 0 };
+    kl_complaint_result r;
+    fx_init(&x, 0.4);
+    fx_zsym(0.05 + 0.08 * I, 0.01 + 0.03 * I, z);
+    int c = fx_construction(&x, "lv", 0);
+    int b1 = fx_line(&x, 0, "b1", KL_PH_ABC, c, z);
+    fx_load(&x, "workshop", b1, 0, 150.0, -20.0, 0);
+    fx_solve(&x, NULL);
+    kl_study_options_default(&opt);
+    ck_assert_int_eq(kl_study_run(&x.f, &x.ph, NULL, &opt, &s, &err), KL_OK);
+    in.bus = b1;
+    in.kind = KL_MEAS_LINE;
+    in.tol_pu = 0.02;
+    in.tol_vuf = 0.005;
+    for (int p = 0; p < 3; p++)
+        in.mag[p] = cabs(s->vbus[b1].xll[p]);
+    ck_assert_int_eq(kl_complaint_check(&x.f, s, &x.ph, &in, &r, &err), KL_OK);
+    ck_assert_int_eq(r.mags_agree, 1);
+    ck_assert_int_eq(r.vuf_agree, 1);
+    ck_assert_double_eq_tol(r.model_vuf, s->unb[b1].vuf, 1e-9); /* closed form = phasor VUF */
+    for (int p = 0; p < 3; p++)
+        in.mag[p] *= p == 0 ? 1.05 : 1.0;
+    ck_assert_int_eq(kl_complaint_check(&x.f, s, &x.ph, &in, &r, &err), KL_OK);
+    ck_assert_int_eq(r.mags_agree, 0);
+    /* on the 120 V base (phase readings) */
+    in.kind = KL_MEAS_PHASE;
+    in.mag[0] = 230.0 * 120.0 / 230.0;
+    in.mag[1] = 232.0 * 120.0 / 230.0;
+    in.mag[2] = 225.0 * 120.0 / 230.0;
+    ck_assert_int_eq(kl_complaint_check(&x.f, s, &x.ph, &in, &r, &err), KL_OK);
+    ck_assert_int_eq(r.on_120, 1);
+    ck_assert_double_eq_tol(100.0 * r.meas_rate, 1.7, 0.05);
+    /* readings that fit no base are refused with a message */
+    in.mag[0] = in.mag[1] = in.mag[2] = 50.0;
+    kl_errors_clear(&err);
+    ck_assert_int_eq(kl_complaint_check(&x.f, s, &x.ph, &in, &r, &err), KL_EINPUT);
+    ck_assert_int_ge(err.count, 1);
+    ck_assert_ptr_nonnull(strstr(err.items[0].message, "120 V base"));
+    kl_study_free(s);
+}
+END_TEST
+
+/* Service-voltage classes and the ground-relay share on a hand-solved
+ * feeder: ANSI C84.1 Range A is 114-126 V on 120 V (limits.c, from memory);
+ * the relay flag at half the pickup is common practice. */
+START_TEST(compliance_service_and_relay)
+{
+    static fx_feeder x;
+    kl_complex z[9];
+    kl_study_options opt;
+    kl_study *s = NULL;
+    fx_init(&x, 4.16);
+    fx_zsym(1.0 + 2.0 * I, 0.3 + 0.8 * I, z);
+    int c = fx_construction(&x, "c", 0);
+    int b1 = fx_line(&x, 0, "b1", KL_PH_ABC, c, z);
+    fx_load(&x, "heavy", b1, 0, 200.0, -30.0, 0);
+    fx_solve(&x, NULL);
+    x.f.source.relay_pickup_a = 300.0;
+    kl_study_options_default(&opt);
+    ck_assert_int_eq(kl_study_run(&x.f, &x.ph, NULL, &opt, &s, &err), KL_OK);
+    double va = s->v_pu[3 * b1] * 120.0;
+    int want = va < 110 ? KL_SERVICE_BELOW_B : va < 114 ? KL_SERVICE_B_LOW : KL_SERVICE_A;
+    ck_assert_int_eq(s->service[3 * b1], want);
+    ck_assert(va < 114.0);                      /* 200 A through 2.2 ohm drops phase a */
+    ck_assert_double_eq_tol(cabs(s->head_3i0), 200.0, 1e-9);
+    ck_assert_double_eq_tol(s->relay_ratio, 200.0 / 300.0, 1e-12);
+    ck_assert_int_eq(s->relay_flag, 1);         /* 67 % > 50 % */
+    ck_assert_int_eq(s->lowest_v, b1);
+    ck_assert_int_eq(s->lowest_ph, 0);
+    kl_study_free(s);
+}
+END_TEST
+
+static Suite *suite(void)
+{
+    Suite *s = suite_create("study");
+    TCase *tc = tcase_create("study");
+    tcase_add_checked_fixture(tc, setup, teardown);
+    tcase_set_timeout(tc, 120);
+    tcase_add_test(tc, ieee13_sequence_matches_published);
+    tcase_add_test(tc, neutral_identity_grounded);
+    tcase_add_test(tc, neutral_identity_ungrounded);
+    tcase_add_test(tc, demo_has_broken_limit_and_contributors);
+    tcase_add_test(tc, complaint_agrees_and_disagrees);
+    tcase_add_test(tc, compliance_service_and_relay);
+    suite_add_tcase(s, tc);
+    return s;
+}
+
+int main(void)
+{
+    SRunner *sr = srunner_create(suite());
+    srunner_run_all(sr, CK_NORMAL);
+    int failed = srunner_ntests_failed(sr);
+    srunner_free(sr);
+    return failed ? 1 : 0;
+}
