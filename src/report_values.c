@@ -11,6 +11,7 @@
 #include "kl_internal.h"
 #include "kilter/sequence.h"
 #include "kilter/unbalance.h"
+#include "kilter/flow.h"
 
 /* Phases of bus b that hold a voltage: the bus's mask, and the flow's 0 for
  * absent phases (in case the mask was never filled). */
@@ -123,4 +124,9 @@ kl_status kl_report_input_check(FILE *out, const kl_report_input *in, kl_errors 
         return KL_EARG;
     }
     return KL_OK;
+}
+
+kl_report_phases kl_report_phases_of(const kl_flow_result *res)
+{
+    return (kl_report_phases){res->v, res->v_base_ln, res->i, res->i_neutral};
 }

@@ -33,6 +33,10 @@ typedef struct {
     const kl_complex *i_neutral; /* [nsections] neutral-conductor current, A; NULL if unknown */
 } kl_report_phases;
 
+struct kl_flow_result;
+/* The arrays above, taken from a solved load flow (flow.h). */
+kl_report_phases kl_report_phases_of(const struct kl_flow_result *res);
+
 typedef struct {
     const char *title;           /* NULL: "Unbalance study of <feeder name>" */
     kl_map_index map_index;
