@@ -83,7 +83,9 @@ static double lowest_voltage(const kl_network *n, int *bus)
             if (!(n->phases[b] & (1 << p)))
                 continue;
             double x = cabs(n->v[3 * b + p]) / n->v_base_ln[b];
-            if (!(x >= low)) {
+            if (!isfinite(x))
+                return NAN; /* diverged: there is no meaningful lowest voltage */
+            if (x < low) {
                 low = x;
                 *bus = b;
             }
@@ -113,11 +115,16 @@ static void report_noconv(const kl_network *n, int it, double worst, int where, 
     else
         why = "the iteration creeps toward a solution too slowly: raise the iteration limit, "
               "or look for very large loads or near-zero impedances";
+    char lowtxt[160];
+    if (isfinite(low) && worst < 1.0)
+        snprintf(lowtxt, sizeof lowtxt, "lowest voltage %.3f pu at bus %s", low,
+                 bus_name(n, lowbus, b2, sizeof b2));
+    else
+        snprintf(lowtxt, sizeof lowtxt, "the voltages diverged");
     kl_errors_add(err, n->feeder->path, 0, 0, "load flow",
                   "did not converge after %d iterations: largest voltage change %.3g pu at bus "
-                  "%s; lowest voltage %.3f pu at bus %s; likely reason: %s", it, worst,
-                  bus_name(n, where, b1, sizeof b1), isfinite(low) ? low : 0.0,
-                  bus_name(n, lowbus, b2, sizeof b2), why);
+                  "%s; %s; likely reason: %s", it, worst, bus_name(n, where, b1, sizeof b1),
+                  lowtxt, why);
 }
 
 /* Starts from the source voltages carried through every branch at no load. */

@@ -15,6 +15,7 @@
 #include <stdlib.h>
 #include "flow_fixture.h"
 #include "kilter/flow.h"
+#include "kilter/lines.h"
 #include "kilter/network.h"
 
 static hand_feeder H;
@@ -306,12 +307,36 @@ START_TEST(test_ieee13_fixed_taps)
 }
 END_TEST
 
+/* The bundled feeder file, through the loader and the line constants
+ * (Carson's equations in the approximate form the published tables were
+ * built with). */
+START_TEST(test_ieee13_file)
+{
+    kl_feeder *f = NULL;
+    kl_network *net = NULL;
+    kl_flow_result *res = NULL;
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_status st = kl_feeder_load(KILTER_SOURCE_DIR "/feeders/reference/ieee-13-node.yaml", &f, &err);
+    ck_assert_msg(st == KL_OK, "load: %s", err.count ? err.items[0].message : "?");
+    ck_assert_int_eq(kl_lines_derive(f, KL_CARSON_APPROX, &err), KL_OK);
+    kl_errors_free(&err);
+    solve(f, &net, &res);
+    check13(f, res, 0.002, 0.2);
+    check13_loads(f, res);
+    kl_flow_result_free(res);
+    kl_network_free(net);
+    kl_feeder_free(f);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("flow_ieee13");
     TCase *tc = tcase_create("ieee13");
     tcase_add_test(tc, test_ieee13_published_matrices);
     tcase_add_test(tc, test_ieee13_fixed_taps);
+    tcase_add_test(tc, test_ieee13_file);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
