@@ -9,12 +9,14 @@
 #include "kilter/units.h"
 #include "kl_internal.h"
 
+static const char *label(kl_loader *L);
+
 static void vreport(kl_loader *L, int line, int col, const char *fmt, va_list ap)
 {
     char msg[700];
     vsnprintf(msg, sizeof msg, fmt, ap);
     L->nerr++;
-    if (kl_errors_add(L->err, L->file, line, col, L->elem[0] ? L->elem : NULL, "%s", msg) == KL_ENOMEM)
+    if (kl_errors_add(L->err, L->file, line, col, label(L), "%s", msg) == KL_ENOMEM)
         L->nomem = 1;
 }
 
@@ -35,14 +37,25 @@ void kl_ld_error_at(kl_loader *L, int line, int col, const char *fmt, ...)
     va_end(ap);
 }
 
+/* Only remembered here: the label is formatted when a problem is reported,
+ * which keeps a million clean elements from paying for a million snprintf. */
 void kl_ld_label(kl_loader *L, const char *kind, const char *name, int index)
 {
-    if (name && name[0])
-        snprintf(L->elem, sizeof L->elem, "%s \"%.120s\"", kind, name);
-    else if (index >= 0)
-        snprintf(L->elem, sizeof L->elem, "%s #%d", kind, index + 1);
+    L->elem_kind = kind;
+    L->elem_name = name;
+    L->elem_index = index;
+}
+
+static const char *label(kl_loader *L)
+{
+    const char *kind = L->elem_kind ? L->elem_kind : "";
+    if (L->elem_name && L->elem_name[0])
+        snprintf(L->elem, sizeof L->elem, "%s \"%.120s\"", kind, L->elem_name);
+    else if (L->elem_index >= 0 && kind[0])
+        snprintf(L->elem, sizeof L->elem, "%s #%d", kind, L->elem_index + 1);
     else
         snprintf(L->elem, sizeof L->elem, "%s", kind);
+    return L->elem;
 }
 
 /* Geometric growth: amortised O(1) appends, no per-element allocation. */
@@ -153,6 +166,11 @@ int kl_ld_fields(kl_loader *L, int map, const char *const *keys, kl_fields *fl, 
         kl_ld_error(L, map, "expected a mapping of keys for %s (like '{name: x, ...}')", what);
         return -1;
     }
+    for (key = m->first; key >= 0 && keys[0] && strcmp(keys[0], "name") == 0;
+         key = kl_ynode_at(L->r, kl_ynode_at(L->r, key)->next)->next)
+        if (strcmp(kl_ynode_text(L->r, key), "name") == 0 &&
+            kl_ynode_at(L->r, kl_ynode_at(L->r, key)->next)->kind == KL_YSCALAR)
+            L->elem_name = kl_ynode_text(L->r, kl_ynode_at(L->r, key)->next); /* label unknown keys by name */
     for (key = m->first; key >= 0; key = kl_ynode_at(L->r, kl_ynode_at(L->r, key)->next)->next) {
         int val = kl_ynode_at(L->r, key)->next, found = -1;
         if (kl_ynode_at(L->r, key)->kind != KL_YSCALAR) {

@@ -189,6 +189,7 @@ static void read_stream(kl_loader *L)
         first = 0;
     }
     kl_yreader_consume(L->r);
+    kl_ld_label(L, "", NULL, -1);
     if (expect(L, KL_YEV_DOC_END, "expected the end of the document") < 0)
         return;
     if (kl_yreader_peek(L->r) == KL_YEV_DOC_START)
@@ -236,14 +237,14 @@ static kl_status load(kl_loader *L, kl_feeder **out)
 {
     kl_status s = KL_OK;
     read_stream(L);
-    if (!L->nomem && !kl_yreader_nomem(L->r)) {
+    if (!L->nomem && !kl_yreader_failed(L->r)) {
         kl_ld_resolve(L);
         if (!L->nomem && L->has_source)
             kl_ld_topology(L);
     }
     if (L->nomem || kl_yreader_nomem(L->r))
         s = KL_ENOMEM;
-    else if (L->nerr)
+    else if (L->nerr || kl_yreader_failed(L->r))
         s = KL_EINPUT;
     if (s != KL_OK) {
         kl_feeder_free(L->f);

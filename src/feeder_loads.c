@@ -39,6 +39,7 @@ static const char *elem_name(kl_loader *L, const kl_fields *fl, const char *kind
         return NULL;
     }
     n = kl_ld_strdup(L, n);
+    kl_ld_label(L, kind, n, i); /* buf goes out of scope */
     if (n && kl_names_add(t, n, i) != KL_OK)
         L->nomem = 1;
     return n;

@@ -244,6 +244,7 @@ static const char *section_name(kl_loader *L, const kl_fields *fl, int i)
         return NULL;
     }
     n = kl_ld_strdup(L, buf);
+    kl_ld_label(L, "section", n, i); /* buf goes out of scope */
     return n;
 }
 

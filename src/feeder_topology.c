@@ -43,7 +43,7 @@ static int walk_build(kl_loader *L, walk *w)
         return -1;
     }
     for (i = 0; i < f->nsections; i++)
-        if (f->sections[i].from >= 0 && f->sections[i].to >= 0) {
+        if (f->sections[i].from >= 0 && f->sections[i].to >= 0 && f->sections[i].from != f->sections[i].to) {
             w->start[f->sections[i].from + 1]++;
             w->start[f->sections[i].to + 1]++;
         }
@@ -51,7 +51,7 @@ static int walk_build(kl_loader *L, walk *w)
         w->start[i + 1] += w->start[i];
     for (i = 0; i < f->nsections; i++) {
         const kl_section *s = &f->sections[i];
-        if (s->from < 0 || s->to < 0)
+        if (s->from < 0 || s->to < 0 || s->from == s->to)
             continue;
         w->adj[w->start[s->from]++] = i;
         w->adj[w->start[s->to]++] = i;

@@ -165,6 +165,11 @@ int kl_yreader_nomem(const kl_yreader *r)
     return r->nomem;
 }
 
+int kl_yreader_failed(const kl_yreader *r)
+{
+    return r->failed;
+}
+
 void kl_yreader_reset(kl_yreader *r)
 {
     r->nnodes = 0;

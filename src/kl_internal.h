@@ -155,6 +155,7 @@ kl_yev kl_yreader_peek(kl_yreader *r);
 void kl_yreader_consume(kl_yreader *r);
 void kl_yreader_mark(const kl_yreader *r, int *line, int *col); /* of the peeked event */
 int kl_yreader_nomem(const kl_yreader *r);
+int kl_yreader_failed(const kl_yreader *r); /* a syntax or structure error was reported */
 /* Reads the next complete value into the node pool; root index or -1. */
 int kl_yreader_tree(kl_yreader *r);
 /* Consumes the next complete value without storing it; -1 on error. */
@@ -194,7 +195,10 @@ typedef struct {
     const char *file;
     int nerr;               /* problems this load has reported */
     int nomem;
-    char elem[160];         /* the element being read, for messages */
+    const char *elem_kind;  /* the element being read, for messages (kl_ld_label) */
+    const char *elem_name;
+    int elem_index;
+    char elem[160];         /* its label, formatted when a problem is reported */
     kl_names h_bus, h_cond, h_cable, h_layout, h_cons, h_sec, h_xf, h_reg, h_load, h_cap;
     int cap_conductors, cap_cables, cap_layouts, cap_constructions, cap_buses,
         cap_sections, cap_loads, cap_capacitors, cap_transformers, cap_regulators,

@@ -165,9 +165,9 @@ kl_status kl_units_parse(const char *text, kl_quantity q, int allow_complex,
         return KL_EARG;
     p = scan_complex(skip_ws(text), &re, &im, &cplx);
     if (!p) {
-        snprintf(why, n, "expected a number%s followed by %s, got '%s'",
+        snprintf(why, n, "expected a number%s %s %s, got '%s'",
                  allow_complex ? " (or a complex value like '0.3 + j2.1')" : "",
-                 takes_plain(q) ? "optionally one of" : "one of the units", text);
+                 takes_plain(q) ? "optionally followed by" : "followed by one of", quantities[q].expected, text);
         return KL_EINPUT;
     }
     if (cplx && !allow_complex) {

@@ -1,0 +1,57 @@
+#!/usr/bin/env bash
+# kilter check from the command line: a good file, a broken one (exit 2 and a
+# located message), --help, --version, output formats and the atomic -o write.
+# Usage: bash cli_check.sh KILTER_BINARY SOURCE_DIR
+set -u
+kilter=$1
+src=$2
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+fail() { echo "cli_check: FAIL: $*"; exit 1; }
+
+good="$src/tests/data/good-small.yaml"
+bad="$src/tests/data/broken-phase.yaml"
+
+"$kilter" check "$good" >"$tmp/out" 2>"$tmp/err" || fail "good feeder: exit $?"
+grep -q "Hollowmere test feeder" "$tmp/out" || fail "feeder name missing"
+grep -Eq "^buses +9$" "$tmp/out" || fail "bus count"
+# 2000 + 500 + 300 ft + 0.1 mi = 0.630 mi (1 mi = 5280 ft, NIST SP 811 B.8)
+grep -q "line length       0.630 mi" "$tmp/out" || fail "line length"
+# phase a: 160 (wye) + 17 (distributed) + 100/2 (delta ca) = 227 kW
+grep -Eq "load kW +227.0 +186.0 +457.0 +870.0" "$tmp/out" || fail "per-phase kW"
+grep -q "single-phase: a 0, b 0, c 1; two-phase: ab 0, bc 0, ca 1" "$tmp/out" || fail "taps"
+
+"$kilter" check "$bad" >"$tmp/out" 2>"$tmp/err"
+rc=$?
+[ $rc -eq 2 ] || fail "broken feeder: exit $rc, expected 2"
+grep -q "broken-phase.yaml:13:5: section \"s2\": phases 'b' are not all present at its upstream bus 'b1', which has 'ac'" "$tmp/err" \
+  || { cat "$tmp/err"; fail "broken feeder message not located"; }
+
+"$kilter" check "$tmp/none.yaml" 2>"$tmp/err"
+[ $? -eq 4 ] || fail "missing file: expected exit 4"
+
+"$kilter" --help | grep -q "64  bad command-line usage" || fail "--help lists exit codes"
+"$kilter" check --help | grep -q -- "--format table|csv|json" || fail "check --help"
+"$kilter" --version | grep -Eq "^kilter [0-9]+\.[0-9]+" || fail "--version"
+"$kilter" check --bogus "$good" 2>/dev/null
+[ $? -eq 64 ] || fail "unknown option: expected 64"
+"$kilter" frobnicate 2>/dev/null
+[ $? -eq 64 ] || fail "unknown command: expected 64"
+
+"$kilter" check "$good" --format json >"$tmp/j" || fail "json"
+python3 -c "import json,sys; d=json.load(open(sys.argv[1])); assert d['buses']==9 and d['load_kw']['a']==227" "$tmp/j" \
+  2>/dev/null || { command -v python3 >/dev/null && fail "json content"; }
+"$kilter" check "$good" --format csv | grep -q "^load_kw,a,227," || fail "csv"
+
+# -o: written whole under the final name, no temporary left behind
+"$kilter" check "$good" -o "$tmp/summary.txt" >"$tmp/stdout" || fail "-o"
+[ -s "$tmp/summary.txt" ] && [ ! -s "$tmp/stdout" ] || fail "-o wrote to the wrong place"
+ls "$tmp" | grep -q "\.tmp\." && fail "temporary file left"
+# a failed write leaves nothing: the directory does not exist
+"$kilter" check "$good" -o "$tmp/nodir/summary.txt" 2>/dev/null
+[ $? -eq 4 ] || fail "unwritable -o: expected exit 4"
+[ ! -e "$tmp/nodir" ] || fail "unwritable -o left something"
+# a broken feeder with -o leaves no output file
+"$kilter" check "$bad" -o "$tmp/bad.txt" 2>/dev/null
+[ ! -e "$tmp/bad.txt" ] || fail "output written for a broken feeder"
+echo "cli_check: ok"
