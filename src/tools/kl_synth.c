@@ -36,6 +36,8 @@
 #define TOTAL_KVA 4500.0      /* total connected load: a typical 12.47 kV feeder head */
 #define BUS_KVA_MAX 60.0      /* small feeders: at most this per bus, so laterals stay within ampacity */
 #define SOURCE_PU 1.02        /* substation bus held a little above nominal (common practice) */
+#define UG_BRANCHES_MAX 20    /* underground three-phase branches: a few, whatever N is */
+#define SHORTEN_FROM 2000.0   /* above this many buses, branch and lateral spans shrink */
 
 enum { K_SOURCE, K_TRUNK, K_BRANCH, K_BRANCH_UG, K_TWO, K_ONE };
 
@@ -47,6 +49,8 @@ typedef struct {
     long ntrunk;       /* trunk buses are 1..ntrunk */
     long nthree;       /* three-phase buses are 1..nthree (trunk, then branches) */
     long ntwo;         /* two-phase buses are nthree+1 .. nthree+ntwo */
+    long nug;          /* underground branches so far */
+    double span_scale; /* branch and lateral span multiplier, 0.05..1 */
 } synth_tree;
 
 /* ---------------------------------------------------------------- random numbers */
@@ -94,7 +98,10 @@ static void grow_chains(synth_tree *t, uint64_t *rng, long *next, long count, in
         long at = rng_range(rng, attach_lo, attach_hi);
         int k = kind;
         uint8_t ph = 7;
-        if (kind == K_BRANCH && rng_unit(rng) < 0.15) k = K_BRANCH_UG;
+        if (kind == K_BRANCH && rng_unit(rng) < 0.15 && t->nug < UG_BRANCHES_MAX) {
+            k = K_BRANCH_UG;
+            t->nug++;
+        }
         if (kind == K_TWO) ph = two_phase_masks[rng_range(rng, 0, 2)];
         if (kind == K_ONE) ph = pick_phase(rng, t->phases[at]);
         for (long j = 0; j < len; j++, (*next)++) {
@@ -118,6 +125,11 @@ static int tree_build(synth_tree *t, long n, uint64_t seed)
     long two = n / 10;
     if (two > n - 1 - m) two = n - 1 - m;
     t->ntrunk = m < TRUNK_MAX ? m : TRUNK_MAX;
+    /* Total line length, and with it line charging, would grow with N; spans shrink
+     * as 1/sqrt(N) past SHORTEN_FROM buses so a million-bus feeder carries about
+     * 2,000 mi of line rather than 40,000 (its charging stays well under its load). */
+    t->span_scale = n > SHORTEN_FROM ? sqrt(SHORTEN_FROM / (double)n) : 1.0;
+    if (t->span_scale < 0.05) t->span_scale = 0.05;
     t->nthree = m;
     t->ntwo = two;
     t->parent[0] = -1; t->phases[0] = 7; t->kind[0] = K_SOURCE;
@@ -256,8 +268,8 @@ static long section_length_ft(const synth_tree *t, long i, uint64_t *rng)
         if (each > 2500.0) each = 2500.0;
         return lround(each * (0.8 + 0.4 * u));
     }
-    case K_BRANCH: case K_BRANCH_UG: return 150 + lround(350.0 * u);
-    default: return 80 + lround(220.0 * u);
+    case K_BRANCH: case K_BRANCH_UG: return 3 + lround((150.0 + 350.0 * u) * t->span_scale);
+    default: return 3 + lround((80.0 + 220.0 * u) * t->span_scale);
     }
 }
 
