@@ -20,6 +20,7 @@
  * enumeration when the space is small.  Finally the chosen moves are ordered
  * greedily so that every prefix of the plan is the best next step. */
 #include <math.h>
+#include <stdint.h>
 #include <string.h>
 #include <time.h>
 #include <gsl/gsl_errno.h>
@@ -82,7 +83,12 @@ typedef struct {
     int timed_out;
     int *movable;            /* [nitems] ids of items that may move */
     int nmov;
+    uint64_t *ckey;          /* [CACHE_SIZE] scores of states seen (few items only): */
+    double *cval;            /* key = base-3 digits of the movable items + 1, 0 empty */
 } engine;
+
+#define CACHE_SIZE (1 << 15)
+#define CACHE_ITEMS 40 /* 3^40 < 2^64 */
 
 static double now_s(void)
 {
@@ -112,6 +118,12 @@ static kl_status engine_init(engine *e, kl_rephaser *rp, const kl_rebalance_opti
     for (int i = 0; i < rp->nitems; i++)
         if (rp->items[i].allowed != 1 && !rp->items[i].pinned)
             e->movable[e->nmov++] = i;
+    if (e->nmov <= CACHE_ITEMS) {
+        e->ckey = kl_calloc(CACHE_SIZE, sizeof(uint64_t));
+        e->cval = kl_calloc(CACHE_SIZE, sizeof(double));
+        if (!e->ckey || !e->cval)
+            return KL_ENOMEM;
+    }
     e->t0 = e->last_report = now_s();
     return KL_OK;
 }
@@ -122,6 +134,8 @@ static void engine_free(engine *e)
     kl_free(e->snap);
     kl_free(e->tap0);
     kl_free(e->movable);
+    kl_free(e->ckey);
+    kl_free(e->cval);
     kl_errors_free(&e->scratch);
 }
 
@@ -272,6 +286,31 @@ static double try_state(engine *e, const int *rot, kl_rebalance_summary *sum)
     return engine_eval(e, sum);
 }
 
+/* try_state through the cache of scores already computed (the summaries
+ * are not kept: callers that need them use try_state). */
+static double score_state(engine *e, const int *rot, kl_rebalance_summary *sum)
+{
+    if (!e->ckey)
+        return try_state(e, rot, sum);
+    uint64_t key = 0;
+    for (int q = 0; q < e->nmov; q++)
+        key = 3 * key + (uint64_t)rot[e->movable[q]];
+    key += 1;
+    uint64_t h = (key * 0x9E3779B97F4A7C15ull) >> 49; /* Fibonacci hashing, 15 bits */
+    for (int probe = 0; probe < 16; probe++) {
+        uint64_t k = (h + (uint64_t)probe) & (CACHE_SIZE - 1);
+        if (e->ckey[k] == key)
+            return e->cval[k];
+        if (e->ckey[k] == 0) {
+            double J = try_state(e, rot, sum);
+            e->ckey[k] = key;
+            e->cval[k] = J;
+            return J;
+        }
+    }
+    return try_state(e, rot, sum); /* neighbourhood full: just solve */
+}
+
 /* Greedy construction from x (in/out): the best single change at a time,
  * while it improves the score.  *J is the score of x. */
 static void search_greedy(engine *e, int *x, double *J, kl_rebalance_summary *sum)
@@ -288,7 +327,7 @@ static void search_greedy(engine *e, int *x, double *J, kl_rebalance_summary *su
                 x[i] = r;
                 if (!(e->rp->items[i].allowed & (1 << r)) || !engine_admissible(e, x))
                     continue;
-                double Jc = try_state(e, x, sum);
+                double Jc = score_state(e, x, sum);
                 if (Jc < bJ - 1e-12 * fabs(bJ)) {
                     bJ = Jc;
                     bi = i;
@@ -346,7 +385,7 @@ static double anneal_t0(engine *e, gsl_rng *rng, const int *x, double J, int *y,
     for (int s = 0; s < 20 && !time_up(e); s++) {
         if (!neighbour(e, rng, x, y))
             continue;
-        double Jy = try_state(e, y, sum);
+        double Jy = score_state(e, y, sum);
         if (isfinite(Jy) && Jy > J) {
             up += Jy - J;
             nup++;
@@ -355,8 +394,37 @@ static double anneal_t0(engine *e, gsl_rng *rng, const int *x, double J, int *y,
     return nup ? up / nup : 0.1 * fabs(J) + 1e-12;
 }
 
+/* One annealing round from the best state x (in/out). */
+#define ANNEAL_ROUNDS 3
+static void anneal_round(engine *e, gsl_rng *rng, int *x, double *J, int *cur, int *y,
+                         kl_rebalance_summary *sum, long steps)
+{
+    int n = e->rp->nitems;
+    memcpy(cur, x, sizeof(int) * (size_t)n);
+    double Jcur = *J, T0 = anneal_t0(e, rng, x, *J, y, sum);
+    for (long s = 0; s < steps && !time_up(e); s++) {
+        double T = T0 * pow(1e-3, (double)s / (double)steps);
+        if (!neighbour(e, rng, cur, y))
+            continue;
+        double Jy = score_state(e, y, sum);
+        if (!isfinite(Jy))
+            continue;
+        double d = Jy - Jcur;
+        if (d <= 0 || gsl_rng_uniform(rng) < exp(-d / T)) {
+            memcpy(cur, y, sizeof(int) * (size_t)n);
+            Jcur = Jy;
+            if (Jy < *J - 1e-12 * fabs(*J)) {
+                memcpy(x, y, sizeof(int) * (size_t)n);
+                *J = Jy;
+            }
+        }
+    }
+}
+
 /* Simulated annealing from x (in/out: the best state found); *J its score.
- * Temperature falls geometrically from anneal_t0 to 1/1000 of it. */
+ * ANNEAL_ROUNDS rounds of `steps` each, every round restarting from the best
+ * state with its temperature falling geometrically from anneal_t0 to 1/1000
+ * of it. */
 static kl_status search_anneal(engine *e, int *x, double *J, kl_rebalance_summary *sum,
                                long steps)
 {
@@ -370,25 +438,8 @@ static kl_status search_anneal(engine *e, int *x, double *J, kl_rebalance_summar
         goto done;
     }
     gsl_rng_set(rng, e->opt->seed);
-    memcpy(cur, x, sizeof(int) * (size_t)n);
-    double Jcur = *J, T0 = anneal_t0(e, rng, x, *J, y, sum);
-    for (long s = 0; s < steps && !time_up(e); s++) {
-        double T = T0 * pow(1e-3, (double)s / (double)steps);
-        if (!neighbour(e, rng, cur, y))
-            continue;
-        double Jy = try_state(e, y, sum);
-        if (!isfinite(Jy))
-            continue;
-        double d = Jy - Jcur;
-        if (d <= 0 || gsl_rng_uniform(rng) < exp(-d / T)) {
-            memcpy(cur, y, sizeof(int) * (size_t)n);
-            Jcur = Jy;
-            if (Jy < *J - 1e-12 * fabs(*J)) {
-                memcpy(x, y, sizeof(int) * (size_t)n);
-                *J = Jy;
-            }
-        }
-    }
+    for (int round = 0; round < ANNEAL_ROUNDS; round++)
+        anneal_round(e, rng, x, J, cur, y, sum, steps);
     engine_set_state(e, x);
 done:
     if (rng)
@@ -410,7 +461,7 @@ static int try_change(engine *e, int *x, int *y, double *J, kl_rebalance_summary
         y[j] = rj;
     if (!engine_admissible(e, y))
         return 0;
-    double Jy = try_state(e, y, sum);
+    double Jy = score_state(e, y, sum);
     if (!(Jy < *J - 1e-12 * fabs(*J)))
         return 0;
     memcpy(x, y, sizeof(int) * (size_t)n);
@@ -489,7 +540,7 @@ static void search_exhaustive(engine *e, int *x, double *J, kl_rebalance_summary
             break;
         if (!engine_admissible(e, y))
             continue;
-        double Jy = try_state(e, y, sum);
+        double Jy = score_state(e, y, sum);
         if (Jy < *J - 1e-12 * fabs(*J)) {
             *J = Jy;
             memcpy(x, y, sizeof(int) * (size_t)n);
@@ -618,7 +669,7 @@ static kl_status run_search(engine *e, kl_rebalance_plan *plan, int *x, kl_error
     } else {
         search_greedy(e, x, &J, sum);
         long steps = opt->anneal_steps >= 0 ? opt->anneal_steps
-                                            : (40L * e->nmov > 200 ? 40L * e->nmov : 200);
+                                            : (50L * e->nmov > 1000 ? 50L * e->nmov : 1000);
         if ((st = search_anneal(e, x, &J, sum, steps)) || (st = search_descent(e, x, &J, sum)))
             return st;
     }
