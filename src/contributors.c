@@ -298,12 +298,13 @@ static void rank_bus(const kl_feeder *f, const kl_study_phases *ph,
     for (int L = 0; L < f->nloads; L++) {
         if (isnan(r->share[L]))
             continue;
-        if (f->loads[L].phases == KL_PH_ABC) {
+        /* Three-phase loads are ranked too: an unequal one can outweigh
+         * every single-phase load, and the analyst must see it. */
+        if (f->loads[L].phases == KL_PH_ABC)
             s->c_three_phase[c] += r->share[L];
-        } else {
+        else
             s->c_unbal_total[c] += r->share[L];
-            r->items[n++] = (contrib_item){ KL_CONTRIB_LOAD, L, r->share[L] };
-        }
+        r->items[n++] = (contrib_item){ KL_CONTRIB_LOAD, L, r->share[L] };
     }
     /* A tap with one load would repeat that load's line. */
     for (int q = 0; q < f->nsections; q++)

@@ -64,7 +64,7 @@ typedef struct {
 
 /* What a contributor is. */
 typedef enum {
-    KL_CONTRIB_LOAD = 1,         /* a single- or two-phase load (id: feeder load) */
+    KL_CONTRIB_LOAD = 1,         /* a load, any phasing (id: feeder load) */
     KL_CONTRIB_TAP = 2           /* a lateral: every load past a section with fewer
                                     phases than its upstream bus (id: feeder section) */
 } kl_contrib_kind;
