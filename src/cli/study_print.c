@@ -27,7 +27,7 @@ static void num(FILE *o, const char *fmt, double x, int width)
 static void csv_num(FILE *o, double x)
 {
     if (!isnan(x))
-        fprintf(o, "%.6g", x);
+        fprintf(o, "%.6f", x);
 }
 
 static void json_num(FILE *o, double x)
