@@ -120,7 +120,7 @@ static void name_last_error(kl_errors *err, const char *kind, const char *name)
                  sizeof err->items[0].element, "%s %s", kind, name);
 }
 
-static void bus_motor(const kl_study_options *opt, kl_study *s, int b)
+static void bus_motor(kl_study *s, int b)
 {
     kl_derate_zone zone;
     double factor;
@@ -132,7 +132,6 @@ static void bus_motor(const kl_study_options *opt, kl_study *s, int b)
         s->derate_zone[b] = (int)zone;
         s->derate_factor[b] = factor;
     }
-    (void)opt;
 }
 
 static kl_status eval_bus(const kl_feeder *f, const kl_study_phases *ph,
@@ -140,6 +139,10 @@ static kl_status eval_bus(const kl_feeder *f, const kl_study_phases *ph,
 {
     int mask = bus_phases(f, ph, b);
     const kl_complex *v = &ph->v[3 * b];
+    /* Beyond an open switch the flow leaves every voltage at exactly zero:
+     * a de-energized bus has no indices, and no service class to break. */
+    if (v[0] == 0 && v[1] == 0 && v[2] == 0)
+        mask = 0;
     for (int p = 0; p < 3; p++) {
         s->vll012[3 * b + p] = NAN_C;
         s->v_pu[3 * b + p] = NAN;
@@ -150,7 +153,7 @@ static kl_status eval_bus(const kl_feeder *f, const kl_study_phases *ph,
     s->vuf_flags[b] = -1;
     if (mask == 0) { /* dead or unreached bus: nothing is defined */
         memset(&s->vbus[b], 0, sizeof s->vbus[b]);
-        bus_motor(opt, s, b);
+        bus_motor(s, b);
         return KL_OK;
     }
     if (kl_seq_point_from_phase(mask, v, &s->vbus[b], err) != KL_OK) {
@@ -168,7 +171,7 @@ static kl_status eval_bus(const kl_feeder *f, const kl_study_phases *ph,
         kl_unb_voltage_eval(v, &s->unb[b], NULL);
         s->vuf_flags[b] = kl_limits_vuf(&opt->limits, s->unb[b].vuf);
     }
-    bus_motor(opt, s, b);
+    bus_motor(s, b);
     return KL_OK;
 }
 
