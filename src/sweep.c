@@ -12,42 +12,81 @@
 #include "kilter/flow.h"
 #include "kl_internal.h"
 
+/* Phases of each mask, for kernels that skip absent rows and columns. */
+static const int PH_N[8] = {0, 1, 1, 2, 1, 2, 2, 3};
+static const int PH_L[8][3] = {{0}, {0}, {1}, {0, 1}, {2}, {0, 2}, {1, 2}, {0, 1, 2}};
+
+/* r = M x + sign N y on the phases of mask only (lines and switches: their
+ * matrices are zero outside the mask). */
+static inline void mv2_masked(const kl_complex *M, const kl_complex *x, const kl_complex *N,
+                              const kl_complex *y, double sign, int mask, kl_complex *r)
+{
+    int n = PH_N[mask];
+    const int *l = PH_L[mask];
+    for (int i = 0; i < n; i++) {
+        int p = l[i];
+        kl_complex acc = 0;
+        for (int j = 0; j < n; j++) {
+            int q = l[j];
+            acc += M[3 * p + q] * x[q] + sign * N[3 * p + q] * y[q];
+        }
+        r[p] = acc;
+    }
+}
+
+static inline void mv2_full(const kl_complex *M, const kl_complex *x, const kl_complex *N,
+                            const kl_complex *y, double sign, kl_complex *r)
+{
+    for (int p = 0; p < 3; p++)
+        r[p] = M[3 * p] * x[0] + M[3 * p + 1] * x[1] + M[3 * p + 2] * x[2] +
+               sign * (N[3 * p] * y[0] + N[3 * p + 1] * y[1] + N[3 * p + 2] * y[2]);
+}
+
+static inline int is_masked_kind(int kind)
+{
+    return kind == KL_BR_LINE || kind == KL_BR_SWITCH;
+}
+
 /* Backward sweep: currents from the present voltages. */
 static void sweep_backward(kl_network *n, double scale)
 {
     memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
     kl_load_inject(n, scale);
     for (int k = n->nbranches - 1; k >= 0; k--) {
-        kl_complex *ito = n->i_to + 3 * k, *ifr = n->i_from + 3 * k, t[3];
+        kl_complex *ito = n->i_to + 3 * k, *ifr = n->i_from + 3 * k;
         const kl_complex *vto = n->v + 3 * n->br_to[k], *jto = n->j + 3 * n->br_to[k];
         kl_complex *jfr = n->j + 3 * n->br_from[k];
         memcpy(ito, jto, 3 * sizeof *ito);
-        kl_cm3_vec(n->c + 9 * k, vto, ifr);
-        kl_cm3_vec(n->d + 9 * k, ito, t);
-        for (int p = 0; p < 3; p++) {
-            ifr[p] += t[p];
-            jfr[p] += ifr[p];
+        if (is_masked_kind(n->br_kind[k])) {
+            ifr[0] = ifr[1] = ifr[2] = 0;
+            mv2_masked(n->c + 9 * k, vto, n->d + 9 * k, ito, 1.0, n->br_phases[k], ifr);
+        } else {
+            mv2_full(n->c + 9 * k, vto, n->d + 9 * k, ito, 1.0, ifr);
         }
+        for (int p = 0; p < 3; p++)
+            jfr[p] += ifr[p];
     }
 }
 
 /* Sets v to new values, returning the largest change in per unit (or
  * INFINITY on a non-finite value) and where it sits. */
-static double set_voltage(kl_network *n, int bus, const kl_complex vnew[3], double worst,
-                          int *where)
+static inline double set_voltage(kl_network *n, int bus, const kl_complex vnew[3], double worst,
+                                 int *where)
 {
     kl_complex *v = n->v + 3 * bus;
-    double base = n->v_base_ln[bus];
+    int mask = n->phases[bus];
+    double big = 0;
     for (int p = 0; p < 3; p++) {
-        kl_complex x = (n->phases[bus] & (1 << p)) ? vnew[p] : 0;
-        double dv = cabs(x - v[p]) / base;
-        if (!isfinite(creal(x)) || !isfinite(cimag(x)))
-            dv = INFINITY;
-        if (dv > worst) {
-            worst = dv;
-            *where = bus;
-        }
+        kl_complex x = (mask & (1 << p)) ? vnew[p] : 0, dv = x - v[p];
+        double d2 = creal(dv) * creal(dv) + cimag(dv) * cimag(dv);
+        if (!(d2 <= big)) /* also takes NaN */
+            big = isnan(d2) ? INFINITY : d2;
         v[p] = x;
+    }
+    double dv = sqrt(big) / n->v_base_ln[bus];
+    if (dv > worst) {
+        *where = bus;
+        return dv;
     }
     return worst;
 }
@@ -64,11 +103,12 @@ static double sweep_forward(kl_network *n, int *where)
     }
     double worst = set_voltage(n, n->source, vs, 0.0, where);
     for (int k = 0; k < n->nbranches; k++) {
-        kl_complex vnew[3];
-        kl_cm3_vec(n->A + 9 * k, n->v + 3 * n->br_from[k], vnew);
-        kl_cm3_vec(n->B + 9 * k, n->i_to + 3 * k, t);
-        for (int p = 0; p < 3; p++)
-            vnew[p] -= t[p];
+        kl_complex vnew[3] = {0, 0, 0};
+        const kl_complex *vf = n->v + 3 * n->br_from[k], *ito = n->i_to + 3 * k;
+        if (is_masked_kind(n->br_kind[k]))
+            mv2_masked(n->A + 9 * k, vf, n->B + 9 * k, ito, -1.0, n->br_phases[k], vnew);
+        else
+            mv2_full(n->A + 9 * k, vf, n->B + 9 * k, ito, -1.0, vnew);
         worst = set_voltage(n, n->br_to[k], vnew, worst, where);
     }
     return worst;
