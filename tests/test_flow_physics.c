@@ -463,6 +463,102 @@ START_TEST(test_no_alloc_in_solve)
 }
 END_TEST
 
+
+static void add_regulator(hand_feeder *h, kl_reg_connection conn, int phases, kl_reg_mode mode)
+{
+    int s = hf_section(h, "reg", "src", "out", KL_SEC_REGULATOR);
+    h->sec[s].device = 0;
+    h->sec[s].phases = KL_PH_ABC;
+    kl_regulator *r = &h->reg[0];
+    memset(r, 0, sizeof *r);
+    r->name = "reg";
+    r->conn = conn;
+    r->mode = mode;
+    r->phases = phases;
+    r->steps = 16;
+    r->step_pu = 0.00625;
+    r->voltage_level_v = 122;
+    r->bandwidth_v = 2;
+    r->pt_ratio = 60;
+    r->ct_primary_a = 300;
+    h->f.nregulators = 1;
+}
+
+/* Open-delta regulator (two units, on ab and bc): at no load the regulated
+ * line-to-line voltages are (1 + 0.00625 tap) times the source's and the
+ * third closes the triangle (Kersting ch. 7, from memory). */
+START_TEST(test_regulator_open_delta)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "open delta reg", "src", 12.47);
+    add_regulator(&H, KL_REG_OPEN_DELTA, KL_PH_A | KL_PH_B, KL_REG_FIXED);
+    H.reg[0].tap[0] = 8;
+    H.reg[0].tap[1] = 4;
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    kl_complex *vs = r->v, *vo = r->v + 3;
+    kl_complex ab = (vo[0] - vo[1]) / (vs[0] - vs[1]), bc = (vo[1] - vo[2]) / (vs[1] - vs[2]);
+    ck_assert_msg(cabs(ab - 1.05) < 1e-12, "ab ratio %g", cabs(ab));
+    ck_assert_msg(cabs(bc - 1.025) < 1e-12, "bc ratio %g", cabs(bc));
+    ck_assert(cabs(vo[0] + vo[1] + vo[2]) < 1e-9 * cabs(vo[0])); /* no zero sequence */
+    done(n, r, &e);
+}
+END_TEST
+
+/* A regulator that cannot reach its band stops at its last step (16 of
+ * 5/8 %: the 32-step, +/-10 % regulator, common practice) and the flow
+ * still converges; a band narrower than one step hunts and is reported. */
+START_TEST(test_regulator_limits)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "reg limit", "src", 12.47);
+    add_regulator(&H, KL_REG_WYE, KL_PH_ABC, KL_REG_AUTO);
+    H.reg[0].voltage_level_v = 140;
+    int c = sym_line(&H, 0.5 + 1.2 * I, 0.15 + 0.45 * I, 0);
+    hf_line(&H, "s1", "out", "b1", 3000, c);
+    hf_load(&H, "l", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){500, 500, 500},
+            (double[]){200, 200, 200});
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    for (int p = 0; p < 3; p++)
+        ck_assert_int_eq(r->tap[p], 16);
+    ck_assert(fabs(cabs(r->v[3]) / r->v_base_ln[1] - 1.10) < 1e-12);
+    done(n, r, &e);
+
+    kl_errors_init(&e);
+    H.reg[0].voltage_level_v = 120.3;
+    H.reg[0].bandwidth_v = 0.1;
+    kl_status st = run(&H.f, NULL, &n, &r, &e);
+    ck_assert_int_eq(st, KL_ENOCONV);
+    ck_assert_msg(strstr(first(&e), "did not settle"), "%s", first(&e));
+    done(n, r, &e);
+}
+END_TEST
+
+/* The source angle turns every voltage by the same angle (common practice). */
+START_TEST(test_source_angle)
+{
+    kl_network *n1, *n2;
+    kl_flow_result *r1, *r2;
+    kl_errors e;
+    kl_errors_init(&e);
+    build_mixed(&H);
+    ck_assert(run(&H.f, NULL, &n1, &r1, &e) == KL_OK);
+    H.f.source.angle_deg = 30;
+    ck_assert(run(&H.f, NULL, &n2, &r2, &e) == KL_OK);
+    kl_complex rot = cexp(I * 30 * DEG);
+    for (int k = 0; k < 3 * H.f.nbuses; k++)
+        ck_assert(cabs(r2->v[k] - rot * r1->v[k]) < 1e-6 * 7200);
+    kl_flow_result_free(r1);
+    kl_network_free(n1);
+    done(n2, r2, &e);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("flow_physics");
@@ -480,6 +576,9 @@ int main(void)
     tcase_add_test(tc, test_voltage_collapse);
     tcase_add_test(tc, test_alloc_failure);
     tcase_add_test(tc, test_no_alloc_in_solve);
+    tcase_add_test(tc, test_regulator_open_delta);
+    tcase_add_test(tc, test_regulator_limits);
+    tcase_add_test(tc, test_source_angle);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
