@@ -89,9 +89,12 @@ static kl_status check_ids(const kl_feeder *f, kl_errors *err)
 }
 
 /* Breadth-first search over closed sections.  Fills sec_order (sections in
- * visiting order), rev[s] (1 when reached from its `to` bus) and seen[bus]. */
+ * visiting order), rev[s] (1 when reached from its `to` bus) and seen[bus].
+ * A section that reaches a bus fed already closes a loop: an error for a
+ * radial feeder, a link (links[], *nlinks) when the feeder says radial: false. */
 static kl_status search(const kl_feeder *f, const incidence *g, int *sec_order, int *nsec,
-                        int *rev, int *seen, int *queue, int *used, kl_errors *err)
+                        int *rev, int *seen, int *queue, int *used, int *links, int *nlinks,
+                        kl_errors *err)
 {
     kl_status st = KL_OK;
     int head = 0, tail = 0, n = 0;
@@ -106,6 +109,10 @@ static kl_status search(const kl_feeder *f, const incidence *g, int *sec_order, 
             used[s] = 1;
             const kl_section *sc = &f->sections[s];
             int w = sc->from == u ? sc->to : sc->from;
+            if (seen[w] && !f->radial) {
+                links[(*nlinks)++] = s;
+                continue;
+            }
             if (seen[w]) {
                 char msg[512];
                 snprintf(msg, sizeof msg, "closes a loop (bus %s is already fed another way): "
@@ -444,6 +451,45 @@ static kl_status emit_section(kl_network *n, int s, int reversed, int split, int
     return line_matrices(n, k2, sc, 1.0 - DIST_AT, err);
 }
 
+/* A loop-closing line or closed switch between two buses already placed
+ * (radial: false); it changes no bus's phases, base or parent. */
+static kl_status emit_link(kl_network *n, int s, int *nbr, kl_errors *err)
+{
+    const kl_feeder *f = n->feeder;
+    const kl_section *sc = &f->sections[s];
+    int mask = sc->phases ? sc->phases : n->phases[sc->from] & n->phases[sc->to];
+    kl_status st;
+    if (sc->kind != KL_SEC_LINE && sc->kind != KL_SEC_SWITCH) {
+        net_err(err, f, sc->loc, "section", sc->name, "closes a loop through a transformer or "
+                "regulator: a loop must close through a line or a switch");
+        return KL_ETOPO;
+    }
+    if (sc->kind == KL_SEC_LINE && (st = check_line(n, sc, &mask, err)))
+        return st;
+    if ((mask & ~n->phases[sc->from]) || (mask & ~n->phases[sc->to]) || !mask ||
+        fabs(n->v_base_ln[sc->from] / n->v_base_ln[sc->to] - 1) > 0.01) {
+        net_err(err, f, sc->loc, "section", sc->name, "closes a loop between buses that do not "
+                "both have its phases at the same nominal voltage: check the phases and the "
+                "voltage levels on both sides of the loop");
+        return KL_ETOPO;
+    }
+    int k = (*nbr)++;
+    n->br_from[k] = sc->from;
+    n->br_to[k] = sc->to;
+    n->br_phases[k] = mask;
+    n->br_section[k] = s;
+    n->sec_first[s] = n->sec_last[s] = k;
+    if (sc->kind == KL_SEC_LINE) {
+        n->br_kind[k] = KL_BR_LINE;
+        return line_matrices(n, k, sc, 1.0, err);
+    }
+    n->br_kind[k] = KL_BR_SWITCH;
+    kl_cm3_identity(n->a + 9 * k, mask);
+    memcpy(n->d + 9 * k, n->a + 9 * k, 9 * sizeof(kl_complex));
+    memcpy(n->A + 9 * k, n->a + 9 * k, 9 * sizeof(kl_complex));
+    return KL_OK;
+}
+
 static void source_setup(kl_network *n)
 {
     const kl_source *src = &n->feeder->source;
@@ -540,16 +586,16 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     int *sec_order = kl_calloc(ns, sizeof(int)), *rev = kl_calloc(ns, sizeof(int));
     int *seen = kl_calloc(nb, sizeof(int)), *queue = kl_calloc(nb, sizeof(int));
     int *used = kl_calloc(ns, sizeof(int)), *has_dist = kl_calloc(ns, sizeof(int));
-    int *mid_of = kl_calloc(ns, sizeof(int));
+    int *mid_of = kl_calloc(ns, sizeof(int)), *links = kl_calloc(ns, sizeof(int));
     kl_network *n = kl_calloc(1, sizeof *n);
-    int nsec = 0, nsplit = 0, ndist = 0;
-    if (!sec_order || !rev || !seen || !queue || !used || !has_dist || !mid_of || !n ||
+    int nsec = 0, nsplit = 0, ndist = 0, nlinks = 0;
+    if (!sec_order || !rev || !seen || !queue || !used || !has_dist || !mid_of || !links || !n ||
         (st = incidence_build(f, &g)) != KL_OK) {
         st = KL_ENOMEM;
         goto done;
     }
     n->feeder = f;
-    st = search(f, &g, sec_order, &nsec, rev, seen, queue, used, err);
+    st = search(f, &g, sec_order, &nsec, rev, seen, queue, used, links, &nlinks, err);
     kl_status st2 = report_islands(f, seen, err);
     kl_status st3 = count_distributed(f, has_dist, err);
     if (st || st2 || st3) {
@@ -563,8 +609,9 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     n->nfeeder_buses = f->nbuses;
     n->nbuses = f->nbuses + nsplit;
     n->nbranches = nsec + nsplit;
+    n->nlinks = nlinks;
     n->source = f->source.bus;
-    if ((st = alloc_arrays(n, f, n->nbuses, n->nbranches, f->nloads + ndist)))
+    if ((st = alloc_arrays(n, f, n->nbuses, n->nbranches + nlinks, f->nloads + ndist)))
         goto done;
     for (int s = 0; s < f->nsections; s++)
         n->sec_first[s] = n->sec_last[s] = -1;
@@ -586,6 +633,17 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         }
         n->order[norder++] = n->br_to[n->sec_last[s] >= 0 ? n->sec_last[s] : 0];
     }
+    for (int q = 0; q < nlinks && !st; q++) {
+        if (has_dist[links[q]]) {
+            const kl_section *sc = &f->sections[links[q]];
+            net_err(err, f, sc->loc, "section", sc->name, "closes a loop and carries a "
+                    "distributed load: put the load at a bus, or let another section close "
+                    "the loop");
+            st = KL_ETOPO;
+            break;
+        }
+        st = emit_link(n, links[q], &nbr, err);
+    }
     if (!st)
         st = place_loads(n, mid_of, seen, err);
     if (!st)
@@ -600,6 +658,7 @@ done:
     kl_free(used);
     kl_free(has_dist);
     kl_free(mid_of);
+    kl_free(links);
     if (st) {
         kl_network_free(n);
         return st;

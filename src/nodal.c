@@ -49,7 +49,7 @@ typedef struct kl_nodal {
     int *Ai;               /* [nnz] row indices, sorted within each column */
     kl_complex *Ax;        /* [nnz] values */
     int *vidx;             /* [3*nbuses] unknown of V(bus, phase), -1 when absent */
-    int *iidx;             /* [3*nbranches] unknown of I_to(branch, phase), -1 for lines */
+    int *iidx;             /* [3*(nbranches+nlinks)] unknown of I_to(branch, phase), -1 for lines */
     kl_complex *x;         /* [n] right-hand side in, solution out */
     int *fill;             /* [n] pattern build: entries placed per column */
     int ideal_source;      /* 1: the source bus rows hold V = E */
@@ -79,10 +79,10 @@ static int to_mask(const kl_network *n, int k)
 /* Buses in sweep order (neighbours stay close in memory), then branch currents. */
 static void number_unknowns(const kl_network *n, kl_nodal *w)
 {
-    int u = 0;
+    int u = 0, nbr = n->nbranches + n->nlinks;
     for (int i = 0; i < 3 * n->nbuses; i++)
         w->vidx[i] = -1;
-    for (int i = 0; i < 3 * n->nbranches; i++)
+    for (int i = 0; i < 3 * nbr; i++)
         w->iidx[i] = -1;
     for (int o = -1; o < n->nbuses; o++) {
         int b = o < 0 ? n->source : n->order[o];
@@ -92,7 +92,7 @@ static void number_unknowns(const kl_network *n, kl_nodal *w)
             if (n->phases[b] & (1 << p))
                 w->vidx[3 * b + p] = u++;
     }
-    for (int k = 0; k < n->nbranches; k++) {
+    for (int k = 0; k < nbr; k++) {
         if (is_line(n, k))
             continue;
         for (int p = 0; p < 3; p++)
@@ -212,7 +212,7 @@ static void stamp_source(kl_nodal *w, const kl_network *n)
 static int stamp_all(kl_nodal *w, const kl_network *n)
 {
     stamp_source(w, n);
-    for (int k = 0; k < n->nbranches; k++) {
+    for (int k = 0; k < n->nbranches + n->nlinks; k++) {
         if (!is_line(n, k))
             stamp_device(w, n, k);
         else if (stamp_line(w, n, k))
@@ -339,7 +339,7 @@ static void describe_unknown(const kl_network *n, const kl_nodal *w, int u, char
             snprintf(buf, len, "bus %s phase %c", bus_label(n, i / 3), 'a' + i % 3);
             return;
         }
-    for (int i = 0; i < 3 * n->nbranches; i++)
+    for (int i = 0; i < 3 * (n->nbranches + n->nlinks); i++)
         if (w->iidx[i] == u) {
             snprintf(buf, len, "the current of section %s phase %c",
                      n->feeder->sections[n->br_section[i / 3]].name, 'a' + i % 3);
@@ -371,7 +371,7 @@ static kl_status nodal_alloc(const kl_network *n, kl_nodal **out, kl_errors *err
     if (!w)
         return KL_ENOMEM;
     w->vidx = kl_malloc(sizeof(int) * 3 * (size_t)n->nbuses);
-    w->iidx = kl_malloc(sizeof(int) * (3 * (size_t)n->nbranches + 1));
+    w->iidx = kl_malloc(sizeof(int) * (3 * (size_t)(n->nbranches + n->nlinks) + 1));
     w->taps = kl_calloc(3 * (size_t)n->feeder->nregulators + 1, sizeof(int));
     kl_status st = KL_ENOMEM;
     if (!w->vidx || !w->iidx || !w->taps)
@@ -464,7 +464,7 @@ static double take_solution(const kl_nodal *w, kl_network *n, int *where)
             }
             n->v[3 * b + p] = x;
         }
-    for (int i = 0; i < 3 * n->nbranches; i++)
+    for (int i = 0; i < 3 * (n->nbranches + n->nlinks); i++)
         if (w->iidx[i] >= 0)
             n->i_to[i] = w->x[w->iidx[i]];
     return worst;
@@ -488,12 +488,13 @@ static kl_status solve_step(kl_nodal *w, kl_network *n, int loads, double scale,
 
 /* Branch currents and bus currents from the final voltages, as the sweep
  * leaves them: lines from their pi model, devices from their unknowns
- * (I_from = d I_to); j = loads + currents of the branches leaving the bus. */
+ * (I_from = d I_to); j = loads + currents of the branches leaving the bus,
+ * less what a loop-closing branch delivers into it. */
 static void branch_currents(kl_network *n, double scale)
 {
     memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
     kl_load_inject(n, scale);
-    for (int k = 0; k < n->nbranches; k++) {
+    for (int k = 0; k < n->nbranches + n->nlinks; k++) {
         const kl_complex *vf = n->v + 3 * n->br_from[k], *vt = n->v + 3 * n->br_to[k];
         kl_complex *ifr = n->i_from + 3 * k, *ito = n->i_to + 3 * k, Y[9], dv[3], t[3];
         if (is_line(n, k) && line_admittance(n, k, Y) == 0) {
@@ -511,9 +512,12 @@ static void branch_currents(kl_network *n, double scale)
         } else if (!is_line(n, k)) {
             kl_cm3_vec(n->d + 9 * k, ito, ifr);
         }
-        kl_complex *jf = n->j + 3 * n->br_from[k];
-        for (int p = 0; p < 3; p++)
+        kl_complex *jf = n->j + 3 * n->br_from[k], *jt = n->j + 3 * n->br_to[k];
+        for (int p = 0; p < 3; p++) {
             jf[p] += ifr[p];
+            if (k >= n->nbranches)
+                jt[p] -= ito[p];
+        }
     }
 }
 

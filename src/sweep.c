@@ -182,6 +182,16 @@ kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_resu
 {
     if (!n || !opt || !err)
         return KL_EARG;
+    if (n->nlinks > 0) {
+        const kl_section *sc = &n->feeder->sections[n->br_section[n->nbranches]];
+        char elem[128];
+        snprintf(elem, sizeof elem, "section %s", sc->name ? sc->name : "?");
+        kl_errors_add(err, n->feeder->path, sc->loc.line, sc->loc.col, elem, "closes a loop "
+                      "(the feeder says radial: false): the backward/forward sweep solves "
+                      "radial networks only; use the nodal solver (--solver nodal) or open a "
+                      "switch in the loop");
+        return KL_ETOPO;
+    }
     double scale = opt->load_scale;
     if (!n->v_valid)
         flat_start(n);

@@ -298,6 +298,190 @@ START_TEST(test_regulator_open_delta)
 }
 END_TEST
 
+/* ---- closed loops (radial: false): the nodal solver only ---------------- */
+
+/* A three-phase main and a lateral tied back to the main's end by `tie`
+ * (a line, or a closed switch), loads of several kinds around the loop. */
+static void build_loop(hand_feeder *h, int tie_is_switch)
+{
+    hf_init(h, "loop (hand-built)", "src", 12.47);
+    h->f.radial = 0;
+    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
+    hf_line(h, "m1", "src", "b1", 3000, c3);
+    hf_line(h, "m2", "b1", "b2", 2500, c3);
+    hf_line(h, "m3", "b2", "b3", 2000, c3);
+    hf_line(h, "l1", "b1", "c1", 1500, c3);
+    hf_line(h, "l2", "c1", "c2", 1500, c3);
+    if (tie_is_switch) {
+        hf_section(h, "tie", "c2", "b3", KL_SEC_SWITCH);
+        h->sec[h->f.nsections - 1].phases = KL_PH_ABC;
+    } else {
+        hf_line(h, "tie", "c2", "b3", 1200, c3);
+    }
+    h->sec[h->f.nsections - 1].loc = (kl_loc){41, 7};
+    hf_load(h, "w2", "b2", KL_CONN_WYE, KL_LOAD_PQ, (double[]){400, 300, 350},
+            (double[]){150, 120, 140});
+    hf_load(h, "d3", "b3", KL_CONN_DELTA, KL_LOAD_Z, (double[]){300, 200, 250},
+            (double[]){100, 80, 90});
+    hf_load(h, "w3", "b3", KL_CONN_WYE, KL_LOAD_I, (double[]){120, 0, 200},
+            (double[]){40, 0, 60});
+    hf_load(h, "wc1", "c1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){200, 250, 0},
+            (double[]){60, 90, 0});
+    hf_load(h, "dc2", "c2", KL_CONN_DELTA, KL_LOAD_PQ, (double[]){0, 180, 150},
+            (double[]){0, 70, 50});
+}
+
+/* Kirchhoff's current law at bus b from the result alone: sending-end
+ * currents of sections leaving b, receiving-end currents of sections
+ * arriving, and every load's current from its solved power and voltage
+ * (I = conj(S / V), delta entries between two phases).  Returns the largest
+ * phase residual relative to the largest current meeting at the bus. */
+static double kcl_residual(const kl_feeder *f, const kl_flow_result *r, int b)
+{
+    kl_complex sum[3] = {0};
+    double big = 0;
+    for (int s = 0; s < f->nsections; s++)
+        for (int p = 0; p < 3; p++) {
+            kl_complex x = 0;
+            if (f->sections[s].from == b)
+                x = r->i[3 * s + p];
+            else if (f->sections[s].to == b)
+                x = -r->i_recv[3 * s + p];
+            else
+                continue;
+            sum[p] += x;
+            big = cabs(x) > big ? cabs(x) : big;
+        }
+    for (int l = 0; l < f->nloads; l++) {
+        const kl_load *ld = &f->loads[l];
+        if (ld->bus != b)
+            continue;
+        for (int k = 0; k < 3; k++) {
+            if (!(ld->phases & (1 << k)))
+                continue;
+            int q = (k + 1) % 3;
+            kl_complex v = r->v[3 * b + k] - (ld->conn == KL_CONN_DELTA ? r->v[3 * b + q] : 0);
+            kl_complex i = conj(r->s_load[3 * l + k] / v);
+            sum[k] += i;
+            if (ld->conn == KL_CONN_DELTA)
+                sum[q] -= i;
+        }
+    }
+    double worst = 0;
+    for (int p = 0; p < 3; p++)
+        worst = cabs(sum[p]) > worst ? cabs(sum[p]) : worst;
+    return worst / big;
+}
+
+static void check_loop(int tie_is_switch)
+{
+    build_loop(&H, tie_is_switch);
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_network *net;
+    kl_flow_result *res;
+    kl_status st = solve_with(&H.f, KL_SOLVER_NODAL, 0, &net, &res, &err);
+    ck_assert_msg(st == KL_OK, "nodal on a loop: %s", first_error(&err));
+    ck_assert(res->converged);
+    int tie = H.f.nsections - 1;
+    /* the tie carries real current: the loop is really closed */
+    ck_assert_msg(cabs(res->i[3 * tie]) > 5.0, "tie current %.3g A", cabs(res->i[3 * tie]));
+    /* Kirchhoff's current law at every bus but the source (common practice) */
+    for (int b = 1; b < H.f.nbuses; b++) {
+        double kcl = kcl_residual(&H.f, res, b);
+        ck_assert_msg(kcl <= 1e-5, "bus %s: KCL residual %.3g of the largest current",
+                      H.bus[b].name, kcl);
+    }
+    /* power balance: source input = loads + losses (common practice) */
+    kl_complex bal = 0;
+    double scale = 0;
+    for (int p = 0; p < 3; p++) {
+        bal += res->s_head[p] - res->s_loads[p] - res->s_losses[p];
+        scale += cabs(res->s_head[p]);
+    }
+    ck_assert_msg(cabs(bal) <= 1e-6 * scale, "power balance off by %.3g VA", cabs(bal));
+    if (tie_is_switch) /* a closed switch joins equal voltages */
+        for (int p = 0; p < 3; p++)
+            ck_assert(cabs(res->v[3 * H.sec[tie].from + p] - res->v[3 * H.sec[tie].to + p]) <
+                      1e-9 * res->v_base_ln[0]);
+    kl_flow_result_free(res);
+    kl_network_free(net);
+
+    /* the sweep refuses the same network, naming the section that closes the loop */
+    kl_errors_clear(&err);
+    st = solve_with(&H.f, KL_SOLVER_SWEEP, 0, &net, &res, &err);
+    ck_assert_int_eq(st, KL_ETOPO);
+    ck_assert_str_eq(err.items[0].element, "section tie");
+    ck_assert_int_eq(err.items[0].line, 41);
+    ck_assert_msg(strstr(first_error(&err), "loop") && strstr(first_error(&err), "nodal"),
+                  "%s", first_error(&err));
+    kl_flow_result_free(res);
+    kl_network_free(net);
+    kl_errors_free(&err);
+}
+
+START_TEST(test_loop_through_line)
+{
+    check_loop(0);
+}
+END_TEST
+
+START_TEST(test_loop_through_switch)
+{
+    check_loop(1);
+}
+END_TEST
+
+/* Two identical lines in parallel (a loop of two sections) are one line of
+ * half the series impedance and twice the shunt admittance (parallel
+ * admittances add: circuit theory, common practice).  The nodal solution of
+ * the pair must equal the sweep's solution of the single equivalent line,
+ * and each of the pair carries half the current. */
+START_TEST(test_parallel_lines_equivalent)
+{
+    double complex zh[6];
+    double b2[6];
+    for (int k = 0; k < 6; k++) {
+        zh[k] = Z601[k] / 2;
+        b2[k] = B601[k] * 2;
+    }
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_network *n1, *n2;
+    kl_flow_result *r1, *r2;
+
+    hf_init(&H, "parallel pair", "src", 12.47);
+    H.f.radial = 0;
+    int c = hf_matrix(&H, "601", "abc", Z601, B601);
+    hf_line(&H, "p1", "src", "b1", 4000, c);
+    hf_line(&H, "p2", "src", "b1", 4000, c);
+    hf_load(&H, "l", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){900, 500, 700},
+            (double[]){400, 200, 300});
+    ck_assert_msg(solve_with(&H.f, KL_SOLVER_NODAL, 1e-10, &n1, &r1, &err) == KL_OK, "%s",
+                  first_error(&err));
+    static hand_feeder E;
+    hf_init(&E, "equivalent line", "src", 12.47);
+    int ce = hf_matrix(&E, "601/2", "abc", zh, b2);
+    hf_line(&E, "pe", "src", "b1", 4000, ce);
+    hf_load(&E, "l", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){900, 500, 700},
+            (double[]){400, 200, 300});
+    ck_assert_msg(solve_with(&E.f, KL_SOLVER_SWEEP, 1e-10, &n2, &r2, &err) == KL_OK, "%s",
+                  first_error(&err));
+    for (int p = 0; p < 3; p++) {
+        double dv = cabs(r1->v[3 + p] - r2->v[3 + p]) / r1->v_base_ln[1];
+        ck_assert_msg(dv <= 1e-9, "phase %c: pair and equivalent differ by %.3g pu", 'a' + p, dv);
+        ck_assert(cabs(r1->i[p] - r1->i[3 + p]) <= 1e-9 * cabs(r1->i[p]));
+        ck_assert_msg(cabs(r1->i[p] + r1->i[3 + p] - r2->i[p]) <= 1e-6 * cabs(r2->i[p]),
+                      "phase %c: %.6g vs %.6g A", (char)('a' + p), cabs(r1->i[p] + r1->i[3 + p]), cabs(r2->i[p]));
+    }
+    kl_flow_result_free(r1);
+    kl_flow_result_free(r2);
+    kl_network_free(n1);
+    kl_network_free(n2);
+    kl_errors_free(&err);
+}
+END_TEST
+
 /* A load far beyond the feeder's capability: reported as non-convergence
  * with iterations, mismatch, bus and a likely reason, never as results. */
 START_TEST(test_noconv_reported)
@@ -391,6 +575,11 @@ int main(void)
     tcase_add_test(tc, test_regulator_closed_delta);
     tcase_add_test(tc, test_regulator_open_delta);
     suite_add_tcase(s, tc);
+    TCase *tl = tcase_create("loops");
+    tcase_add_test(tl, test_loop_through_line);
+    tcase_add_test(tl, test_loop_through_switch);
+    tcase_add_test(tl, test_parallel_lines_equivalent);
+    suite_add_tcase(s, tl);
     TCase *te = tcase_create("errors");
     tcase_add_test(te, test_noconv_reported);
     tcase_add_test(te, test_zero_impedance_line);

@@ -53,6 +53,11 @@ typedef struct kl_network {
 
     /* branches in sweep order: parents before children */
     int nbranches;
+    /* loop-closing branches of a feeder declared `radial: false` (lines and
+     * closed switches only): ids nbranches .. nbranches+nlinks-1, after the
+     * tree, in every branch array below.  The sweep refuses a network that
+     * has any; the nodal solver (nodal.c) includes them. */
+    int nlinks;
     int *br_from, *br_to;  /* [nbranches] bus ids */
     int *br_kind;          /* [nbranches] kl_branch_kind */
     int *br_phases;        /* [nbranches] phase mask on the source side */
