@@ -31,6 +31,7 @@
 /* Scale floors: a feeder that is already balanced on an objective would
  * otherwise divide by ~0 (amperes, fraction, watts, amperes, per unit). */
 static const double OBJ_FLOOR[KL_OBJ_COUNT] = {1.0, 1e-4, 1.0, 1.0, 1e-3};
+static const double TWO_PI_3 = 2.0943951023931954923; /* 120 degrees */
 static const char *const OBJ_NAME[KL_OBJ_COUNT] = {"neutral", "vuf", "losses", "current", "drop"};
 
 const char *kl_objective_name(kl_objective o)
@@ -68,6 +69,11 @@ void kl_rebalance_options_default(kl_rebalance_options *opt)
 /* ------------------------------------------------------------ the engine */
 
 typedef struct {
+    int item, r;             /* move item to rotation r */
+    double est;              /* screening estimate of the score */
+} candidate;
+
+typedef struct {
     kl_rephaser *rp;
     kl_network *net;
     const kl_rebalance_options *opt;
@@ -83,6 +89,9 @@ typedef struct {
     int timed_out;
     int *movable;            /* [nitems] ids of items that may move */
     int nmov;
+    int auto_regs;           /* 1: some regulator controls its taps */
+    candidate *cand;         /* [2*nitems] greedy candidates */
+    int ncand;
     uint64_t *ckey;          /* [CACHE_SIZE] scores of states seen (few items only): */
     double *cval;            /* key = base-3 digits of the movable items + 1, 0 empty */
 } engine;
@@ -112,9 +121,12 @@ static kl_status engine_init(engine *e, kl_rephaser *rp, const kl_rebalance_opti
     e->snap = kl_calloc((size_t)opt->nlevels * 3 * (size_t)e->net->nbuses, sizeof(kl_complex));
     e->tap0 = kl_calloc(3 * (size_t)f->nregulators + 1, sizeof(int));
     e->movable = kl_calloc((size_t)rp->nitems + 1, sizeof(int));
-    if (!e->snap || !e->tap0 || !e->movable)
+    e->cand = kl_calloc(2 * (size_t)rp->nitems + 1, sizeof(candidate));
+    if (!e->snap || !e->tap0 || !e->movable || !e->cand)
         return KL_ENOMEM;
     memcpy(e->tap0, e->net->tap, 3 * (size_t)f->nregulators * sizeof(int));
+    for (int r = 0; r < f->nregulators && !opt->flow.fixed_taps; r++)
+        e->auto_regs |= f->regulators[r].mode == KL_REG_AUTO;
     for (int i = 0; i < rp->nitems; i++)
         if (rp->items[i].allowed != 1 && !rp->items[i].pinned)
             e->movable[e->nmov++] = i;
@@ -134,6 +146,7 @@ static void engine_free(engine *e)
     kl_free(e->snap);
     kl_free(e->tap0);
     kl_free(e->movable);
+    kl_free(e->cand);
     kl_free(e->ckey);
     kl_free(e->cval);
     kl_errors_free(&e->scratch);
@@ -166,32 +179,52 @@ static void taps_reset(engine *e)
         kl_network_regulator_update(e->net, r);
 }
 
+/* One full load flow at the present network state.  Without automatic
+ * regulators the sweep itself is the whole load flow; skipping the result
+ * record (the summary reads the network) keeps a candidate to the sweep's
+ * own cost.  With them, kl_flow_solve runs the tap control loop. */
+static kl_status engine_flow(engine *e, const kl_flow_options *fo, kl_errors *err)
+{
+    if (!e->auto_regs)
+        return kl_sweep_solve(e->net, fo, NULL, err);
+    return kl_flow_solve(e->net, fo, e->res, err);
+}
+
+/* Solves level l of the present network state into *sum. */
+static kl_status engine_solve_level(engine *e, int l, kl_rebalance_summary *sum, kl_errors *err)
+{
+    kl_network *n = e->net;
+    size_t nv = 3 * (size_t)n->nbuses;
+    kl_flow_options fo = e->opt->flow;
+    fo.load_scale = e->opt->level[l].scale;
+    taps_reset(e);
+    if (e->snap_valid[l]) {
+        memcpy(n->v, e->snap + l * nv, nv * sizeof(kl_complex));
+        n->v_valid = 1;
+    } else {
+        n->v_valid = 0;
+    }
+    e->evals++;
+    kl_status st = engine_flow(e, &fo, err);
+    if (st) {
+        sum->converged = 0;
+        e->snap_valid[l] = 0;
+        return st;
+    }
+    kl_rebalance_summarize(n, 1, e->opt->neutral_section, sum);
+    memcpy(e->snap + l * nv, n->v, nv * sizeof(kl_complex));
+    e->snap_valid[l] = 1;
+    return KL_OK;
+}
+
 /* Solves every level of the present network state into sum[].  Returns KL_OK
  * or the first failure (with its message in err). */
 static kl_status engine_solve(engine *e, kl_rebalance_summary *sum, kl_errors *err)
 {
-    kl_network *n = e->net;
-    size_t nv = 3 * (size_t)n->nbuses;
     for (int l = 0; l < e->opt->nlevels; l++) {
-        kl_flow_options fo = e->opt->flow;
-        fo.load_scale = e->opt->level[l].scale;
-        taps_reset(e);
-        if (e->snap_valid[l]) {
-            memcpy(n->v, e->snap + l * nv, nv * sizeof(kl_complex));
-            n->v_valid = 1;
-        } else {
-            n->v_valid = 0;
-        }
-        e->evals++;
-        kl_status st = kl_flow_solve(n, &fo, e->res, err);
-        if (st) {
-            sum[l].converged = 0;
-            e->snap_valid[l] = 0;
+        kl_status st = engine_solve_level(e, l, &sum[l], err);
+        if (st)
             return st;
-        }
-        kl_rebalance_summarize(n, e->res, e->opt->neutral_section, &sum[l]);
-        memcpy(e->snap + l * nv, n->v, nv * sizeof(kl_complex));
-        e->snap_valid[l] = 1;
     }
     return KL_OK;
 }
@@ -311,30 +344,137 @@ static double score_state(engine *e, const int *rot, kl_rebalance_summary *sum)
     return try_state(e, rot, sum); /* neighbourhood full: just solve */
 }
 
-/* Greedy construction from x (in/out): the best single change at a time,
- * while it improves the score.  *J is the score of x. */
+/* ------------------------------------------------ screening (greedy) */
+
+/* Current item i draws through its tap at the present solution, cur[3]:
+ * a lateral's tap-branch sending-end current, or a spot load's entries at
+ * their present voltages (taken as constant power). */
+static void item_current(const engine *e, int i, double scale, kl_complex cur[3])
+{
+    const kl_network *n = e->net;
+    const kl_rephase_item *it = &e->rp->items[i];
+    cur[0] = cur[1] = cur[2] = 0;
+    if (it->kind == KL_ITEM_LATERAL) {
+        memcpy(cur, n->i_from + 3 * e->rp->br[it->first_br], 3 * sizeof(kl_complex));
+        return;
+    }
+    const kl_load *ld = &n->feeder->loads[it->load];
+    const kl_complex *v = n->v + 3 * ld->bus;
+    for (int k = 0; k < 3; k++) {
+        if (!(ld->phases & (1 << k)))
+            continue;
+        int p = n->ld_slot[3 * it->load + k], q = (p + 1) % 3;
+        kl_complex vv = ld->conn == KL_CONN_DELTA ? v[p] - v[q] : v[p];
+        if (cabs(vv) == 0)
+            continue;
+        kl_complex c = conj(ld->s_va[k] * scale / vv);
+        cur[p] += c;
+        if (ld->conn == KL_CONN_DELTA)
+            cur[q] -= c;
+    }
+}
+
+/* Screening applies to objectives read at the head from the head currents
+ * alone (neutral at the head, largest head current): a move by dr steps
+ * turns the item's current, I'[p + dr] = I[p] exp(-j 120 dr deg), and the
+ * head currents change by I' - I, to first order. */
+static int screen_possible(const engine *e)
+{
+    const double *w = e->opt->weight;
+    return e->opt->neutral_section < 0 && w[KL_OBJ_VUF] == 0 && w[KL_OBJ_LOSSES] == 0 &&
+           w[KL_OBJ_DROP] == 0;
+}
+
+static double screen_term(const engine *e, int l, const kl_complex ih[3])
+{
+    const double *w = e->opt->weight;
+    double in = cabs(ih[0] + ih[1] + ih[2]);
+    double imax = fmax(cabs(ih[0]), fmax(cabs(ih[1]), cabs(ih[2])));
+    return e->opt->level[l].weight * (w[KL_OBJ_NEUTRAL] * in / e->scale[l][KL_OBJ_NEUTRAL] +
+                                      w[KL_OBJ_CURRENT] * imax / e->scale[l][KL_OBJ_CURRENT]);
+}
+
+/* Estimated score of every candidate (state x set in the network).
+ * Returns 0 when a level does not solve (then no screening). */
+static int screen_estimate(engine *e, const int *x, kl_rebalance_summary *sum)
+{
+    const kl_network *n = e->net;
+    for (int c = 0; c < e->ncand; c++)
+        e->cand[c].est = 0;
+    engine_set_state(e, x);
+    for (int l = 0; l < e->opt->nlevels; l++) {
+        kl_errors_clear(&e->scratch);
+        if (engine_solve_level(e, l, &sum[l], &e->scratch))
+            return 0;
+        const kl_complex *jh = n->j + 3 * n->source;
+        for (int c = 0; c < e->ncand; c++) {
+            kl_complex cur[3], ih[3];
+            int dr = (e->cand[c].r - x[e->cand[c].item] + 3) % 3;
+            kl_complex turn = cexp(-I * TWO_PI_3 * dr);
+            item_current(e, e->cand[c].item, e->opt->level[l].scale, cur);
+            for (int p = 0; p < 3; p++)
+                ih[p] = jh[p] - cur[p];
+            for (int p = 0; p < 3; p++)
+                ih[(p + dr) % 3] += cur[p] * turn;
+            e->cand[c].est += screen_term(e, l, ih);
+        }
+    }
+    return 1;
+}
+
+static int cand_cmp(const void *a, const void *b)
+{
+    double x = ((const candidate *)a)->est, y = ((const candidate *)b)->est;
+    return x < y ? -1 : x > y;
+}
+
+/* Candidates of one greedy step: every unmoved item to each allowed
+ * rotation that keeps x admissible. */
+static void greedy_candidates(engine *e, int *x)
+{
+    e->ncand = 0;
+    for (int q = 0; q < e->nmov; q++) {
+        int i = e->movable[q];
+        if (x[i])
+            continue;
+        for (int r = 1; r < 3; r++) {
+            x[i] = r;
+            if ((e->rp->items[i].allowed & (1 << r)) && engine_admissible(e, x))
+                e->cand[e->ncand++] = (candidate){i, r, 0};
+        }
+        x[i] = 0;
+    }
+}
+
+/* Greedy construction from x (in/out): the best single move at a time,
+ * while it improves the score.  *J is the score of x.  Every candidate taken
+ * is judged by a full load flow; when the objectives allow it the candidates
+ * are tried in the order of a first-order estimate, in blocks, and the step
+ * ends after the first block that holds an improvement (the worst case tries
+ * them all, as the plain greedy does). */
+#define SCREEN_BLOCK 24
 static void search_greedy(engine *e, int *x, double *J, kl_rebalance_summary *sum)
 {
-    int n = e->rp->nitems;
+    int screen = screen_possible(e);
     for (int step = 0; step < e->opt->max_moves && !time_up(e); step++) {
         int bi = -1, br = 0;
         double bJ = *J;
-        for (int q = 0; q < e->nmov && !time_up(e); q++) {
-            int i = e->movable[q], keep = x[i];
-            if (keep)
-                continue;
-            for (int r = 1; r < 3; r++) {
-                x[i] = r;
-                if (!(e->rp->items[i].allowed & (1 << r)) || !engine_admissible(e, x))
-                    continue;
-                double Jc = score_state(e, x, sum);
-                if (Jc < bJ - 1e-12 * fabs(bJ)) {
-                    bJ = Jc;
-                    bi = i;
-                    br = r;
-                }
+        greedy_candidates(e, x);
+        int ordered = screen && screen_estimate(e, x, sum);
+        if (ordered)
+            qsort(e->cand, (size_t)e->ncand, sizeof *e->cand, cand_cmp);
+        for (int c = 0; c < e->ncand && !time_up(e); c++) {
+            if (ordered && c > 0 && c % SCREEN_BLOCK == 0 && bi >= 0)
+                break;
+            int i = e->cand[c].item;
+            x[i] = e->cand[c].r;
+            double Jc = score_state(e, x, sum);
+            x[i] = 0;
+            if (Jc < bJ - 1e-12 * fabs(bJ)) {
+                bJ = Jc;
+                bi = i;
+                br = e->cand[c].r;
             }
-            x[i] = keep;
         }
         if (bi < 0)
             break;
@@ -342,7 +482,6 @@ static void search_greedy(engine *e, int *x, double *J, kl_rebalance_summary *su
         *J = bJ;
     }
     engine_set_state(e, x);
-    (void)n;
 }
 
 /* One random neighbour of x into y: change one item's rotation (to another
@@ -623,7 +762,8 @@ static kl_status check_options(const kl_rephaser *rp, const kl_rebalance_options
         if (!(o->level[l].scale > 0) || !(o->level[l].weight >= 0) ||
             !isfinite(o->level[l].scale) || !isfinite(o->level[l].weight))
             goto bad;
-    if (o->neutral_section >= rp->net->feeder->nsections || !(o->vmin_pu < o->vmax_pu))
+    if (o->neutral_section >= rp->net->feeder->nsections || !(o->vmin_pu < o->vmax_pu) ||
+        !(o->flow.tol_pu > 0) || o->flow.max_iter <= 0)
         goto bad;
     return KL_OK;
 bad:
@@ -668,6 +808,7 @@ static kl_status run_search(engine *e, kl_rebalance_plan *plan, int *x, kl_error
         search_exhaustive(e, x, &J, sum);
     } else {
         search_greedy(e, x, &J, sum);
+        plan->seconds_greedy = now_s() - e->t0;
         long steps = opt->anneal_steps >= 0 ? opt->anneal_steps
                                             : (50L * e->nmov > 1000 ? 50L * e->nmov : 1000);
         if ((st = search_anneal(e, x, &J, sum, steps)) || (st = search_descent(e, x, &J, sum)))

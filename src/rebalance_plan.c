@@ -43,21 +43,20 @@ void kl_rebalance_plan_free(kl_rebalance_plan *p)
     kl_free(p);
 }
 
-static void summarize_voltages(const kl_network *n, const kl_flow_result *res,
-                               kl_rebalance_summary *s)
+static void summarize_voltages(const kl_network *n, kl_rebalance_summary *s)
 {
     s->v_min_pu = INFINITY;
     s->v_max_pu = -INFINITY;
     s->v_min_bus = s->v_max_bus = -1;
     s->vuf_max = 0;
     s->vuf_bus = -1;
-    for (int b = 0; b < res->nbuses; b++) {
-        const kl_complex *v = res->v + 3 * b;
-        double base = res->v_base_ln[b];
-        if (!(base > 0) || !res->phases[b])
+    for (int b = 0; b < n->nfeeder_buses; b++) {
+        const kl_complex *v = n->v + 3 * b;
+        double base = n->v_base_ln[b];
+        if (!(base > 0) || !n->phases[b])
             continue;
         for (int p = 0; p < 3; p++) {
-            if (!(res->phases[b] & (1 << p)))
+            if (!(n->phases[b] & (1 << p)))
                 continue;
             double x = cabs(v[p]) / base;
             if (x < s->v_min_pu) {
@@ -69,7 +68,7 @@ static void summarize_voltages(const kl_network *n, const kl_flow_result *res,
                 s->v_max_bus = b;
             }
         }
-        if (res->phases[b] != KL_PH_ABC)
+        if (n->phases[b] != KL_PH_ABC)
             continue;
         kl_complex s012[3];
         kl_seq_from_phase(v, s012);
@@ -81,14 +80,27 @@ static void summarize_voltages(const kl_network *n, const kl_flow_result *res,
     }
     if (s->v_min_bus < 0)
         s->v_min_pu = s->v_max_pu = 0;
-    (void)n;
 }
 
-void kl_rebalance_summarize(const kl_network *n, const kl_flow_result *res, int neutral_section,
+/* Real losses: power in at every branch's sending end minus power out at its
+ * receiving end (the sum flow.c forms per section). */
+static double network_losses(const kl_network *n)
+{
+    double w = 0;
+    for (int k = 0; k < n->nbranches; k++) {
+        const kl_complex *vf = n->v + 3 * n->br_from[k], *vt = n->v + 3 * n->br_to[k];
+        const kl_complex *jf = n->i_from + 3 * k, *jt = n->i_to + 3 * k;
+        for (int p = 0; p < 3; p++)
+            w += creal(vf[p] * conj(jf[p]) - vt[p] * conj(jt[p]));
+    }
+    return w;
+}
+
+void kl_rebalance_summarize(const kl_network *n, int converged, int neutral_section,
                             kl_rebalance_summary *s)
 {
     memset(s, 0, sizeof *s);
-    s->converged = res->converged;
+    s->converged = converged;
     const kl_complex *jh = n->j + 3 * n->source;
     kl_complex sum = 0;
     for (int p = 0; p < 3; p++) {
@@ -97,13 +109,13 @@ void kl_rebalance_summarize(const kl_network *n, const kl_flow_result *res, int 
     }
     s->i_residual = cabs(sum);
     s->i_residual_at = s->i_residual;
-    if (neutral_section >= 0 && neutral_section < res->nsections) {
-        const kl_complex *i = res->i + 3 * neutral_section;
-        s->i_residual_at = res->sec_solved[neutral_section] ? cabs(i[0] + i[1] + i[2]) : 0;
+    if (neutral_section >= 0 && neutral_section < n->feeder->nsections) {
+        int k = n->sec_first[neutral_section];
+        const kl_complex *i = n->i_from + 3 * (k >= 0 ? k : 0);
+        s->i_residual_at = k >= 0 ? cabs(i[0] + i[1] + i[2]) : 0;
     }
-    for (int p = 0; p < 3; p++)
-        s->losses_w += creal(res->s_losses[p]);
-    summarize_voltages(n, res, s);
+    s->losses_w = network_losses(n);
+    summarize_voltages(n, s);
     s->obj[KL_OBJ_NEUTRAL] = s->i_residual_at;
     s->obj[KL_OBJ_VUF] = s->vuf_max;
     s->obj[KL_OBJ_LOSSES] = s->losses_w;

@@ -269,7 +269,7 @@ static void independent_flow(const char *path, double scale, kl_rebalance_summar
     kl_flow_result *res = NULL;
     ck_assert_int_eq(kl_flow_result_alloc(y.net, &res, &y.err), KL_OK);
     ck_assert_int_eq(kl_flow_solve(y.net, &fo, res, &y.err), KL_OK);
-    kl_rebalance_summarize(y.net, res, -1, s);
+    kl_rebalance_summarize(y.net, res->converged, -1, s);
     kl_flow_result_free(res);
     kl_network_free(y.net);
     kl_feeder_free(y.f);

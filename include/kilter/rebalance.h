@@ -183,6 +183,7 @@ typedef struct kl_rebalance_plan {
     int *rot;              /* [nitems] final rotation of every item */
     long evaluations;      /* load flows run (one per level per candidate) */
     double seconds;
+    double seconds_greedy; /* when the greedy construction had its plan (heuristic search) */
     int method;            /* KL_SEARCH_EXHAUSTIVE or KL_SEARCH_HEURISTIC: what ran */
     int timed_out;         /* 1: the time bound cut the search short */
     int nmovable;          /* items with at least one allowed move and not pinned */
@@ -204,9 +205,10 @@ kl_status kl_rebalance_run(kl_rephaser *rp, const kl_rebalance_options *opt,
 kl_status kl_rebalance_evaluate(kl_rephaser *rp, const kl_rebalance_options *opt,
                                 const int *rot, kl_rebalance_summary *out, kl_errors *err);
 
-/* Summary of one solved result (network state after kl_flow_solve). */
-void kl_rebalance_summarize(const kl_network *net, const kl_flow_result *res,
-                            int neutral_section, kl_rebalance_summary *s);
+/* Summary of the network's solved state (after kl_flow_solve or
+ * kl_sweep_solve): read from its voltages and branch currents. */
+void kl_rebalance_summarize(const kl_network *net, int converged, int neutral_section,
+                            kl_rebalance_summary *s);
 
 /* ----------------------------------------------------------- feeder file */
 

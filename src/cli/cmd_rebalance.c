@@ -340,10 +340,13 @@ static void print_table(FILE *o, const view *w)
 {
     const kl_rebalance_plan *p = w->p;
     fprintf(o, "rebalance: %s\n", w->f->name);
-    fprintf(o, "search: %s, %d movable items, %ld load flows, %.2f s%s\n",
-            p->method == KL_SEARCH_EXHAUSTIVE ? "exhaustive" : "greedy + annealing + descent",
-            p->nmovable, p->evaluations, p->seconds,
-            p->timed_out ? " (stopped by the time limit: the plan may not be the best)" : "");
+    fprintf(o, "search: %s, %d movable items, %ld load flows, %.2f s", p->method ==
+            KL_SEARCH_EXHAUSTIVE ? "exhaustive" : "greedy + annealing + descent", p->nmovable,
+            p->evaluations, p->seconds);
+    if (p->method != KL_SEARCH_EXHAUSTIVE)
+        fprintf(o, " (greedy plan after %.2f s)", p->seconds_greedy);
+    fprintf(o, "%s\n", p->timed_out ? "\n  stopped by the time limit: a longer search may "
+            "find a better plan" : "");
     fprintf(o, "objective:");
     for (int k = 0; k < KL_OBJ_COUNT; k++)
         if (p->weight[k] > 0)
@@ -411,9 +414,10 @@ static void print_json(FILE *o, const view *w)
     fputs("{\"feeder\": ", o);
     kl_cli_json_str(o, w->f->name);
     fprintf(o, ", \"method\": \"%s\", \"movable_items\": %d, \"load_flows\": %ld, "
-            "\"seconds\": %.3f, \"timed_out\": %s,\n \"objective_weights\": {",
-            p->method == KL_SEARCH_EXHAUSTIVE ? "exhaustive" : "heuristic", p->nmovable,
-            p->evaluations, p->seconds, p->timed_out ? "true" : "false");
+            "\"seconds\": %.3f, \"seconds_greedy\": %.3f, \"timed_out\": %s,\n "
+            "\"objective_weights\": {", p->method == KL_SEARCH_EXHAUSTIVE ? "exhaustive" :
+            "heuristic", p->nmovable, p->evaluations, p->seconds, p->seconds_greedy,
+            p->timed_out ? "true" : "false");
     for (int k = 0; k < KL_OBJ_COUNT; k++)
         fprintf(o, "%s\"%s\": %g", k ? ", " : "", kl_objective_name(k), p->weight[k]);
     fputs("},\n \"levels\": [", o);
