@@ -133,9 +133,21 @@ static kl_status search(const kl_feeder *f, const incidence *g, int *sec_order, 
     return st;
 }
 
+/* An open switch with one end energized and the other not: the usual cause. */
+static const char *open_switch_at_edge(const kl_feeder *f, const int *seen)
+{
+    for (int s = 0; s < f->nsections; s++) {
+        const kl_section *sc = &f->sections[s];
+        if (!sc->closed && seen[sc->from] != seen[sc->to])
+            return sc->name;
+    }
+    return NULL;
+}
+
 static kl_status report_islands(const kl_feeder *f, const int *seen, kl_errors *err)
 {
     int count = 0;
+    const char *edge = open_switch_at_edge(f, seen);
     for (int b = 0; b < f->nbuses; b++) {
         if (seen[b])
             continue;
@@ -152,6 +164,10 @@ static kl_status report_islands(const kl_feeder *f, const int *seen, kl_errors *
             snprintf(msg, sizeof msg, "is not connected to the source bus %s (island: only "
                      "reached through open switch %s): close the switch or remove the buses "
                      "beyond it", f->buses[f->source.bus].name, via);
+        else if (edge)
+            snprintf(msg, sizeof msg, "is not connected to the source bus %s (island, beyond "
+                     "open switch %s): the sweep solves energized buses only; close the switch "
+                     "or remove the buses beyond it", f->buses[f->source.bus].name, edge);
         else
             snprintf(msg, sizeof msg, "is not connected to the source bus %s (island): "
                      "connect it with a section or remove it", f->buses[f->source.bus].name);

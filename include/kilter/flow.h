@@ -69,7 +69,10 @@ void kl_flow_options_default(kl_flow_options *opt);
 kl_status kl_flow_result_alloc(const kl_network *net, kl_flow_result **out, kl_errors *err);
 void kl_flow_result_free(kl_flow_result *res);
 
-/* Solves.  KL_ENOCONV (with iterations, mismatch, bus and a likely reason in
+/* Solves.  Regulators start from the network's present taps (the feeder's
+ * starting taps after kl_network_build) and the final taps stay in net->tap,
+ * so a re-solve (another load level, a rephased load) starts from them.
+ * Voltages start from the previous solution when there is one.  KL_ENOCONV (with iterations, mismatch, bus and a likely reason in
  * `err`) when the sweep or the regulator loop does not settle: `res` is then
  * not a result (converged = 0).  KL_EARG for a solver that is not built. */
 kl_status kl_flow_solve(kl_network *net, const kl_flow_options *opt,
