@@ -92,6 +92,18 @@ const char *kl_report_map_index_name(kl_map_index ix);
  * three-phase part and say so (a browser slows badly past ~10^5 elements). */
 #define KL_PLOT_MAX_SECTIONS 20000
 
+/* report_tables.c: table cells and the tables built from the phase arrays. */
+typedef struct {
+    double key;
+    int id;
+} kl_ranked;
+int kl_report_rank_cmp(const void *a, const void *b); /* qsort: key descending, then id */
+const char *kl_report_bus_name(const kl_feeder *f, int b);
+void kl_html_td_num(FILE *out, const char *fmt, double v); /* NAN -> dash */
+void kl_html_td_name(FILE *out, const char *name);       /* escaped */
+kl_status kl_report_table_unbalance(FILE *out, const kl_report_input *in, kl_errors *err);
+kl_status kl_report_table_neutral(FILE *out, const kl_report_input *in, kl_errors *err);
+
 /* The trade's usual phase colours are not one convention: these are ours,
  * stated in every legend (phase a dark red, b dark blue, c amber). */
 #define KL_COLOUR_A "#a4262c"

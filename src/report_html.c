@@ -12,18 +12,6 @@
 #include "kl_internal.h"
 #include "kilter/sequence.h"
 
-typedef struct {
-    double key;
-    int id;
-} ranked;
-
-static int by_key_desc(const void *a, const void *b)
-{
-    double x = ((const ranked *)a)->key, y = ((const ranked *)b)->key;
-    if (x != y)
-        return x < y ? 1 : -1;
-    return ((const ranked *)a)->id - ((const ranked *)b)->id; /* ties: file order */
-}
 
 /* Summary figures gathered in one pass over buses and sections. */
 typedef struct {
@@ -72,10 +60,6 @@ static void gather(summary *s, const kl_report_input *in)
     }
 }
 
-static const char *bus_name(const kl_feeder *f, int b)
-{
-    return b >= 0 && f->buses[b].name ? f->buses[b].name : "?";
-}
 
 static void css(FILE *out)
 {
@@ -143,7 +127,7 @@ static void summary_cards(FILE *out, const kl_report_input *in, const summary *s
     card_open(out, "Lowest voltage");
     if (s->vmin_bus >= 0) {
         fprintf(out, KL_NUM_PU " pu</span><br>bus ", s->vmin);
-        kl_xml_escape(out, bus_name(f, s->vmin_bus));
+        kl_xml_escape(out, kl_report_bus_name(f, s->vmin_bus));
         fprintf(out, ", phase %c", "abc"[s->vmin_ph]);
     } else
         fputs("&ndash;</span>", out);
@@ -151,7 +135,7 @@ static void summary_cards(FILE *out, const kl_report_input *in, const summary *s
     card_open(out, "Highest voltage unbalance factor");
     if (s->vuf_bus >= 0) {
         fprintf(out, KL_NUM_PCT " %%</span><br>bus ", s->vuf);
-        kl_xml_escape(out, bus_name(f, s->vuf_bus));
+        kl_xml_escape(out, kl_report_bus_name(f, s->vuf_bus));
     } else
         fputs("&ndash;</span><br>no three-phase bus", out);
     fputs("</div>\n", out);
@@ -202,15 +186,15 @@ static void cautions(FILE *out)
 
 /* Ranks buses by key(in, b) (NAN = left out), largest first; returns the count. */
 static int rank_buses(const kl_report_input *in, double (*key)(const kl_report_input *, int),
-                      ranked *r)
+                      kl_ranked *r)
 {
     int n = 0;
     for (int b = 0; b < in->feeder->nbuses; b++) {
         double k = key(in, b);
         if (isfinite(k))
-            r[n++] = (ranked){k, b};
+            r[n++] = (kl_ranked){k, b};
     }
-    qsort(r, (size_t)n, sizeof *r, by_key_desc);
+    qsort(r, (size_t)n, sizeof *r, kl_report_rank_cmp);
     return n;
 }
 
@@ -224,7 +208,7 @@ static double neg_vmin(const kl_report_input *in, int b)
 static kl_status worst_buses(FILE *out, const kl_report_input *in, kl_errors *err)
 {
     const kl_feeder *f = in->feeder;
-    ranked *r = kl_malloc(sizeof *r * (size_t)(f->nbuses + 1));
+    kl_ranked *r = kl_malloc(sizeof *r * (size_t)(f->nbuses + 1));
     if (!r) {
         kl_errors_add(err, f->path, 0, 0, NULL, "out of memory ranking buses for the report");
         return KL_ENOMEM;
@@ -233,7 +217,7 @@ static kl_status worst_buses(FILE *out, const kl_report_input *in, kl_errors *er
     int n = rank_buses(in, neg_vmin, r);
     for (int k = 0; k < n && k < WORST_LISTED; k++) {
         fputs(k ? ", " : "", out);
-        kl_xml_escape(out, bus_name(f, r[k].id));
+        kl_xml_escape(out, kl_report_bus_name(f, r[k].id));
         fprintf(out, " " KL_NUM_PU " pu", -r[k].key);
     }
     fputs(n ? ".<br>\nLargest voltage unbalance factor: " : "&ndash;<br>\nLargest voltage "
@@ -241,7 +225,7 @@ static kl_status worst_buses(FILE *out, const kl_report_input *in, kl_errors *er
     n = rank_buses(in, kl_report_vuf_pct, r);
     for (int k = 0; k < n && k < WORST_LISTED; k++) {
         fputs(k ? ", " : "", out);
-        kl_xml_escape(out, bus_name(f, r[k].id));
+        kl_xml_escape(out, kl_report_bus_name(f, r[k].id));
         fprintf(out, " " KL_NUM_PCT " %%", r[k].key);
     }
     fputs(n ? ".</p>\n" : "&ndash; (no three-phase bus)</p>\n", out);
@@ -288,7 +272,7 @@ static kl_status section_phasors(FILE *out, const kl_report_input *in, const sum
 {
     int b = choose_phasor_bus(in, s);
     fputs("<section id=\"phasors\">\n<h2>Phasors at bus ", out);
-    kl_xml_escape(out, bus_name(in->feeder, b));
+    kl_xml_escape(out, kl_report_bus_name(in->feeder, b));
     fputs("</h2>\n<div class=\"plot\">\n", out);
     kl_status st = kl_plot_phasor_write(out, in, b, err);
     fputs("</div>\n<p class=\"note\">Voltages solid, currents of the section feeding the bus "
@@ -296,131 +280,6 @@ static kl_status section_phasors(FILE *out, const kl_report_input *in, const sum
     return st;
 }
 
-static void td_num(FILE *out, const char *fmt, double v)
-{
-    if (!isfinite(v)) {
-        fputs("<td>&ndash;</td>", out);
-        return;
-    }
-    fputs("<td>", out);
-    fprintf(out, fmt, v);
-    fputs("</td>", out);
-}
-
-static void td_name(FILE *out, const char *name)
-{
-    fputs("<td class=\"n\">", out);
-    kl_xml_escape(out, name);
-    fputs("</td>", out);
-}
-
-static void unbalance_row(FILE *out, const kl_report_input *in, int b)
-{
-    double v012[3];
-    kl_unb_voltage u;
-    kl_report_bus_unbalance(in, b, v012, &u);
-    int over = kl_limits_vuf(&in->opt.limits, u.vuf);
-    fputs("<tr>", out);
-    td_name(out, bus_name(in->feeder, b));
-    for (int p = 0; p < 3; p++)
-        td_num(out, KL_NUM_PU, kl_report_v_pu(in, b, p));
-    for (int q = 0; q < 3; q++)
-        td_num(out, KL_NUM_PU, v012[q]);
-    td_num(out, KL_NUM_PCT, 100 * u.vuf);
-    td_num(out, KL_NUM_PCT, 100 * u.lvur);
-    fprintf(out, "<td class=\"n %s\">%s</td></tr>\n", over > 0 ? "bad" : "ok",
-            over < 0 ? "&ndash;" : (over & KL_VUF_OVER_SUPPLY) ? "above both levels"
-            : (over & KL_VUF_OVER_COMPAT) ? "above the lower level" : "within");
-}
-
-static kl_status table_unbalance(FILE *out, const kl_report_input *in, kl_errors *err)
-{
-    const kl_feeder *f = in->feeder;
-    ranked *r = kl_malloc(sizeof *r * (size_t)(f->nbuses + 1));
-    if (!r) {
-        kl_errors_add(err, f->path, 0, 0, NULL, "out of memory ranking buses for the report");
-        return KL_ENOMEM;
-    }
-    int n = 0;
-    for (int b = 0; b < f->nbuses; b++) {
-        double v = kl_report_vuf_pct(in, b);
-        if (isfinite(v))
-            r[n++] = (ranked){v, b};
-    }
-    qsort(r, (size_t)n, sizeof *r, by_key_desc);
-    int rows = n < in->opt.max_table_rows ? n : in->opt.max_table_rows;
-    fputs("<section id=\"unbalance\">\n<h2>Unbalance</h2>\n", out);
-    fprintf(out, "<p class=\"note\">Three-phase buses, largest voltage unbalance factor first "
-            "(%d of %d shown; the CSV output lists all). VUF = |V2|/|V1| (IEC 61000-4-30); "
-            "LVUR = largest deviation of a line voltage from their average, over the average "
-            "(NEMA MG 1).</p>\n", rows, n);
-    fputs("<table class=\"unbalance\">\n<tr><th>bus</th><th>Va pu</th><th>Vb pu</th><th>Vc pu</th>"
-          "<th>V0 pu</th><th>V1 pu</th><th>V2 pu</th><th>VUF %</th><th>LVUR %</th>"
-          "<th>against the limits</th></tr>\n", out);
-    for (int k = 0; k < rows; k++)
-        unbalance_row(out, in, r[k].id);
-    fputs("</table>\n</section>\n", out);
-    kl_free(r);
-    return KL_OK;
-}
-
-static void neutral_row(FILE *out, const kl_report_input *in, int s)
-{
-    const kl_feeder *f = in->feeder;
-    const kl_section *sec = &f->sections[s];
-    char ph[4];
-    fputs("<tr>", out);
-    td_name(out, sec->name);
-    td_name(out, bus_name(f, sec->from));
-    td_name(out, bus_name(f, sec->to));
-    td_name(out, kl_phases_str(sec->phases, ph));
-    for (int p = 0; p < 3; p++)
-        td_num(out, KL_NUM_AMP, (sec->phases >> p) & 1 ? cabs(in->ph.i[3 * s + p]) : NAN);
-    double a = kl_report_neutral_a(in, s), amp = NAN, ratio = NAN;
-    if (sec->kind == KL_SEC_LINE && sec->construction >= 0
-        && sec->construction < f->nconstructions)
-        amp = f->constructions[sec->construction].neutral_ampacity_a;
-    int over = kl_limits_share(a, amp, in->opt.limits.neutral_share, &ratio);
-    td_num(out, KL_NUM_AMP, a);
-    td_num(out, "%.0f", amp > 0 ? amp : NAN);
-    td_num(out, "%.0f", 100 * ratio);
-    fprintf(out, "<td class=\"n %s\">%s</td></tr>\n", over > 0 ? "bad" : "ok",
-            over < 0 ? "rating not known" : over ? "over" : "within");
-}
-
-static kl_status table_neutral(FILE *out, const kl_report_input *in, kl_errors *err)
-{
-    const kl_feeder *f = in->feeder;
-    fputs("<section id=\"neutral\">\n<h2>Neutral current</h2>\n", out);
-    if (!in->ph.i_neutral) {
-        fputs("<p>The load flow gave no neutral currents for this run.</p>\n</section>\n", out);
-        return KL_OK;
-    }
-    ranked *r = kl_malloc(sizeof *r * (size_t)(f->nsections + 1));
-    if (!r) {
-        kl_errors_add(err, f->path, 0, 0, NULL, "out of memory ranking sections for the report");
-        return KL_ENOMEM;
-    }
-    int n = 0;
-    for (int s = 0; s < f->nsections; s++) {
-        double a = kl_report_neutral_a(in, s);
-        if (isfinite(a) && f->sections[s].kind == KL_SEC_LINE)
-            r[n++] = (ranked){a, s};
-    }
-    qsort(r, (size_t)n, sizeof *r, by_key_desc);
-    int rows = n < in->opt.max_table_rows ? n : in->opt.max_table_rows;
-    fprintf(out, "<p class=\"note\">Line sections, largest neutral current first (%d of %d "
-            "shown). Loading is the neutral current over the neutral conductor's ampacity.</p>\n",
-            rows, n);
-    fputs("<table class=\"neutral\">\n<tr><th>section</th><th>from</th><th>to</th><th>phases</th>"
-          "<th>Ia A</th><th>Ib A</th><th>Ic A</th><th>In A</th><th>neutral rating A</th>"
-          "<th>loading %</th><th>against the rating</th></tr>\n", out);
-    for (int k = 0; k < rows; k++)
-        neutral_row(out, in, r[k].id);
-    fputs("</table>\n</section>\n", out);
-    kl_free(r);
-    return KL_OK;
-}
 
 static void section_moves(FILE *out)
 {
@@ -462,9 +321,9 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
         st = section_phasors(out, in, &s, err);
     kl_progress_step(in->progress, "writing the report", 4, 6);
     if (st == KL_OK)
-        st = table_unbalance(out, in, err);
+        st = kl_report_table_unbalance(out, in, err);
     if (st == KL_OK)
-        st = table_neutral(out, in, err);
+        st = kl_report_table_neutral(out, in, err);
     kl_progress_step(in->progress, "writing the report", 5, 6);
     section_moves(out);
     fputs("<p class=\"note\">Written by kilter. Phase colours: a dark red, b dark blue, "
