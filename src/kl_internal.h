@@ -104,6 +104,12 @@ void kl_html_td_name(FILE *out, const char *name);       /* escaped */
 kl_status kl_report_table_unbalance(FILE *out, const kl_report_input *in, kl_errors *err);
 kl_status kl_report_table_neutral(FILE *out, const kl_report_input *in, kl_errors *err);
 
+/* report_study.c: the study's tables (in->study must be set). */
+kl_status kl_report_study_neutral(FILE *out, const kl_report_input *in, kl_errors *err);
+void kl_report_study_runs(FILE *out, const kl_report_input *in);
+void kl_report_study_contrib(FILE *out, const kl_report_input *in);
+void kl_report_study_motors(FILE *out, const kl_report_input *in);
+
 /* The trade's usual phase colours are not one convention: these are ours,
  * stated in every legend (phase a dark red, b dark blue, c amber). */
 #define KL_COLOUR_A "#a4262c"

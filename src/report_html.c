@@ -281,6 +281,25 @@ static kl_status section_phasors(FILE *out, const kl_report_input *in, const sum
 }
 
 
+/* Unbalance, what causes it, and neutral current: from the study when it
+ * ran, else from the phase arrays alone. */
+static kl_status section_tables(FILE *out, const kl_report_input *in, kl_errors *err)
+{
+    kl_status st = kl_report_table_unbalance(out, in, err);
+    if (st != KL_OK)
+        return st;
+    if (in->study)
+        kl_report_study_motors(out, in);
+    fputs("</section>\n", out);
+    if (!in->study)
+        return kl_report_table_neutral(out, in, err);
+    kl_report_study_contrib(out, in);
+    st = kl_report_study_neutral(out, in, err);
+    if (st == KL_OK)
+        kl_report_study_runs(out, in);
+    return st;
+}
+
 static void section_moves(FILE *out)
 {
     fputs("<section id=\"moves\">\n<h2>Suggested phase moves</h2>\n<p>No rebalancing plan was "
@@ -321,9 +340,7 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
         st = section_phasors(out, in, &s, err);
     kl_progress_step(in->progress, "writing the report", 4, 6);
     if (st == KL_OK)
-        st = kl_report_table_unbalance(out, in, err);
-    if (st == KL_OK)
-        st = kl_report_table_neutral(out, in, err);
+        st = section_tables(out, in, err);
     kl_progress_step(in->progress, "writing the report", 5, 6);
     section_moves(out);
     fputs("<p class=\"note\">Written by kilter. Phase colours: a dark red, b dark blue, "

@@ -85,7 +85,7 @@ kl_status kl_report_table_unbalance(FILE *out, const kl_report_input *in, kl_err
           "<th>against the limits</th></tr>\n", out);
     for (int k = 0; k < rows; k++)
         unbalance_row(out, in, r[k].id);
-    fputs("</table>\n</section>\n", out);
+    fputs("</table>\n", out); /* the caller closes the section */
     kl_free(r);
     return KL_OK;
 }

@@ -10,6 +10,7 @@
 #include <string.h>
 #include "kl_internal.h"
 #include "kilter/report.h"
+#include "kilter/study.h"
 
 #define NB 5
 #define NS 4
@@ -426,6 +427,42 @@ START_TEST(tree_layout_layered)
 }
 END_TEST
 
+START_TEST(with_the_study)
+{
+    /* The study's record (study.h) drives the neutral and sizing tables; its
+     * figures appear exactly as KL_NUM_* prints them (the CSV's formats). */
+    fixture x;
+    kl_errors err;
+    kl_status st;
+    build(&x, 1);
+    kl_errors_init(&err);
+    kl_study_phases ph = {.v = x.v, .v_base_ln = x.vbase, .i = x.i, .i_neutral = x.in};
+    kl_study_options so;
+    kl_study_options_default(&so);
+    kl_study *study = NULL;
+    ck_assert_int_eq(kl_study_run(&x.f, &ph, NULL, &so, &study, &err), KL_OK);
+    x.rin.study = study;
+    char *h = render(&x.rin, &st, &err);
+    ck_assert_int_eq(st, KL_OK);
+    ck_assert_ptr_nonnull(strstr(h, "<h3>Neutral sizing</h3>"));
+    ck_assert_ptr_nonnull(strstr(h, "<h2>What causes the unbalance</h2>"));
+    ck_assert_ptr_null(strstr(h, "<script"));
+    /* In RMS of section s<1>: isolated neutral, no triplens declared, so it is
+     * |Ia + Ib + Ic| = 17.32 A (Kirchhoff, worked by hand above) */
+    double rms = cell(h, "<table class=\"neutral\">", "s&lt;1&gt;", 6);
+    ck_assert_double_eq_tol(rms, 17.32, 0.05);
+    char want[64];
+    snprintf(want, sizeof want, "<td>" KL_NUM_AMP "</td>", study->i_n_rms[0]);
+    ck_assert_ptr_nonnull(strstr(strstr(h, "<table class=\"neutral\">"), want));
+    /* the unbalance table's VUF is the study's, in the same format */
+    snprintf(want, sizeof want, "<td>" KL_NUM_PCT "</td>", 100 * study->unb[2].vuf);
+    ck_assert_ptr_nonnull(strstr(strstr(h, "<table class=\"unbalance\">"), want));
+    free(h);
+    kl_study_free(study);
+    kl_errors_free(&err);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("report_html");
@@ -440,6 +477,7 @@ int main(void)
     tcase_add_loop_test(tc, allocation_failures, 0, 2);
     tcase_add_test(tc, progress_reported);
     tcase_add_test(tc, tree_layout_layered);
+    tcase_add_test(tc, with_the_study);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

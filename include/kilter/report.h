@@ -46,9 +46,13 @@ typedef struct {
     int max_table_rows;          /* longest table printed (worst rows first); default 40 */
 } kl_report_options;
 
+struct kl_study;
+
 typedef struct {
     const kl_feeder *feeder;
     kl_report_phases ph;
+    const struct kl_study *study; /* the unbalance study (study.h) of the same solution, or
+                                     NULL: the page then shows what the phases alone give */
     kl_report_options opt;
     kl_progress *progress;       /* may be NULL */
 } kl_report_input;
