@@ -76,7 +76,7 @@ static void css(FILE *out)
           "font-weight:normal}\n.card .big{font-size:20px}\n"
           ".bad{color:#8e1b3c;font-weight:bold}.ok{color:#2f7d3a}\n"
           "table{border-collapse:collapse;background:#fff;font-size:13.5px;margin:6px 0}\n"
-          "th,td{border:1px solid #ddd8cc;padding:3px 9px;text-align:right}\n"
+          "th,td{border:1px solid #ddd8cc;padding:3px 9px;text-align:right}th:first-child{text-align:left}\n"
           "th{background:#efece4}td.n{text-align:left}tr:nth-child(even) td{background:#f7f5f0}\n"
           ".plot{background:#fff;border:1px solid #ddd8cc;border-radius:6px;padding:8px;"
           "overflow-x:auto}\n.caution{background:#fff6e0;border:1px solid #e0c27a;"

@@ -104,7 +104,7 @@ static const char *contrib_name(const kl_feeder *f, int kind, int id)
     return sec_name(f, id);
 }
 
-#define CONTRIB_BUSES 5 /* buses shown; the CSV lists every one */
+#define CONTRIB_BUSES 3 /* buses shown; the CSV lists every one */
 
 void kl_report_study_contrib(FILE *out, const kl_report_input *in)
 {

@@ -54,9 +54,15 @@ static void unbalance_row(FILE *out, const kl_report_input *in, int b)
         kl_html_td_num(out, KL_NUM_PU, v012[q]);
     kl_html_td_num(out, KL_NUM_PCT, 100 * u.vuf);
     kl_html_td_num(out, KL_NUM_PCT, 100 * u.lvur);
-    fprintf(out, "<td class=\"n %s\">%s</td></tr>\n", over > 0 ? "bad" : "ok",
-            over < 0 ? "&ndash;" : (over & KL_VUF_OVER_SUPPLY) ? "above both levels"
-            : (over & KL_VUF_OVER_COMPAT) ? "above the lower level" : "within");
+    const kl_limits *l = &in->opt.limits;
+    if (over < 0)
+        fputs("<td class=\"n\">&ndash;</td></tr>\n", out);
+    else if (over & KL_VUF_OVER_SUPPLY)
+        fprintf(out, "<td class=\"n bad\">over %g %%</td></tr>\n", 100 * l->vuf_supply);
+    else if (over & KL_VUF_OVER_COMPAT)
+        fprintf(out, "<td class=\"n bad\">over %g %%</td></tr>\n", 100 * l->vuf_compat);
+    else
+        fprintf(out, "<td class=\"n ok\">within %g %%</td></tr>\n", 100 * l->vuf_compat);
 }
 
 kl_status kl_report_table_unbalance(FILE *out, const kl_report_input *in, kl_errors *err)
