@@ -28,7 +28,9 @@ void kl_html_td_num(FILE *out, const char *fmt, double v)
         fputs("<td>&ndash;</td>", out);
         return;
     }
-    fputs("<td>", out);
+    /* data-v: the full figure as the CSV outputs print it, for machines;
+     * the cell text: rounded for people */
+    fprintf(out, "<td data-v=\"" KL_NUM_CSV "\">", v);
     fprintf(out, fmt, v);
     fputs("</td>", out);
 }

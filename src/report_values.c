@@ -12,6 +12,7 @@
 #include "kilter/sequence.h"
 #include "kilter/unbalance.h"
 #include "kilter/flow.h"
+#include "kilter/study.h"
 
 /* Phases of bus b that hold a voltage: the bus's mask, and the flow's 0 for
  * absent phases (in case the mask was never filled). */
@@ -25,8 +26,12 @@ int kl_report_bus_phases(const kl_report_input *in, int b)
     return mask ? (m & mask) : m;
 }
 
+/* With a study, its figures are used as they are (bit for bit what its CSV
+ * prints); without one, the same definitions are applied to the phases. */
 double kl_report_v_pu(const kl_report_input *in, int b, int p)
 {
+    if (in->study)
+        return in->study->v_pu[3 * b + p];
     double base = in->ph.v_base_ln[b];
     if (!(base > 0) || !(kl_report_bus_phases(in, b) & (1 << p)))
         return NAN;
@@ -55,6 +60,15 @@ int kl_report_bus_unbalance(const kl_report_input *in, int b, double v012_pu[3],
     u->defined = 0;
     u->vuf = u->v0_v1 = u->vuf_ll = u->lvur = u->pvur = NAN;
     double base = in->ph.v_base_ln[b];
+    if (in->study) {
+        const kl_seq_point *x = &in->study->vbus[b];
+        *u = in->study->unb[b];
+        if (!(x->defined & KL_SEQ_DEF_SEQUENCE) || !(base > 0) || !u->defined)
+            return 0;
+        for (int k = 0; k < 3; k++)
+            v012_pu[k] = cabs(x->x012[k]) / base;
+        return 1;
+    }
     if (kl_report_bus_phases(in, b) != KL_PH_ABC || !(base > 0))
         return 0;
     kl_complex s012[3];
@@ -75,6 +89,8 @@ double kl_report_vuf_pct(const kl_report_input *in, int b)
 
 double kl_report_neutral_a(const kl_report_input *in, int s)
 {
+    if (in->study) /* with the triplen part, as the study's neutral table */
+        return in->study->i_n_rms[s];
     if (!in->ph.i_neutral)
         return NAN;
     double a = cabs(in->ph.i_neutral[s]);

@@ -219,8 +219,8 @@ START_TEST(unbalance_table_figures)
     double v1pu = cell(h, "<table class=\"unbalance\">", "x&quot;y&#39;z", 5);
     ck_assert_double_eq_tol(v1pu, cabs(v1) / (480 / sqrt(3)), 0.00005);
     /* the same figures in the CSV number format (report.h KL_NUM_PCT) */
-    char want[32];
-    snprintf(want, sizeof want, "<td>" KL_NUM_PCT "</td>", 100 * cabs(v2) / cabs(v1));
+    char want[96];
+    snprintf(want, sizeof want, ">" KL_NUM_PCT "</td>", 100 * cabs(v2) / cabs(v1));
     ck_assert_ptr_nonnull(strstr(h, want));
     /* one- and two-phase buses have no sequence values: not in the table */
     const char *t0 = strstr(h, "<table class=\"unbalance\">"), *t1 = strstr(t0, "</table>");
@@ -451,11 +451,13 @@ START_TEST(with_the_study)
      * |Ia + Ib + Ic| = 17.32 A (Kirchhoff, worked by hand above) */
     double rms = cell(h, "<table class=\"neutral\">", "s&lt;1&gt;", 6);
     ck_assert_double_eq_tol(rms, 17.32, 0.05);
-    char want[64];
-    snprintf(want, sizeof want, "<td>" KL_NUM_AMP "</td>", study->i_n_rms[0]);
+    char want[96];
+    snprintf(want, sizeof want, "<td data-v=\"" KL_NUM_CSV "\">" KL_NUM_AMP "</td>",
+             study->i_n_rms[0], study->i_n_rms[0]);
     ck_assert_ptr_nonnull(strstr(strstr(h, "<table class=\"neutral\">"), want));
     /* the unbalance table's VUF is the study's, in the same format */
-    snprintf(want, sizeof want, "<td>" KL_NUM_PCT "</td>", 100 * study->unb[2].vuf);
+    snprintf(want, sizeof want, "<td data-v=\"" KL_NUM_CSV "\">" KL_NUM_PCT "</td>",
+             100 * study->unb[2].vuf, 100 * study->unb[2].vuf);
     ck_assert_ptr_nonnull(strstr(strstr(h, "<table class=\"unbalance\">"), want));
     free(h);
     kl_study_free(study);

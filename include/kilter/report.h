@@ -60,8 +60,10 @@ typedef struct {
 /* Fills the defaults stated in kl_report_options. */
 void kl_report_options_default(kl_report_options *o);
 
-/* Number formats shared by the HTML tables and the CSV outputs, so that both
- * print the same figures (the structural test compares them). */
+/* Number formats of the HTML tables.  Each table cell also carries the
+ * figure as the CSV outputs print it (KL_NUM_CSV, in a data-v attribute), so
+ * the page and the CSV agree to the digit (tests/cli_report_html.sh). */
+#define KL_NUM_CSV "%.6f"  /* the study's and flow's CSV figures */
 #define KL_NUM_PU "%.4f"   /* per-unit voltages and sequence magnitudes */
 #define KL_NUM_PCT "%.2f"  /* unbalance factors and rates, % */
 #define KL_NUM_AMP "%.1f"  /* currents, A */
