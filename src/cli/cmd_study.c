@@ -11,6 +11,7 @@
 #include "kilter/report.h"
 #include "kilter/study.h"
 #include "cli.h"
+#include "cli_progress.h"
 #include "study_print.h"
 
 enum { OPT_AT, OPT_MPHASE, OPT_MLINE, OPT_TOL, OPT_VUFTOL, OPT_LIMIT, OPT_LEVEL, OPT_RANGE,
@@ -176,9 +177,10 @@ static int resolve_at(const kl_cli_args *a, const kl_feeder *f, study_args *x)
 }
 
 static int write_html(const char *path, const kl_feeder *f, const kl_flow_result *res,
-                      const study_args *x)
+                      const kl_study *s, const study_args *x)
 {
     kl_report_input in;
+    kl_progress prog;
     kl_cli_out out;
     kl_errors e;
     int rc;
@@ -188,6 +190,9 @@ static int write_html(const char *path, const kl_feeder *f, const kl_flow_result
     in.ph.v_base_ln = res->v_base_ln;
     in.ph.i = res->i;
     in.ph.i_neutral = res->i_neutral;
+    in.study = s; /* the tables then show the study's own figures, as its CSV */
+    kl_cli_progress_init(&prog);
+    in.progress = &prog;
     kl_report_options_default(&in.opt);
     in.opt.limits = x->so.limits;
     in.opt.load_scale = x->fo.load_scale;
@@ -197,6 +202,7 @@ static int write_html(const char *path, const kl_feeder *f, const kl_flow_result
         return rc;
     kl_errors_init(&e);
     kl_status st = kl_report_html_write(out.f, &in, &e);
+    kl_cli_progress_done(&prog);
     kl_cli_print_errors(&e);
     kl_errors_free(&e);
     if (st != KL_OK) {
@@ -284,7 +290,7 @@ int kl_cmd_study(int argc, char **argv)
                              x.ci.bus >= 0 ? &cr : NULL, x.ci.bus >= 0 ? &x.ci : NULL };
         rc = emit(&a, &p, &x);
         if (!rc && a.val[OPT_HTML])
-            rc = write_html(a.val[OPT_HTML], q.f, q.res, &x);
+            rc = write_html(a.val[OPT_HTML], q.f, q.res, q.s, &x);
     }
     kl_errors_free(&e);
     kl_study_free(q.s);
