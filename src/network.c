@@ -239,6 +239,7 @@ void kl_network_free(kl_network *n)
 {
     if (!n)
         return;
+    kl_network_nodal_reset(n);
     void *p[] = {n->order, n->phases, n->v_base_ln, n->parent, n->br_from, n->br_to,
                  n->br_kind, n->br_phases, n->br_section, n->a, n->b, n->c, n->d, n->A,
                  n->B, n->zser, n->ysh, n->sec_first, n->sec_last, n->loads, n->ld_slot,

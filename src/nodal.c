@@ -279,7 +279,7 @@ static void assemble_values(kl_nodal *w, const kl_network *n)
 
 /* ---- workspace -------------------------------------------------------------- */
 
-static void nodal_free(kl_nodal *w)
+static void nodal_free(struct kl_nodal *w)
 {
     if (!w)
         return;
@@ -584,17 +584,29 @@ static kl_status iterate(kl_nodal *w, kl_network *n, const kl_flow_options *opt,
     return KL_ENOCONV;
 }
 
+void kl_network_nodal_reset(kl_network *n)
+{
+    if (!n)
+        return;
+    nodal_free(n->nodal);
+    n->nodal = NULL;
+}
+
+/* Analyse and factor on the first call; later calls (regulator rounds, load
+ * levels) refactor only when the taps have moved. */
 kl_status kl_nodal_solve(kl_network *n, const kl_flow_options *opt, kl_flow_result *res,
                          kl_errors *err)
 {
     if (!n || !opt || !err)
         return KL_EARG;
-    kl_nodal *w = NULL;
-    kl_status st = nodal_alloc(n, &w, err);
+    kl_status st = KL_OK;
+    if (!n->nodal)
+        st = nodal_alloc(n, &n->nodal, err);
+    else
+        st = nodal_refresh(n->nodal, n, err);
     if (!st)
-        st = nodal_refresh(w, n, err);
-    if (!st)
-        st = iterate(w, n, opt, res, err);
-    nodal_free(w);
+        st = iterate(n->nodal, n, opt, res, err);
+    else
+        kl_network_nodal_reset(n);
     return st;
 }

@@ -93,6 +93,12 @@ typedef struct kl_network {
     kl_complex *j;         /* [3*nbuses] current drawn at each bus (loads + children) */
     kl_complex *i_from;    /* [3*nbranches] sending-end currents */
     kl_complex *i_to;      /* [3*nbranches] receiving-end currents */
+
+    /* nodal solver (nodal.c): its matrix, ordering and LU factors, built on
+     * the first nodal solve and kept, so later solves only refactor when
+     * regulator taps have moved.  Code that changes branch matrices in any
+     * other way must drop it: kl_network_nodal_reset. */
+    struct kl_nodal *nodal;
 } kl_network;
 
 /* Analyses the feeder: breadth-first order from the source, per-bus phases
@@ -101,6 +107,9 @@ typedef struct kl_network {
  * absent upstream, missing data: KL_ETOPO / KL_EINPUT with the element named. */
 kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err);
 void kl_network_free(kl_network *net);
+
+/* Frees the nodal solver's matrix and factors (rebuilt on the next nodal solve). */
+void kl_network_nodal_reset(kl_network *net);
 
 /* Recomputes regulator r's branch matrices from net->tap (no allocation). */
 void kl_network_regulator_update(kl_network *net, int r);
