@@ -292,8 +292,11 @@ static void table_row(FILE *o, int step, const char *item, const char *kind, dou
                       const char *from, const char *to, const kl_rebalance_summary *s,
                       double score)
 {
-    fprintf(o, "%4d  %-24s %-8s %8.1f  %-4s %-4s %9.2f %8.3f %10.2f %9.2f %8.4f %8.4f\n", step,
-            item, kind, kva, from, to, s->i_residual_at, 100 * s->vuf_max, s->losses_w / 1e3,
+    char kv[16] = "";
+    if (kva >= 0)
+        snprintf(kv, sizeof kv, "%.1f", kva);
+    fprintf(o, "%4d  %-24s %-8s %8s  %-4s %-4s %9.2f %8.3f %10.2f %9.2f %8.4f %8.4f\n", step,
+            item, kind, kv, from, to, s->i_residual_at, 100 * s->vuf_max, s->losses_w / 1e3,
             s->obj[KL_OBJ_CURRENT], s->v_min_pu, score);
 }
 
@@ -305,7 +308,7 @@ static void table_plan(FILE *o, const view *w, int l)
     fprintf(o, "%4s  %-24s %-8s %8s  %-4s %-4s %9s %8s %10s %9s %8s %8s\n", "step", "item",
             "kind", "kVA", "from", "to", "neutral A", "VUF %", "losses kW", "max I A",
             "low pu", "score");
-    table_row(o, 0, "(as given)", "", 0, "", "", &w->p->before[l], w->p->score_before);
+    table_row(o, 0, "(as given)", "", -1, "", "", &w->p->before[l], w->p->score_before);
     for (int s = 0; s < w->p->nsteps; s++) {
         const kl_plan_step *st = &w->p->steps[s];
         const kl_rephase_item *it = &w->rp->items[st->item];
