@@ -16,23 +16,21 @@
 
 static kl_complex element_current(const kl_load *ld, kl_complex s, kl_complex v, double vn)
 {
-    kl_complex ip = conj(s / v);
-    kl_complex iz = conj(s) * v / (vn * vn);
-    kl_complex ii = conj(s) / vn * (v / cabs(v));
     switch (ld->model) {
     case KL_LOAD_Z:
-        return iz;
+        return conj(s) * v / (vn * vn);
     case KL_LOAD_I:
-        return ii;
+        return conj(s) / vn * (v / cabs(v));
     case KL_LOAD_ZIP:
-        return ld->zip[0] * iz + ld->zip[1] * ii + ld->zip[2] * ip;
+        return ld->zip[0] * (conj(s) * v / (vn * vn)) + ld->zip[1] * (conj(s) / vn * (v / cabs(v))) +
+               ld->zip[2] * conj(s / v);
     default:
-        return ip;
+        return conj(s / v);
     }
 }
 
-/* Calls fn for every energised entry of network load m: slot p (and q for
- * delta), element voltage, rated power share, and the current it draws. */
+/* One energised entry of a load or capacitor: phase slot p (and q for
+ * delta), element voltage and the current it draws. */
 typedef struct {
     int entry, p, q;       /* q = -1 for wye */
     kl_complex v, i;

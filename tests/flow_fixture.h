@@ -14,11 +14,11 @@
 
 typedef struct {
     kl_feeder f;
-    kl_bus bus[40];
-    kl_section sec[40];
+    kl_bus bus[64];
+    kl_section sec[64];
     kl_construction cons[12];
-    kl_load load[24];
-    kl_capacitor cap[8];
+    kl_load load[64];
+    kl_capacitor cap[32];
     kl_transformer xf[4];
     kl_regulator reg[2];
 } hand_feeder;

@@ -559,6 +559,108 @@ START_TEST(test_source_angle)
 }
 END_TEST
 
+/* Small deterministic generator (Numerical Recipes' LCG constants: common practice). */
+static unsigned rnd_state;
+static double rnd(void)
+{
+    rnd_state = rnd_state * 1664525u + 1013904223u;
+    return (rnd_state >> 8) / 16777216.0;
+}
+
+static const char *bus_name_of(int k)
+{
+    static char names[40][8];
+    snprintf(names[k], sizeof names[k], "n%d", k);
+    return names[k];
+}
+
+/* Random radial feeder: 3-phase main, laterals of 1 or 2 phases, every load
+ * model, wye and delta, capacitors. */
+static void build_random(hand_feeder *h, unsigned seed)
+{
+    rnd_state = seed;
+    hf_init(h, "random", "n0", 12.47);
+    double complex z3[6] = {0.4576 + 1.0780 * I, 0.1560 + 0.5017 * I, 0.1535 + 0.3849 * I,
+                            0.4666 + 1.0482 * I, 0.1580 + 0.4236 * I, 0.4615 + 1.0651 * I};
+    double b3[6] = {5.9, -1.9, -1.2, 5.6, -0.7, 5.3};
+    static const char *const phs[8] = {"", "a", "b", "ab", "c", "ac", "bc", "abc"};
+    int cons[8];
+    for (int m = 1; m < 8; m++)
+        cons[m] = hf_matrix(h, phs[m], phs[m], z3, b3);
+    int nb = 30, mask[40] = {KL_PH_ABC};
+    for (int k = 1; k < nb; k++) {
+        int parent = (int)(rnd() * k);
+        int m = mask[parent];
+        if (m == KL_PH_ABC && rnd() < 0.2)
+            m &= ~(1 << (int)(rnd() * 3));          /* two-phase lateral */
+        else if (m != KL_PH_A && m != KL_PH_B && m != KL_PH_C && rnd() < 0.3) {
+            int bits[3], nbits = 0;              /* single-phase lateral */
+            for (int p = 0; p < 3; p++)
+                if (m & (1 << p))
+                    bits[nbits++] = p;
+            m = 1 << bits[(int)(rnd() * nbits)];
+        }
+        mask[k] = m;
+        int c = cons[m];
+        hf_bus(h, bus_name_of(k));
+        hf_line(h, bus_name_of(k), bus_name_of(parent), bus_name_of(k), 200 + 800 * rnd(), c);
+        h->sec[h->f.nsections - 1].phases = m;
+        double kw[3] = {0}, kvar[3] = {0};
+        for (int p = 0; p < 3; p++)
+            if (m & (1 << p)) {
+                kw[p] = 5 + 60 * rnd();
+                kvar[p] = 20 * rnd();
+            }
+        kl_load_model model = (kl_load_model)(1 + (int)(rnd() * 4));
+        int delta = m == KL_PH_ABC && rnd() < 0.3;
+        int l = hf_load(h, bus_name_of(k), bus_name_of(k), delta ? KL_CONN_DELTA : KL_CONN_WYE, model,
+                        kw, kvar);
+        h->load[l].zip[0] = 0.2;
+        h->load[l].zip[1] = 0.3;
+        h->load[l].zip[2] = 0.5;
+        if (rnd() < 0.1)
+            hf_cap(h, bus_name_of(k), bus_name_of(k), (double[]){m & 1 ? 50 : 0, m & 2 ? 50 : 0,
+                                                             m & 4 ? 50 : 0});
+    }
+}
+
+/* Random feeders: the solution satisfies every line's generalized equations
+ * in the other direction, V_from = a V_to + b I_to and I_from = c V_to + d I_to
+ * (Kersting ch. 6, from memory; the sweep itself uses A, B, c, d), and power
+ * balances. */
+START_TEST(test_random_feeders)
+{
+    for (unsigned seed = 1; seed <= 20; seed++) {
+        kl_network *n;
+        kl_flow_result *r;
+        kl_errors e;
+        kl_errors_init(&e);
+        build_random(&H, seed);
+        ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "seed %u: %s", seed, first(&e));
+        for (int k = 0; k < n->nbranches; k++) {
+            kl_complex vf[3], t[3], t2[3];
+            kl_cm3_vec(n->a + 9 * k, n->v + 3 * n->br_to[k], vf);
+            kl_cm3_vec(n->b + 9 * k, n->i_to + 3 * k, t);
+            for (int p = 0; p < 3; p++)
+                ck_assert_msg(!(n->br_phases[k] & (1 << p)) ||
+                              cabs(vf[p] + t[p] - n->v[3 * n->br_from[k] + p]) < 1e-5 * 7200,
+                              "seed %u branch %d phase %d", seed, k, p);
+            kl_cm3_vec(n->c + 9 * k, n->v + 3 * n->br_to[k], t);
+            kl_cm3_vec(n->d + 9 * k, n->i_to + 3 * k, t2);
+            for (int p = 0; p < 3; p++)
+                ck_assert(cabs(t[p] + t2[p] - n->i_from[3 * k + p]) < 1e-9 * (1 + cabs(t2[p])));
+        }
+        kl_complex in = 0, out = 0;
+        for (int p = 0; p < 3; p++) {
+            in += r->s_head[p];
+            out += r->s_loads[p] + r->s_losses[p];
+        }
+        ck_assert(cabs(in - out) <= 1e-6 * cabs(in));
+        done(n, r, &e);
+    }
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("flow_physics");
@@ -579,6 +681,7 @@ int main(void)
     tcase_add_test(tc, test_regulator_open_delta);
     tcase_add_test(tc, test_regulator_limits);
     tcase_add_test(tc, test_source_angle);
+    tcase_add_test(tc, test_random_feeders);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
