@@ -110,8 +110,11 @@ int kl_regulator_control(kl_network *net, int r)
     double hi = rg->voltage_level_v + rg->bandwidth_v / 2.0;
     int lim = rg->steps > 0 ? rg->steps : 16, moved = 0;
     int monitored = rg->monitored ? rg->monitored : rg->phases;
+    int energized = net->br_phases[net->reg_branch[r]];
+    if (rg->conn != KL_REG_WYE) /* a delta unit p needs phases p and p+1 */
+        energized &= (energized >> 1) | (energized << 2);
     for (int p = 0; p < 3; p++) {
-        if (!(rg->phases & monitored & (1 << p)))
+        if (!(rg->phases & monitored & energized & (1 << p)))
             continue;
         int *t = &net->tap[3 * r + p], old = *t;
         /* out of band: the steps that bring the relay voltage nearest the voltage
