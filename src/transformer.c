@@ -25,6 +25,8 @@
  *   load sees 240 V); each half winding carries half the unit's impedance at
  *   240 V, the primary share of the impedance and the coupling between the
  *   halves are not modelled (Kersting's center-tap model splits them);
+ * - a single-phase unit across two phases (primary line to line) is handled
+ *   when stepping down from the high winding;
  * - no magnetising branch (no_load_loss_pu is not used by the load flow). */
 #include <math.h>
 #include <stdio.h>
@@ -124,6 +126,40 @@ static int single_phase_index(int mask)
     return mask == KL_PH_A ? 0 : mask == KL_PH_B ? 1 : mask == KL_PH_C ? 2 : -1;
 }
 
+/* Single-phase unit with its primary across two phases p, q (q follows p
+ * cyclically: ab, bc, ca): primary voltage V_p - V_q.  A single secondary sits
+ * in phase slot p of the load-side bus; a center-tapped one in slots a and b. */
+static kl_status line_to_line_unit(const kl_transformer *t, kl_winding wl, int src_phases,
+                                   kl_complex A[9], kl_complex B[9], int *load_phases,
+                                   double *load_base_ln, char *why, size_t nwhy)
+{
+    int p = src_phases == 3 ? 0 : src_phases == 6 ? 1 : 2, q = (p + 1) % 3;
+    double kv_s = t->kv_high, kv_l = t->kv_low, s_va = t->kva * 1000.0;
+    kl_complex z = t->r_pu + I * t->x_pu;
+    if (wl == KL_WINDING_SINGLE) {
+        A[3 * p + p] = kv_l / kv_s;
+        A[3 * p + q] = -kv_l / kv_s;
+        B[4 * p] = z * (kv_l * 1000.0) * (kv_l * 1000.0) / s_va;
+        *load_phases = 1 << p;
+        *load_base_ln = kv_l * 1000.0;
+        return KL_OK;
+    }
+    if (wl == KL_WINDING_CENTER_TAP) {
+        double k = (kv_l / 2.0) / kv_s;
+        A[p] = k;
+        A[q] = -k;
+        A[3 + p] = -k;
+        A[3 + q] = k;
+        B[0] = B[4] = z * (kv_l * 1000.0) * (kv_l * 1000.0) / (2.0 * s_va);
+        *load_phases = KL_PH_A | KL_PH_B;
+        *load_base_ln = kv_l * 1000.0 / 2.0;
+        return KL_OK;
+    }
+    snprintf(why, nwhy, "single-phase transformer %s across two phases needs a single or "
+             "center-tap secondary", t->name);
+    return KL_EINPUT;
+}
+
 kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int step_up,
                                   kl_complex A[9], kl_complex B[9], int *load_phases,
                                   double *load_base_ln, char *why, size_t nwhy)
@@ -140,11 +176,13 @@ kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int s
                  t->name ? t->name : "?");
         return KL_EINPUT;
     }
+    if (ws == KL_WINDING_SINGLE && !step_up && (src_phases == 3 || src_phases == 5 || src_phases == 6))
+        return line_to_line_unit(t, wl, src_phases, A, B, load_phases, load_base_ln, why, nwhy);
     if (ws == KL_WINDING_SINGLE) {
         int p = single_phase_index(src_phases);
         if (p < 0) {
             snprintf(why, nwhy, "single-phase transformer %s must sit on one phase (line to "
-                     "neutral); this section has phases %s", t->name, kl_phases_str(src_phases, b1));
+                     "neutral) or across two (line to line); this section has phases %s", t->name, kl_phases_str(src_phases, b1));
             return KL_EINPUT;
         }
         if (wl == KL_WINDING_SINGLE) {

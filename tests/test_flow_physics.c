@@ -661,6 +661,35 @@ START_TEST(test_random_feeders)
 }
 END_TEST
 
+/* Single-phase unit across phases b and c (primary line to line): at no load
+ * the secondary is V_bc / n, i.e. 240 V at -90 degrees for a 0-degree phase a
+ * (common practice); a load's power is what the source delivers plus losses. */
+START_TEST(test_line_to_line_unit)
+{
+    kl_network *n;
+    kl_flow_result *r;
+    kl_errors e;
+    kl_errors_init(&e);
+    hf_init(&H, "ll unit", "src", 12.47);
+    hf_transformer(&H, "t", "src", "b1", 50, 12.47, KL_WINDING_SINGLE, 0.24, KL_WINDING_SINGLE,
+                   1.1, 1.8);
+    H.sec[0].phases = KL_PH_B | KL_PH_C;
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_int_eq(r->phases[1], KL_PH_B);
+    ck_assert(cabs(r->v[3 + 1] - 240.0 * cexp(-I * 90 * DEG)) < 1e-9);
+    done(n, r, &e);
+    kl_errors_init(&e);
+    hf_load(&H, "shop", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){0, 30, 0}, (double[]){0, 10, 0});
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    kl_complex in = r->s_head[0] + r->s_head[1] + r->s_head[2];
+    kl_complex loss = r->s_losses[0] + r->s_losses[1] + r->s_losses[2];
+    ck_assert(cabs(in - (30e3 + 10e3 * I) - loss) < 1e-6 * cabs(in));
+    ck_assert(creal(loss) > 0 && creal(loss) < 0.02 * 30e3);
+    ck_assert(r->s_head[0] == 0); /* phase a carries nothing */
+    done(n, r, &e);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("flow_physics");
@@ -682,6 +711,7 @@ int main(void)
     tcase_add_test(tc, test_regulator_limits);
     tcase_add_test(tc, test_source_angle);
     tcase_add_test(tc, test_random_feeders);
+    tcase_add_test(tc, test_line_to_line_unit);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
