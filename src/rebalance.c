@@ -185,7 +185,7 @@ static void taps_reset(engine *e)
  * own cost.  With them, kl_flow_solve runs the tap control loop. */
 static kl_status engine_flow(engine *e, const kl_flow_options *fo, kl_errors *err)
 {
-    if (!e->auto_regs)
+    if (!e->auto_regs && fo->solver == KL_SOLVER_SWEEP)
         return kl_sweep_solve(e->net, fo, NULL, err);
     return kl_flow_solve(e->net, fo, e->res, err);
 }

@@ -9,9 +9,10 @@
  *   B, zser, ysh->  P_rt M P_rt^T
  * which is the same network with its wires renamed, so the load flow of the
  * moved feeder is exact, not an estimate.  rf = rt = r everywhere in a
- * lateral except at a center-tap transformer, whose secondary legs are not
- * phases: there only the primary side is relabelled, and the secondary's
- * voltages just turn with the primary (by -120 degrees per step). */
+ * lateral.  (The code can relabel only the primary side of a center-tap
+ * transformer, whose secondary legs are not phases, but such laterals are
+ * not offered: the feeder file and the load flow name those legs differently,
+ * so the moved feeder could not be written back.) */
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -220,6 +221,13 @@ static int subtree_collect(finder *w, kl_rephase_item *it, int k0, const char **
         if (n->br_kind[k] == KL_BR_REGULATOR) {
             blocked = 1;
             *why = "holds regulator section %s";
+            *what = f->sections[n->br_section[k]].name;
+        }
+        if (w->ct_below[to] && !w->ct_below[n->br_from[k]]) {
+            /* the file gives a center-tap secondary the primary's phase, the
+             * load flow its legs as slots a and b: no relabelling keeps both */
+            blocked = 1;
+            *why = "holds center-tap transformer section %s (move it by hand)";
             *what = f->sections[n->br_section[k]].name;
         }
         if (w->ct_below[to])
