@@ -26,7 +26,10 @@ static void net_err(kl_errors *e, const kl_feeder *f, kl_loc loc, const char *ki
                     const char *name, const char *msg)
 {
     char elem[128];
-    snprintf(elem, sizeof elem, "%s %s", kind, name ? name : "?");
+    if (name && *name)
+        snprintf(elem, sizeof elem, "%s %s", kind, name);
+    else
+        snprintf(elem, sizeof elem, "%s", kind);
     kl_errors_add(e, f->path, loc.line, loc.col, elem, "%s", msg);
 }
 
@@ -73,6 +76,12 @@ static kl_status check_ids(const kl_feeder *f, kl_errors *err)
         net_err(err, f, f->source.loc, "source", "", "the source bus is missing or unknown: "
                 "name an existing bus in `source: bus:`");
         return KL_EINPUT;
+    }
+    if (!(f->source.kv_ll > 0) || !isfinite(f->source.kv_ll) || !(f->source.v_pu >= 0) ||
+        !isfinite(f->source.v_pu)) {
+        net_err(err, f, f->source.loc, "source", "", "needs a positive nominal voltage and a "
+                "finite regulated voltage (e.g. nominal_voltage: 12.47 kV, regulated_voltage: 1.0 pu)");
+        st = KL_EINPUT;
     }
     for (int s = 0; s < f->nsections; s++) {
         const kl_section *sc = &f->sections[s];
