@@ -388,6 +388,11 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
             net_err(err, f, sc->loc, "section", sc->name, "names an unknown regulator");
             return KL_EINPUT;
         }
+        if (f->regulators[sc->device].conn == KL_REG_CLOSED_DELTA) {
+            net_err(err, f, sc->loc, "section", sc->name, "closed-delta regulators are not "
+                    "modelled by the load flow: use wye or open-delta units");
+            return KL_EINPUT;
+        }
         n->br_kind[k] = KL_BR_REGULATOR;
         n->reg_branch[sc->device] = k;
         kl_network_regulator_update(n, sc->device);

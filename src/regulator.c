@@ -7,12 +7,12 @@
  * tap 10; the published IEEE 13-node results use 1 + step * tap (its RG60
  * voltages are 1.0625, 1.0500, 1.06875 pu at taps 10, 8, 11), so kilter does.
  *
- * Wye: one unit per phase, line to neutral.  Closed delta (three units) and
- * open delta (two units, pairs given by the regulator's phase mask: bit 0 ab,
- * bit 1 bc, bit 2 ca) act on line-to-line voltages:
- *   closed: V_ab = a_ab V_AB + (1 - a_bc) V_BC, cyclic (Kersting ch. 7, from memory);
- *   open:   V_pq = a_pq V_PQ for the two units, the third side closes by KVL;
- * and the load side's line-to-neutral voltages are W V_ll (zero sequence free).
+ * Wye: one unit per phase, line to neutral.  Open delta (two units, pairs
+ * given by the regulator's phase mask: bit 0 ab, bit 1 bc, bit 2 ca) acts on
+ * line-to-line voltages, V_pq = a_pq V_PQ for the two units, the third side
+ * closing by KVL, and the load side's line-to-neutral voltages are W V_ll
+ * (zero sequence free).  Closed delta is refused by the network builder: its
+ * coupled ratios are not modelled here yet.
  *
  * Line-drop compensation (Kersting ch. 7, from memory): the relay sees
  *   V_relay = V_out / PT - (R + jX) I_line / CT_primary    [volts, 120 V base]
@@ -31,7 +31,7 @@ static double ratio(const kl_regulator *r, int tap)
     return 1.0 + step * tap;
 }
 
-/* Delta-connected regulators: A = W M D with D the line-to-line difference matrix. */
+/* Open-delta regulators: A = W M D with D the line-to-line difference matrix. */
 static void delta_matrices(const kl_regulator *r, const int tap[3], kl_complex A[9])
 {
     kl_complex M[9] = {0}, D[9] = {0}, Wc[9], WM[9];
@@ -42,24 +42,17 @@ static void delta_matrices(const kl_regulator *r, const int tap[3], kl_complex A
         Wc[3 * p + 1] = W[3 * p + 1];
         Wc[3 * p + 2] = W[3 * p + 2];
     }
-    if (r->conn == KL_REG_CLOSED_DELTA) {
-        for (int p = 0; p < 3; p++) {
+    int missing = -1;
+    for (int p = 0; p < 3; p++) {
+        if (r->phases & (1 << p))
             M[3 * p + p] = ratio(r, tap[p]);
-            M[3 * p + (p + 1) % 3] = 1.0 - ratio(r, tap[(p + 1) % 3]);
-        }
-    } else {
-        int missing = -1;
-        for (int p = 0; p < 3; p++) {
-            if (r->phases & (1 << p))
-                M[3 * p + p] = ratio(r, tap[p]);
-            else
-                missing = p;
-        }
-        if (missing >= 0)
-            for (int p = 0; p < 3; p++)
-                if (p != missing)
-                    M[3 * missing + p] = -M[3 * p + p];
+        else
+            missing = p;
     }
+    if (missing >= 0)
+        for (int p = 0; p < 3; p++)
+            if (p != missing)
+                M[3 * missing + p] = -M[3 * p + p];
     kl_cm3_mul(Wc, M, WM);
     kl_cm3_mul(WM, D, A);
 }

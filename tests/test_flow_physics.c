@@ -504,6 +504,13 @@ START_TEST(test_regulator_open_delta)
     ck_assert_msg(cabs(bc - 1.025) < 1e-12, "bc ratio %g", cabs(bc));
     ck_assert(cabs(vo[0] + vo[1] + vo[2]) < 1e-9 * cabs(vo[0])); /* no zero sequence */
     done(n, r, &e);
+    /* closed delta is not modelled: refused with a message, never solved */
+    kl_errors_init(&e);
+    H.reg[0].conn = KL_REG_CLOSED_DELTA;
+    H.reg[0].phases = KL_PH_ABC;
+    ck_assert_int_eq(run(&H.f, NULL, &n, &r, &e), KL_EINPUT);
+    ck_assert(strstr(first(&e), "closed-delta"));
+    done(n, r, &e);
 }
 END_TEST
 
