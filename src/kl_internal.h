@@ -110,6 +110,9 @@ void kl_report_study_runs(FILE *out, const kl_report_input *in);
 void kl_report_study_contrib(FILE *out, const kl_report_input *in);
 void kl_report_study_motors(FILE *out, const kl_report_input *in);
 
+/* plot_moves.c: the body of "Suggested phase moves" (in->plan set). */
+kl_status kl_report_moves(FILE *out, const kl_report_input *in, kl_errors *err);
+
 /* The trade's usual phase colours are not one convention: these are ours,
  * stated in every legend (phase a dark red, b dark blue, c amber). */
 #define KL_COLOUR_A "#a4262c"

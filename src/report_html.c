@@ -300,10 +300,17 @@ static kl_status section_tables(FILE *out, const kl_report_input *in, kl_errors 
     return st;
 }
 
-static void section_moves(FILE *out)
+static kl_status section_moves(FILE *out, const kl_report_input *in, kl_errors *err)
 {
-    fputs("<section id=\"moves\">\n<h2>Suggested phase moves</h2>\n<p>No rebalancing plan was "
-          "computed for this run.</p>\n</section>\n", out);
+    fputs("<section id=\"moves\">\n<h2>Suggested phase moves</h2>\n", out);
+    kl_status st = KL_OK;
+    if (in->plan)
+        st = kl_report_moves(out, in, err);
+    else
+        fputs("<p>No rebalancing plan was computed for this run (<code>kilter rebalance</code> "
+              "computes one).</p>\n", out);
+    fputs("</section>\n", out);
+    return st;
 }
 
 void kl_report_options_default(kl_report_options *o)
@@ -342,7 +349,8 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
     if (st == KL_OK)
         st = section_tables(out, in, err);
     kl_progress_step(in->progress, "writing the report", 5, 6);
-    section_moves(out);
+    if (st == KL_OK)
+        st = section_moves(out, in, err);
     fputs("<p class=\"note\">Written by kilter. Phase colours: a dark red, b dark blue, "
           "c amber (our own choice, not a wiring code).</p>\n</main>\n</body>\n</html>\n", out);
     kl_progress_step(in->progress, "writing the report", 6, 6);

@@ -11,6 +11,7 @@
 #include "kl_internal.h"
 #include "kilter/report.h"
 #include "kilter/study.h"
+#include "kilter/rebalance.h"
 
 #define NB 5
 #define NS 4
@@ -465,6 +466,61 @@ START_TEST(with_the_study)
 }
 END_TEST
 
+START_TEST(with_a_plan)
+{
+    /* A plan of two moves, built by hand: the moves table names the items
+     * (escaped), shows the plan's figures, and the before/after plot joins
+     * the page as a fourth SVG. */
+    fixture x;
+    kl_errors err;
+    kl_status st;
+    build(&x, 1);
+    kl_errors_init(&err);
+    kl_rebalance_plan *plan = NULL;
+    ck_assert_int_eq(kl_rebalance_plan_alloc(2, 2, &plan), KL_OK);
+    kl_rephase_item items[2] = {{.kind = KL_ITEM_LATERAL, .name = "tap<'3'>", .section = 2},
+                                {.kind = KL_ITEM_LOAD, .name = "shop&co", .load = 0}};
+    kl_rephaser rp = {.nitems = 2, .items = items};
+    plan->nlevels = 1;
+    plan->level[0] = (kl_load_level){1, 1};
+    kl_rebalance_summary before = {.converged = 1, .i_head = {100, 80, 90}, .i_residual = 17.32,
+                                   .vuf_max = 0.0280, .v_min_pu = 0.955};
+    plan->before[0] = before;
+    plan->nsteps = 2;
+    plan->steps[0] = (kl_plan_step){.item = 0, .from_phases = KL_PH_A, .to_phases = KL_PH_B,
+                                    .voltage_ok = 1};
+    plan->steps[0].after[0] = before;
+    plan->steps[0].after[0].i_residual = 9.5;
+    plan->steps[1] = (kl_plan_step){.item = 1, .from_phases = KL_PH_A, .to_phases = KL_PH_C,
+                                    .voltage_ok = 1};
+    plan->steps[1].after[0] = before;
+    plan->steps[1].after[0].i_residual = 3.25;
+    plan->steps[1].after[0].vuf_max = 0.0150;
+    plan->after[0] = plan->steps[1].after[0];
+    x.rin.plan = plan;
+    x.rin.rephaser = &rp;
+    char *h = render(&x.rin, &st, &err);
+    ck_assert_int_eq(st, KL_OK);
+    ck_assert_int_eq(count(h, "<svg "), 4);
+    ck_assert_ptr_nonnull(strstr(h, "<table class=\"moves\">"));
+    ck_assert_ptr_nonnull(strstr(h, "<td class=\"n\">tap&lt;&#39;3&#39;&gt;</td><td class=\"n\">lateral"
+                                    "</td><td class=\"n\">a &rarr; b</td>"));
+    ck_assert_ptr_nonnull(strstr(h, "<td class=\"n\">shop&amp;co</td>"));
+    ck_assert_ptr_nonnull(strstr(h, "residual 17.3 A before, 3.2 A after"));
+    ck_assert_ptr_nonnull(strstr(h, "worst voltage unbalance 2.80 % before, 1.50 % after"));
+    ck_assert_ptr_null(strstr(h, "No rebalancing plan"));
+    free(h);
+    /* a plan without levels is refused, not drawn from garbage */
+    plan->nlevels = 0;
+    kl_errors_clear(&err);
+    h = render(&x.rin, &st, &err);
+    ck_assert_int_eq(st, KL_EARG);
+    free(h);
+    kl_rebalance_plan_free(plan);
+    kl_errors_free(&err);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("report_html");
@@ -480,6 +536,7 @@ int main(void)
     tcase_add_test(tc, progress_reported);
     tcase_add_test(tc, tree_layout_layered);
     tcase_add_test(tc, with_the_study);
+    tcase_add_test(tc, with_a_plan);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

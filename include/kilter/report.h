@@ -47,12 +47,16 @@ typedef struct {
 } kl_report_options;
 
 struct kl_study;
+struct kl_rebalance_plan;
+struct kl_rephaser;
 
 typedef struct {
     const kl_feeder *feeder;
     kl_report_phases ph;
     const struct kl_study *study; /* the unbalance study (study.h) of the same solution, or
                                      NULL: the page then shows what the phases alone give */
+    const struct kl_rebalance_plan *plan; /* suggested phase moves (rebalance.h), or NULL */
+    const struct kl_rephaser *rephaser;   /* the plan's items (their names); with plan */
     kl_report_options opt;
     kl_progress *progress;       /* may be NULL */
 } kl_report_input;
@@ -77,5 +81,8 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
 kl_status kl_plot_profile_write(FILE *out, const kl_report_input *in, kl_errors *err);
 kl_status kl_plot_map_write(FILE *out, const kl_report_input *in, kl_errors *err);
 kl_status kl_plot_phasor_write(FILE *out, const kl_report_input *in, int bus, kl_errors *err);
+/* Head currents before and after the plan's moves, and the residual after
+ * each move (in->plan required; KL_EARG without it). */
+kl_status kl_plot_moves_write(FILE *out, const kl_report_input *in, kl_errors *err);
 
 #endif
