@@ -43,7 +43,8 @@ int kl_svg_ticks(double lo, double hi, int nwant, double *ticks, int cap);
 typedef struct { double px, py, pw, ph, x0, x1, y0, y1; } kl_svg_frame;
 double kl_svg_fx(const kl_svg_frame *f, double x);
 double kl_svg_fy(const kl_svg_frame *f, double y);
-/* Grid, frame, ticks with `xdec`/`ydec` decimals, axis labels (escaped). */
+/* Grid, frame, ticks with `xdec`/`ydec` decimals (xdec < 0: no x ticks for a
+ * category axis), axis labels (escaped). */
 void kl_svg_axes(FILE *out, const kl_svg_frame *f, const char *xlabel, int xdec,
                  const char *ylabel, int ydec);
 /* Horizontal band ylo..yhi across the frame with a label at its right end. */

@@ -8,7 +8,7 @@
 #include "kilter/rebalance.h"
 
 #define W 900.0
-#define H 330.0
+#define H 300.0
 
 static const char *const bar_colour[4] = {KL_COLOUR_A, KL_COLOUR_B, KL_COLOUR_C, "#5a5a5a"};
 
@@ -22,7 +22,7 @@ static void bars(FILE *out, const kl_rebalance_summary *b, const kl_rebalance_su
     double t[32];
     int nt = kl_svg_ticks(0, top > 0 ? top : 1, 6, t, 32);
     kl_svg_frame fr = {70, 30, 380, 230, 0, 4, 0, nt > 1 ? t[nt - 1] : 1};
-    kl_svg_axes(out, &fr, "", 0, "current at the feeder head (A)", 0);
+    kl_svg_axes(out, &fr, "", -1, "current at the feeder head (A)", 0);
     static const char *const lab[4] = {"phase a", "phase b", "phase c", "residual 3I0"};
     for (int k = 0; k < 4; k++) {
         char attr[96];

@@ -178,6 +178,8 @@ double kl_svg_fy(const kl_svg_frame *f, double y)
 
 static void axis_x(FILE *out, const kl_svg_frame *f, int dec)
 {
+    if (dec < 0) /* categories, labelled by the caller */
+        return;
     double t[32];
     int n = kl_svg_ticks(f->x0, f->x1, 8, t, 32);
     for (int k = 0; k < n; k++) {

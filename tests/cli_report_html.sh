@@ -100,4 +100,12 @@ for t in unbalance neutral; do
     END { exit bad }' || exit 1
 done
 
-echo "cli_report_html: ok ($n bus rows and $m neutral rows agree with the CSV)"
+# With a rebalancing plan: the moves table and the before/after plot join the page.
+"$kilter" rebalance "$feeder" --max-moves 3 --html "$tmp/plan.html" >/dev/null 2>"$tmp/err" \
+  || { cat "$tmp/err"; fail "kilter rebalance --html failed"; }
+grep -q '<table class="moves">' "$tmp/plan.html" || fail "the plan's report has no moves table"
+[ "$(grep -o '<svg ' "$tmp/plan.html" | wc -l)" -eq 4 ] || fail "the plan's report lacks its plot"
+nmoves=$(awk '/<table class="moves">/{on=1;next} on&&/<\/table>/{on=0} on&&/^<tr><td>/{n++} END{print n+0}' "$tmp/plan.html")
+[ "$nmoves" -ge 1 ] && [ "$nmoves" -le 3 ] || fail "the plan's report lists $nmoves moves (expected 1 to 3)"
+
+echo "cli_report_html: ok ($n bus rows and $m neutral rows agree with the CSV; plan report with $nmoves moves)"

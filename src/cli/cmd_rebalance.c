@@ -12,11 +12,14 @@
 #include "kilter/lines.h"
 #include "kilter/network.h"
 #include "kilter/rebalance.h"
+#include "kilter/report.h"
+#include "kilter/study.h"
 #include "cli.h"
 #include "cli_progress.h"
 
 enum { OPT_OBJ, OPT_AT, OPT_MOVES, OPT_BUDGET, OPT_LEVELS, OPT_RANGE, OPT_SEARCH, OPT_TIME,
-       OPT_SEED, OPT_PIN, OPT_FORBID, OPT_COST, OPT_RULES, OPT_WRITE, OPT_ITEMS, NOPTS };
+       OPT_SEED, OPT_PIN, OPT_FORBID, OPT_COST, OPT_RULES, OPT_WRITE, OPT_ITEMS, OPT_HTML,
+       NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"objective", 1, "NAME[=W],...", "neutral, vuf, losses, current, drop; weighted with =W "
@@ -35,6 +38,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"rules", 1, "FILE", "pins, forbidden phases and costs, one per line (docs-rebalance.md)"},
     {"write-feeder", 1, "FILE", "write the rebalanced feeder file (atomically)"},
     {"items", 0, NULL, "list the movable items and stop"},
+    {"html", 1, "FILE", "also write the HTML study report with the plan to FILE"},
 };
 
 static const char *CAUTION =
@@ -510,6 +514,50 @@ static kl_status write_feeder(const char *path, kl_rephaser *rp, const kl_rebala
     return st;
 }
 
+/* --html: the study report of the feeder as given (first load level), with
+ * the plan's moves; written whole or not at all. */
+static int write_html(const char *path, const kl_feeder *f, kl_network *net,
+                      const kl_rephaser *rp, const kl_rebalance_plan *plan,
+                      const kl_rebalance_options *o, kl_errors *e)
+{
+    kl_flow_result *res = NULL;
+    kl_study *s = NULL;
+    kl_study_view w = {0};
+    kl_study_options so;
+    kl_flow_options fo;
+    kl_cli_out out;
+    int rc = 0;
+    kl_study_options_default(&so);
+    kl_flow_options_default(&fo);
+    fo.load_scale = o->level[0].scale;
+    kl_status st = kl_flow_result_alloc(net, &res, e);
+    if (!st)
+        st = kl_flow_solve(net, &fo, res, e);
+    if (!st)
+        st = kl_study_view_init(&w, net, res, e);
+    if (!st)
+        st = kl_study_run(f, &w.ph, &w.paths, &so, &s, e);
+    if (!st && !(rc = kl_cli_out_open(&out))) {
+        kl_report_input in = {.feeder = f, .ph = kl_report_phases_of(res), .study = s,
+                              .plan = plan, .rephaser = rp};
+        kl_report_options_default(&in.opt);
+        in.opt.load_scale = fo.load_scale;
+        st = kl_report_html_write(out.f, &in, e);
+        if (st) {
+            fclose(out.f); /* nothing written: the report is dropped whole */
+            free(out.buf);
+        } else {
+            rc = kl_cli_out_close(&out, path);
+        }
+    }
+    if (st)
+        rc = kl_cli_exit_code(st);
+    kl_study_free(s);
+    kl_study_view_free(&w);
+    kl_flow_result_free(res);
+    return rc;
+}
+
 static int run(const kl_cli_args *a, kl_feeder *f, kl_rebalance_options *o, kl_errors *e)
 {
     kl_network *net = NULL;
@@ -544,6 +592,8 @@ static int run(const kl_cli_args *a, kl_feeder *f, kl_rebalance_options *o, kl_e
     }
     if (!st && !rc && a->val[OPT_WRITE])
         st = write_feeder(a->val[OPT_WRITE], rp, plan, e);
+    if (!st && !rc && a->val[OPT_HTML])
+        rc = write_html(a->val[OPT_HTML], f, net, rp, plan, o, e);
     kl_cli_print_errors(e);
     if (st)
         rc = kl_cli_exit_code(st);
