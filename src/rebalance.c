@@ -60,7 +60,7 @@ void kl_rebalance_options_default(kl_rebalance_options *opt)
     opt->level[0] = (kl_load_level){1.0, 1.0};
     opt->mode = KL_SEARCH_AUTO;
     opt->exhaustive_limit = 20000;
-    opt->time_limit_s = 60.0;
+    opt->time_limit_s = 30.0;
     opt->anneal_steps = -1; /* default: chosen from the number of items */
     opt->seed = 1;
     kl_flow_options_default(&opt->flow);

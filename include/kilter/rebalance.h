@@ -146,7 +146,7 @@ typedef struct {
     kl_load_level level[KL_REBAL_MAX_LEVELS];
     kl_search_mode mode;
     long exhaustive_limit; /* states; default 20000 */
-    double time_limit_s;   /* wall-clock bound on the search; default 60 */
+    double time_limit_s;   /* wall-clock bound on the search; default 30 */
     long anneal_steps;     /* default 40 per movable item, at least 200; 0: no annealing */
     unsigned long seed;    /* GSL generator seed; default 1 */
     kl_flow_options flow;  /* load_scale is set per level */

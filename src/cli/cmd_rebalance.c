@@ -30,7 +30,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"levels", 1, "S:W,...", "load levels as scale:weight, e.g. 1:1,0.4:0.5 (default 1:1)"},
     {"voltage-range", 1, "LO:HI", "service voltage range in pu (default 0.95:1.05)"},
     {"search", 1, "auto|heuristic|exhaustive", "search method (default auto)"},
-    {"time-limit", 1, "SECONDS", "bound on the search time (default 60)"},
+    {"time-limit", 1, "SECONDS", "bound on the search time (default 30)"},
     {"seed", 1, "N", "seed of the annealing's random generator (default 1)"},
     {"pin", 1, "ITEM,...", "never move these items (tap section or load names)"},
     {"forbid", 1, "ITEM=PHASES,...", "never move an item onto these phases"},
