@@ -13,6 +13,12 @@
 #   --keep DIR  keep the generated feeders in DIR (default: a temporary
 #               directory removed at exit)
 #
+# Columns: file size, kl_synth time (wall), load, line constants + network
+# build, sweep solve and its iterations, first nodal solve (assembly,
+# ordering, factorisation, iterations), nodal solve again with the factors
+# kept, nodal iterations, largest nodal-sweep voltage difference, peak
+# resident memory of the whole run (nodal included) and up to the end of the
+# sweep, and peak bytes per bus (whole run).
 # Times are process CPU seconds of each stage (see src/tools/kl_bench.c);
 # the machine's load average is printed with the table because a shared
 # machine slows memory-bound code even when CPU time is measured.
@@ -51,10 +57,10 @@ field() { printf '%s\n' "$1" | tr ' ' '\n' | sed -n "s/^$2=//p"; }
 echo "kilter load-flow benchmark: seed $seed, best of $repeat solves, $(date -u +%Y-%m-%d)"
 echo "machine: $(nproc) cores, $(sed -n 's/^model name[[:space:]]*: //p' /proc/cpuinfo | head -1)," \
      "load average $(cut -d' ' -f1-3 /proc/loadavg)"
-printf '%10s %9s %8s %8s %8s %8s %5s %8s %5s %9s %8s %9s\n' \
-  N "file MB" "gen s" "load s" "derive+" "sweep s" "iter" "nodal s" "iter" "nodal-sw" "peak MB" "B/bus"
-printf '%10s %9s %8s %8s %8s %8s %5s %8s %5s %9s %8s %9s\n' \
-  "" "" "" "" "build s" "" "" "" "" "pu" "" ""
+printf '%10s %7s %6s %8s %8s %8s %5s %8s %8s %5s %9s %8s %7s %7s\n' \
+  N "file" "gen" "load" "derive+" "sweep" "iter" "nodal" "nodal" "iter" "nodal-sw" "peak" "peak" "bytes"
+printf '%10s %7s %6s %8s %8s %8s %5s %8s %8s %5s %9s %8s %7s %7s\n' \
+  "" "MB" "s" "s" "build s" "s" "" "1st s" "again s" "" "pu" "MB" "sw MB" "/bus"
 for n in $sizes; do
   f="$dir/synth-$n-$seed.yaml"
   t0=$(date +%s.%N)
@@ -64,10 +70,12 @@ for n in $sizes; do
   mb=$(echo "scale=1; $(field "$line" file_bytes) / 1048576" | bc)
   db=$(echo "$(field "$line" derive_s) + $(field "$line" build_s)" | bc)
   peak=$(echo "scale=0; $(field "$line" rss_peak_kib) / 1024" | bc)
-  printf '%10s %9s %8.2f %8s %8.3f %8s %5s %8s %5s %9s %8s %9s\n' \
+  bpeak=$(echo "scale=0; $(field "$line" rss_sweep_kib) / 1024" | bc)
+  printf '%10s %7s %6.2f %8s %8.3f %8s %5s %8s %8s %5s %9s %8s %7s %7s\n' \
     "$n" "$mb" "$gen" "$(field "$line" load_s)" "$db" "$(field "$line" sweep_s)" \
-    "$(field "$line" sweep_iter)" "$(field "$line" nodal_s)" "$(field "$line" nodal_iter)" \
-    "$(field "$line" nodal_dv_pu)" "$peak" "$(field "$line" bytes_per_bus)"
+    "$(field "$line" sweep_iter)" "$(field "$line" nodal_first_s)" "$(field "$line" nodal_s)" \
+    "$(field "$line" nodal_iter)" "$(field "$line" nodal_dv_pu)" "$peak" "$bpeak" \
+    "$(field "$line" bytes_per_bus)"
   echo "  $line" >> "$dir/bench.log"
 done
 echo
