@@ -24,7 +24,7 @@
  *
  * Loads and capacitors are current injections (fixed-point current-injection
  * iteration): M does not depend on the loads, so it is ordered and factored
- * once (klu_analyze, klu_z_factor), each iteration is one klu_z_solve with
+ * once (klu_analyze_given with the leaves-first numbering, klu_z_factor), each iteration is one klu_z_solve with
  * r = -J(V) from load_model.c, and a tap change only refactors (klu_z_refactor,
  * same pattern).  Stop when the largest phase-voltage change between two
  * iterations is below tol (per unit of the bus base), as the sweep does.
@@ -53,8 +53,9 @@ typedef struct kl_nodal {
     kl_complex *x;         /* [n] right-hand side in, solution out */
     int *fill;             /* [n] pattern build: entries placed per column */
     int ideal_source;      /* 1: the source bus rows hold V = E */
-    int nfixed;            /* 3 with an ideal source: rows 0..2 (the source bus, numbered
-                            * first) take nothing but V = E; 0 otherwise */
+    int fixed;             /* first of the source bus's three unknowns (numbered last) */
+    int nfixed;            /* 3 with an ideal source: rows fixed..fixed+2 take nothing
+                            * but V = E; 0 otherwise */
     kl_complex ys[9];      /* Thevenin source admittance Zs^-1 */
     stamp_mode mode;
     int *taps;             /* [3*nregulators] taps M was last assembled with */
@@ -76,7 +77,19 @@ static int to_mask(const kl_network *n, int k)
     return n->br_kind[k] == KL_BR_TRANSFORMER ? n->phases[n->br_to[k]] : n->br_phases[k];
 }
 
-/* Buses in sweep order (neighbours stay close in memory), then branch currents. */
+static void number_currents(const kl_network *n, kl_nodal *w, int k, int *u)
+{
+    for (int p = 0; p < 3; p++)
+        if (to_mask(n, k) & (1 << p))
+            w->iidx[3 * k + p] = (*u)++;
+}
+
+/* Leaves first: buses in reverse sweep order, each preceded by the current
+ * unknowns of the device feeding it, then loop-closing switches, the source
+ * bus last.  Eliminating a tree from its leaves creates no fill, so on a
+ * radial network this natural order is already a perfect elimination order
+ * and no fill-reducing ordering (AMD) is needed; a closed loop adds fill
+ * only along the loop. */
 static void number_unknowns(const kl_network *n, kl_nodal *w)
 {
     int u = 0, nbr = n->nbranches + n->nlinks;
@@ -84,21 +97,22 @@ static void number_unknowns(const kl_network *n, kl_nodal *w)
         w->vidx[i] = -1;
     for (int i = 0; i < 3 * nbr; i++)
         w->iidx[i] = -1;
-    for (int o = -1; o < n->nbuses; o++) {
-        int b = o < 0 ? n->source : n->order[o];
-        if (o >= 0 && b == n->source)
+    for (int o = n->nbuses - 1; o >= 0; o--) {
+        int b = n->order[o], k = n->parent[b];
+        if (b == n->source)
             continue;
+        if (k >= 0 && !is_line(n, k))
+            number_currents(n, w, k, &u);
         for (int p = 0; p < 3; p++)
             if (n->phases[b] & (1 << p))
                 w->vidx[3 * b + p] = u++;
     }
-    for (int k = 0; k < nbr; k++) {
-        if (is_line(n, k))
-            continue;
-        for (int p = 0; p < 3; p++)
-            if (to_mask(n, k) & (1 << p))
-                w->iidx[3 * k + p] = u++;
-    }
+    for (int k = n->nbranches; k < nbr; k++)
+        if (!is_line(n, k))
+            number_currents(n, w, k, &u);
+    w->fixed = u;
+    for (int p = 0; p < 3; p++)
+        w->vidx[3 * n->source + p] = u++;
     w->n = u;
 }
 
@@ -112,7 +126,7 @@ static void put(kl_nodal *w, const kl_network *n, int i, int j, kl_complex v)
 {
     if (i < 0 || j < 0)
         return;
-    if (i < w->nfixed)
+    if (i >= w->fixed && i < w->fixed + w->nfixed)
         return;
     put_raw(w, i, j, v);
 }
@@ -398,7 +412,9 @@ static kl_status nodal_alloc(const kl_network *n, kl_nodal **out, kl_errors *err
     w->fill = NULL;
     assemble_values(w, n);
     klu_defaults(&w->common);
-    w->sym = klu_analyze(w->n, w->Ap, w->Ai, &w->common);
+    /* the natural order is leaves-first (number_unknowns): no AMD needed; KLU
+     * still permutes to block triangular form and pivots for stability */
+    w->sym = klu_analyze_given(w->n, w->Ap, w->Ai, NULL, NULL, &w->common);
     if (!w->sym || !(w->num = klu_z_factor(w->Ap, w->Ai, (double *)w->Ax, w->sym,
                                            &w->common))) {
         st = klu_failure(n, w, err);
@@ -450,24 +466,26 @@ static void build_rhs(kl_nodal *w, const kl_network *n)
  * returns the largest change in per unit, INFINITY on a non-finite value. */
 static double take_solution(const kl_nodal *w, kl_network *n, int *where)
 {
-    double worst = 0;
-    for (int b = 0; b < n->nbuses; b++)
+    double worst2 = 0; /* squared, per unit: no square root per phase */
+    for (int b = 0; b < n->nbuses; b++) {
+        double inv = 1.0 / n->v_base_ln[b];
         for (int p = 0; p < 3; p++) {
             int u = w->vidx[3 * b + p];
-            kl_complex x = u >= 0 ? w->x[u] : 0;
-            double dv = cabs(x - n->v[3 * b + p]) / n->v_base_ln[b];
-            if (!isfinite(creal(x)) || !isfinite(cimag(x)))
-                dv = INFINITY;
-            if (dv > worst || (dv != dv)) {
-                worst = dv;
+            kl_complex x = u >= 0 ? w->x[u] : 0, dx = (x - n->v[3 * b + p]) * inv;
+            double d2 = creal(dx) * creal(dx) + cimag(dx) * cimag(dx);
+            if (!isfinite(d2))
+                d2 = INFINITY;
+            if (d2 > worst2) {
+                worst2 = d2;
                 *where = b;
             }
             n->v[3 * b + p] = x;
         }
+    }
     for (int i = 0; i < 3 * (n->nbranches + n->nlinks); i++)
         if (w->iidx[i] >= 0)
             n->i_to[i] = w->x[w->iidx[i]];
-    return worst;
+    return sqrt(worst2);
 }
 
 /* One solve; loads = 0 gives the no-load start. */
@@ -486,37 +504,56 @@ static kl_status solve_step(kl_nodal *w, kl_network *n, int loads, double scale,
     return KL_OK;
 }
 
-/* Branch currents and bus currents from the final voltages, as the sweep
- * leaves them: lines from their pi model, devices from their unknowns
- * (I_from = d I_to); j = loads + currents of the branches leaving the bus,
- * less what a loop-closing branch delivers into it. */
+/* Loop-closing branch k's currents from the solution: a line from its pi
+ * model, I_from = Y (Vf - Vt) + Ysh/2 Vf, I_to = Y (Vf - Vt) - Ysh/2 Vt; a
+ * switch from its unknowns (already in i_to), I_from = I_to. */
+static void link_currents(kl_network *n, int k)
+{
+    const kl_complex *vf = n->v + 3 * n->br_from[k], *vt = n->v + 3 * n->br_to[k];
+    kl_complex *ifr = n->i_from + 3 * k, *ito = n->i_to + 3 * k, Y[9], dv[3], tf[3], tt[3];
+    if (!is_line(n, k) || line_admittance(n, k, Y)) {
+        kl_cm3_vec(n->d + 9 * k, ito, ifr);
+        return;
+    }
+    for (int p = 0; p < 3; p++)
+        dv[p] = vf[p] - vt[p];
+    kl_cm3_vec(Y, dv, ito);
+    kl_cm3_vec(n->ysh + 9 * k, vf, tf);
+    kl_cm3_vec(n->ysh + 9 * k, vt, tt);
+    for (int p = 0; p < 3; p++) {
+        ifr[p] = ito[p] + 0.5 * tf[p];
+        ito[p] -= 0.5 * tt[p];
+    }
+}
+
+/* Branch and bus currents at the final voltages, as the sweep leaves them:
+ * loads at the final voltages; the loop-closing branches' currents from
+ * their own models, drawn from their `from` bus and delivered to their `to`
+ * bus; then the tree from the leaves up, I_to = J_to, I_from = c V_to + d I_to,
+ * J_from += I_from.  Every bus then meets Kirchhoff's current law exactly
+ * and the power balance closes; no line admittance is inverted again. */
 static void branch_currents(kl_network *n, double scale)
 {
     memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
     kl_load_inject(n, scale);
-    for (int k = 0; k < n->nbranches + n->nlinks; k++) {
-        const kl_complex *vf = n->v + 3 * n->br_from[k], *vt = n->v + 3 * n->br_to[k];
-        kl_complex *ifr = n->i_from + 3 * k, *ito = n->i_to + 3 * k, Y[9], dv[3], t[3];
-        if (is_line(n, k) && line_admittance(n, k, Y) == 0) {
-            /* pi model: I_from = Y (Vf - Vt) + Ysh/2 Vf,  I_to = Y (Vf - Vt) - Ysh/2 Vt */
-            kl_complex tf[3];
-            for (int p = 0; p < 3; p++)
-                dv[p] = vf[p] - vt[p];
-            kl_cm3_vec(Y, dv, ito);
-            kl_cm3_vec(n->ysh + 9 * k, vf, tf);
-            kl_cm3_vec(n->ysh + 9 * k, vt, t);
-            for (int p = 0; p < 3; p++) {
-                ifr[p] = ito[p] + 0.5 * tf[p];
-                ito[p] -= 0.5 * t[p];
-            }
-        } else if (!is_line(n, k)) {
-            kl_cm3_vec(n->d + 9 * k, ito, ifr);
-        }
+    for (int k = n->nbranches; k < n->nbranches + n->nlinks; k++) {
+        link_currents(n, k);
         kl_complex *jf = n->j + 3 * n->br_from[k], *jt = n->j + 3 * n->br_to[k];
         for (int p = 0; p < 3; p++) {
-            jf[p] += ifr[p];
-            if (k >= n->nbranches)
-                jt[p] -= ito[p];
+            jf[p] += n->i_from[3 * k + p];
+            jt[p] -= n->i_to[3 * k + p];
+        }
+    }
+    for (int k = n->nbranches - 1; k >= 0; k--) {
+        kl_complex *ito = n->i_to + 3 * k, *ifr = n->i_from + 3 * k, t[3];
+        const kl_complex *vto = n->v + 3 * n->br_to[k];
+        kl_complex *jfr = n->j + 3 * n->br_from[k];
+        memcpy(ito, n->j + 3 * n->br_to[k], 3 * sizeof *ito);
+        kl_cm3_vec(n->c + 9 * k, vto, ifr);
+        kl_cm3_vec(n->d + 9 * k, ito, t);
+        for (int p = 0; p < 3; p++) {
+            ifr[p] += t[p];
+            jfr[p] += ifr[p];
         }
     }
 }
