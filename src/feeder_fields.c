@@ -157,6 +157,33 @@ static void unknown_key(kl_loader *L, int key, const char *const *keys, const ch
     kl_ld_error(L, key, "unknown key '%s' in %s: the keys known here are %s", k, what, list);
 }
 
+/* Position of the key text t (len bytes) in keys, or -1.  The first byte is
+ * compared before strcmp: key dispatch runs for every key of every element,
+ * and most candidates differ there. */
+static int key_index(const char *const *keys, const char *t, int len)
+{
+    int i;
+    if (len == 0)
+        return -1;
+    for (i = 0; keys[i]; i++)
+        if (keys[i][0] == t[0] && strcmp(keys[i], t) == 0)
+            return i;
+    return -1;
+}
+
+/* Labels the element by its `name:` value so that unknown keys written before
+ * the name are reported against it. */
+static void label_by_name(kl_loader *L, const kl_ynode *m)
+{
+    int key;
+    for (key = m->first; key >= 0; key = kl_ynode_at(L->r, kl_ynode_at(L->r, key)->next)->next) {
+        const kl_ynode *k = kl_ynode_at(L->r, key), *v = kl_ynode_at(L->r, k->next);
+        const char *t = kl_ynode_text(L->r, key);
+        if (t[0] == 'n' && strcmp(t, "name") == 0 && v->kind == KL_YSCALAR)
+            L->elem_name = kl_ynode_text(L->r, k->next);
+    }
+}
+
 int kl_ld_fields(kl_loader *L, int map, const char *const *keys, kl_fields *fl, const char *what)
 {
     const kl_ynode *m = kl_ynode_at(L->r, map);
@@ -169,26 +196,22 @@ int kl_ld_fields(kl_loader *L, int map, const char *const *keys, kl_fields *fl, 
         kl_ld_error(L, map, "expected a mapping of keys for %s (like '{name: x, ...}')", what);
         return -1;
     }
-    for (key = m->first; key >= 0 && keys[0] && strcmp(keys[0], "name") == 0;
-         key = kl_ynode_at(L->r, kl_ynode_at(L->r, key)->next)->next)
-        if (strcmp(kl_ynode_text(L->r, key), "name") == 0 &&
-            kl_ynode_at(L->r, kl_ynode_at(L->r, key)->next)->kind == KL_YSCALAR)
-            L->elem_name = kl_ynode_text(L->r, kl_ynode_at(L->r, key)->next); /* label unknown keys by name */
+    if (keys[0] && strcmp(keys[0], "name") == 0)
+        label_by_name(L, m);
     for (key = m->first; key >= 0; key = kl_ynode_at(L->r, kl_ynode_at(L->r, key)->next)->next) {
-        int val = kl_ynode_at(L->r, key)->next, found = -1;
-        if (kl_ynode_at(L->r, key)->kind != KL_YSCALAR) {
+        const kl_ynode *k = kl_ynode_at(L->r, key);
+        int found;
+        if (k->kind != KL_YSCALAR) {
             kl_ld_error(L, key, "expected a plain key name in %s", what);
             continue;
         }
-        for (i = 0; keys[i]; i++)
-            if (strcmp(keys[i], kl_ynode_text(L->r, key)) == 0)
-                found = i;
+        found = key_index(keys, kl_ynode_text(L->r, key), k->len);
         if (found < 0)
             unknown_key(L, key, keys, what);
         else if (fl->val[found] >= 0)
             kl_ld_error(L, key, "key '%s' given twice in %s: keep one", keys[found], what);
         else
-            fl->val[found] = val;
+            fl->val[found] = k->next;
     }
     return 0;
 }
