@@ -6,6 +6,7 @@
 #include <ctype.h>
 #include <math.h>
 #include <stdio.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 #include "kilter/units.h"
@@ -77,29 +78,61 @@ static const char *skip_ws(const char *p)
     return p;
 }
 
+/* Exact value of m * 10^e when both factors are exact doubles (m <= 2^53,
+ * |e| <= 22): one IEEE multiplication or division then rounds correctly, so
+ * the result is the one strtod gives (Clinger, "How to read floating point
+ * numbers accurately", PLDI 1990, the fast path).  Returns 0 otherwise. */
+static int exact_decimal(uint64_t m, int e, int neg, double *v)
+{
+    static const double p10[23] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
+                                   1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+                                   1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+    double x;
+    if (m > ((uint64_t)1 << 53) || e < -22 || e > 22)
+        return 0;
+    x = (double)m;
+    x = e < 0 ? x / p10[-e] : x * p10[e];
+    *v = neg ? -x : x;
+    return 1;
+}
+
 /* Decimal number: [sign] digits [. digits] [e [sign] digits].  Scanned by hand
- * first so that strtod's extras (hex, "inf", "nan") are refused. */
+ * first so that strtod's extras (hex, "inf", "nan") are refused; plain values
+ * of up to 15 significant digits are converted on the way (exact_decimal),
+ * strtod does the rest. */
 static const char *scan_number(const char *p, double *v)
 {
     const char *s = p;
     char *end;
-    int digits = 0;
+    int digits = 0, neg = 0, e10 = 0, exact = 1;
+    uint64_t m = 0;
     if (*p == '+' || *p == '-')
-        p++;
-    while (isdigit((unsigned char)*p))
-        p++, digits++;
+        neg = *p++ == '-';
+    for (; isdigit((unsigned char)*p); p++, digits++) {
+        exact &= m < 100000000000000000u;
+        m = m * 10 + (uint64_t)(*p - '0');
+    }
     if (*p == '.')
-        for (p++; isdigit((unsigned char)*p); p++)
-            digits++;
+        for (p++; isdigit((unsigned char)*p); p++, digits++, e10--) {
+            exact &= m < 100000000000000000u;
+            m = m * 10 + (uint64_t)(*p - '0');
+        }
     if (!digits)
         return NULL;
     if ((*p == 'e' || *p == 'E') &&
         (isdigit((unsigned char)p[1]) ||
          ((p[1] == '+' || p[1] == '-') && isdigit((unsigned char)p[2])))) {
-        p += 2;
-        while (isdigit((unsigned char)*p))
-            p++;
+        int eneg = p[1] == '-', x = 0;
+        p += isdigit((unsigned char)p[1]) ? 1 : 2;
+        for (; isdigit((unsigned char)*p); p++)
+            if (x < 10000)
+                x = x * 10 + (*p - '0');
+        e10 += eneg ? -x : x;
     }
+    /* "0x..." goes to strtod, which reads it as hex, so that it is refused
+     * below as before rather than read as 0 followed by a unit */
+    if (exact && *p != 'x' && *p != 'X' && exact_decimal(m, e10, neg, v))
+        return p;
     *v = strtod(s, &end);
     if (end != p)
         return NULL;

@@ -1,6 +1,7 @@
 /* Unit parsing against exact definitions (NIST SP 811, 2008 edition, appendix B). */
 #include <check.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include "kilter/units.h"
@@ -112,6 +113,63 @@ START_TEST(printing)
 }
 END_TEST
 
+/* Plain numbers must read exactly as the C library's strtod reads them (a
+ * correctly rounded conversion, ISO C11 7.22.1.3 with IEEE 754 arithmetic):
+ * the loader converts short decimals itself and must not differ from it by a
+ * single bit.  Cases: the fast path's edges (2^53, 10^22), leading zeros,
+ * zeros, exponents, more digits than the fast path takes, and random
+ * decimals of 1 to 19 digits from a fixed seed. */
+static void same_as_strtod(const char *text)
+{
+    double v = NAN, want = strtod(text, NULL);
+    char why[300];
+    ck_assert_msg(kl_units_parse_real(text, KL_Q_NUMBER, &v, why, sizeof why) == KL_OK, "%s: %s", text, why);
+    /* == is bit equality for finite doubles but for the sign of zero, which
+     * the complex value the parser builds (re + I im) does not keep */
+    ck_assert_msg(v == want, "%s: got %.17g, strtod %.17g", text, v, want);
+}
+
+START_TEST(numbers_as_strtod)
+{
+    static const char *const fixed[] = {
+        "0", "-0", "+0.0", "1", "0.1", "0.3", "-2.5", "12.47", "0.306", "0.00814", "1.7241e-8",
+        "9007199254740992", "9007199254740993", "9007199254740991.5", "1e22", "1e23", "1e-22",
+        "1e-23", "123456789012345678", "0.000000000000000000000000001", "4.9e-324", "2.2250738585072014e-308",
+        "1.7976931348623157e308", "3.14159265358979323846264338327950288", "1E5", "1e+05", "100000000000000000000000",
+        ".5", "5.", "-.25e2", "0.1e1", "00012.5000"};
+    unsigned long long x = 88172645463325252ull; /* xorshift64 (Marsaglia 2003), fixed seed */
+    char buf[64];
+    size_t i;
+    int k;
+    for (i = 0; i < sizeof fixed / sizeof fixed[0]; i++)
+        same_as_strtod(fixed[i]);
+    for (k = 0; k < 20000; k++) {
+        int nd, dot, j, n = 0;
+        x ^= x << 13, x ^= x >> 7, x ^= x << 17;
+        nd = 1 + (int)(x % 19);
+        dot = (int)((x >> 8) % (unsigned)(nd + 1));
+        if (x >> 20 & 1)
+            buf[n++] = '-';
+        for (j = 0; j < nd; j++) {
+            if (j == dot && j > 0)
+                buf[n++] = '.';
+            x ^= x << 13, x ^= x >> 7, x ^= x << 17;
+            buf[n++] = (char)('0' + x % 10);
+        }
+        if (x >> 30 & 1)
+            n += snprintf(buf + n, sizeof buf - (size_t)n, "e%d", (int)((x >> 32) % 61) - 30);
+        buf[n] = '\0';
+        same_as_strtod(buf);
+    }
+    {   /* hex is strtod's extra, refused as not a number (ISO C11 7.22.1.3 reads it) */
+        double v;
+        char why[300] = "";
+        ck_assert_int_eq(kl_units_parse_real("0x10", KL_Q_NUMBER, &v, why, sizeof why), KL_EINPUT);
+        ck_assert_ptr_nonnull(strstr(why, "expected a number"));
+    }
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("units");
@@ -125,6 +183,7 @@ int main(void)
     tcase_add_test(tc, share_and_plain);
     tcase_add_test(tc, rejected);
     tcase_add_test(tc, printing);
+    tcase_add_test(tc, numbers_as_strtod);
     suite_add_tcase(s, tc);
     sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
