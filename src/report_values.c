@@ -8,6 +8,7 @@
  * it out and the tables print a dash. */
 #include <complex.h>
 #include <math.h>
+#include <string.h>
 #include "kl_internal.h"
 #include "kilter/sequence.h"
 #include "kilter/unbalance.h"
@@ -145,4 +146,13 @@ kl_status kl_report_input_check(FILE *out, const kl_report_input *in, kl_errors 
 kl_report_phases kl_report_phases_of(const kl_flow_result *res)
 {
     return (kl_report_phases){res->v, res->v_base_ln, res->i, res->i_neutral};
+}
+
+int kl_map_index_parse(const char *s)
+{
+    static const char *const name[3] = {"voltage", "vuf", "neutral"}; /* kl_map_index order */
+    for (int k = 0; s && k < 3; k++)
+        if (!strcmp(s, name[k]))
+            return k;
+    return -1;
 }

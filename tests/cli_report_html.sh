@@ -100,6 +100,15 @@ for t in unbalance neutral; do
     END { exit bad }' || exit 1
 done
 
+# The user chooses what colours the map; a wrong choice is a usage error (exit 64).
+"$kilter" study "$feeder" --map neutral --html "$tmp/n.html" >/dev/null 2>"$tmp/err" \
+  || { cat "$tmp/err"; fail "kilter study --map neutral failed"; }
+grep -q '>neutral current (A)</text>' "$tmp/n.html" || fail "--map neutral: the map legend names another index"
+"$kilter" study "$feeder" --map colour --html "$tmp/x.html" >/dev/null 2>"$tmp/err"
+[ $? -eq 64 ] || fail "--map colour should be refused with exit 64"
+grep -q -- "--map needs vuf, neutral or voltage" "$tmp/err" || fail "--map colour: unclear message"
+[ ! -e "$tmp/x.html" ] || fail "--map colour still wrote a report"
+
 # With a rebalancing plan: the moves table and the before/after plot join the page.
 "$kilter" rebalance "$feeder" --max-moves 3 --html "$tmp/plan.html" >/dev/null 2>"$tmp/err" \
   || { cat "$tmp/err"; fail "kilter rebalance --html failed"; }

@@ -61,6 +61,9 @@ typedef struct {
     kl_progress *progress;       /* may be NULL */
 } kl_report_input;
 
+/* "voltage", "vuf" or "neutral" -> the kl_map_index; -1 for anything else. */
+int kl_map_index_parse(const char *s);
+
 /* Fills the defaults stated in kl_report_options. */
 void kl_report_options_default(kl_report_options *o);
 

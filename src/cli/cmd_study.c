@@ -15,7 +15,8 @@
 #include "study_print.h"
 
 enum { OPT_AT, OPT_MPHASE, OPT_MLINE, OPT_TOL, OPT_VUFTOL, OPT_LIMIT, OPT_LEVEL, OPT_RANGE,
-       OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_SCALE, NOPTS };
+       OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_SCALE, OPT_MAP,
+       NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     { "at", 1, "BUS", "complaint check: a focused report for this bus" },
@@ -33,6 +34,7 @@ static const kl_cli_opt opts[NOPTS] = {
     { "table", 1, "NAME", "CSV table: buses, sections, neutrals, runs or contributors" },
     { "html", 1, "FILE", "also write the HTML report to FILE" },
     { "load-scale", 1, "X", "multiply every load by X (default 1)" },
+    { "map", 1, "vuf|neutral|voltage", "what colours the HTML report's feeder map (default vuf)" },
 };
 
 typedef struct {
@@ -41,6 +43,7 @@ typedef struct {
     kl_complaint_input ci;
     int range_b;
     kl_study_table table;
+    int map_index;     /* --map: kl_map_index of the HTML report */
 } study_args;
 
 /* A positive finite number; pct: a percentage turned into a fraction. */
@@ -152,6 +155,11 @@ static int read_options(const kl_cli_args *a, study_args *x)
         return rc;
     if (a->val[OPT_SCALE] && (rc = read_num(a->val[OPT_SCALE], "load-scale", 0, &x->fo.load_scale)))
         return rc;
+    x->map_index = a->val[OPT_MAP] ? kl_map_index_parse(a->val[OPT_MAP]) : KL_MAP_BY_VUF;
+    if (x->map_index < 0) {
+        kl_cli_error("study: --map needs vuf, neutral or voltage, not '%s'", a->val[OPT_MAP]);
+        return KL_EXIT_USAGE;
+    }
     if (a->val[OPT_TOP]) {
         double n;
         if ((rc = read_num(a->val[OPT_TOP], "contributors", 0, &n)))
@@ -196,6 +204,7 @@ static int write_html(const char *path, const kl_feeder *f, const kl_flow_result
     kl_report_options_default(&in.opt);
     in.opt.limits = x->so.limits;
     in.opt.load_scale = x->fo.load_scale;
+    in.opt.map_index = (kl_map_index)x->map_index;
     if (x->ci.bus >= 0)
         in.opt.phasor_bus = x->ci.bus;
     if ((rc = kl_cli_out_open(&out)))
