@@ -309,6 +309,10 @@ void kl_regulator_relay_voltage(const struct kl_network *net, int r, double vr[3
 /* load_model.c: adds every load's and capacitor's current at the present
  * voltages into net->j (scale multiplies load powers). */
 void kl_load_inject(struct kl_network *net, double scale);
+/* The same on other arrays: bus b's voltages at v + 3 map[b], its current
+ * into j + 3 map[b] (map NULL: bus ids; the sweep passes its positions). */
+void kl_load_inject_at(const struct kl_network *net, double scale, const kl_complex *v,
+                       kl_complex *j, const int *map);
 /* Actual powers at the present voltages into res->s_load, q_cap, s_loads. */
 void kl_load_powers(const struct kl_network *net, double scale, struct kl_flow_result *res);
 

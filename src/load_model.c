@@ -36,13 +36,14 @@ typedef struct {
     kl_complex v, i;
 } entry_state;
 
-static int load_entry(const kl_network *n, int m, int k, double scale, entry_state *e)
+static int load_entry(const kl_network *n, const kl_complex *vv, const int *map, int m, int k,
+                      double scale, entry_state *e)
 {
     const kl_net_load *nl = &n->loads[m];
     const kl_load *ld = &n->feeder->loads[nl->load];
     if (!(ld->phases & (1 << k)))
         return 0;
-    const kl_complex *v = n->v + 3 * nl->bus;
+    const kl_complex *v = vv + 3 * (map ? map[nl->bus] : nl->bus);
     double vn = n->v_base_ln[nl->bus];
     e->entry = k;
     e->p = n->ld_slot[3 * nl->load + k];
@@ -57,12 +58,13 @@ static int load_entry(const kl_network *n, int m, int k, double scale, entry_sta
     return 1;
 }
 
-static int cap_entry(const kl_network *n, int c, int k, entry_state *e)
+static int cap_entry(const kl_network *n, const kl_complex *vv, const int *map, int c, int k,
+                     entry_state *e)
 {
     const kl_capacitor *cp = &n->feeder->capacitors[c];
     if (!(cp->phases & (1 << k)))
         return 0;
-    const kl_complex *v = n->v + 3 * cp->bus;
+    const kl_complex *v = vv + 3 * (map ? map[cp->bus] : cp->bus);
     double vn = n->v_base_ln[cp->bus];
     e->entry = k;
     e->p = k;
@@ -77,13 +79,15 @@ static int cap_entry(const kl_network *n, int c, int k, entry_state *e)
     return 1;
 }
 
-void kl_load_inject(kl_network *n, double scale)
+void kl_load_inject_at(const kl_network *n, double scale, const kl_complex *v, kl_complex *jj,
+                       const int *map)
 {
     entry_state e;
     for (int m = 0; m < n->nloads; m++) {
-        kl_complex *j = n->j + 3 * n->loads[m].bus;
+        int b = n->loads[m].bus;
+        kl_complex *j = jj + 3 * (map ? map[b] : b);
         for (int k = 0; k < 3; k++) {
-            if (!load_entry(n, m, k, scale, &e))
+            if (!load_entry(n, v, map, m, k, scale, &e))
                 continue;
             j[e.p] += e.i;
             if (e.q >= 0)
@@ -91,15 +95,21 @@ void kl_load_inject(kl_network *n, double scale)
         }
     }
     for (int c = 0; c < n->feeder->ncapacitors; c++) {
-        kl_complex *j = n->j + 3 * n->feeder->capacitors[c].bus;
+        int b = n->feeder->capacitors[c].bus;
+        kl_complex *j = jj + 3 * (map ? map[b] : b);
         for (int k = 0; k < 3; k++) {
-            if (!cap_entry(n, c, k, &e))
+            if (!cap_entry(n, v, map, c, k, &e))
                 continue;
             j[e.p] += e.i;
             if (e.q >= 0)
                 j[e.q] -= e.i;
         }
     }
+}
+
+void kl_load_inject(kl_network *n, double scale)
+{
+    kl_load_inject_at(n, scale, n->v, n->j, NULL);
 }
 
 static void add_phase_power(kl_complex tot[3], const entry_state *e, kl_complex s)
@@ -122,7 +132,7 @@ void kl_load_powers(const kl_network *n, double scale, kl_flow_result *res)
         res->s_loads[p] = 0;
     for (int m = 0; m < n->nloads; m++) {
         for (int k = 0; k < 3; k++) {
-            if (!load_entry(n, m, k, scale, &e))
+            if (!load_entry(n, n->v, NULL, m, k, scale, &e))
                 continue;
             kl_complex s = e.v * conj(e.i);
             res->s_load[3 * n->loads[m].load + k] += s;
@@ -132,7 +142,7 @@ void kl_load_powers(const kl_network *n, double scale, kl_flow_result *res)
     for (int c = 0; c < f->ncapacitors; c++) {
         for (int k = 0; k < 3; k++) {
             res->q_cap[3 * c + k] = 0;
-            if (!cap_entry(n, c, k, &e))
+            if (!cap_entry(n, n->v, NULL, c, k, &e))
                 continue;
             kl_complex s = e.v * conj(e.i);
             res->q_cap[3 * c + k] = -cimag(s);

@@ -239,8 +239,13 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->j = kl_calloc(3 * nb, sizeof(kl_complex));
     n->i_from = kl_calloc(3 * nr, sizeof(kl_complex));
     n->i_to = kl_calloc(3 * nr, sizeof(kl_complex));
+    n->pos = kl_calloc(nb, sizeof(int));
+    n->br_from_pos = kl_calloc(nr, sizeof(int));
+    n->vs = kl_calloc(3 * nb, sizeof(kl_complex));
+    n->js = kl_calloc(3 * nb, sizeof(kl_complex));
     ok = ok && n->sec_first && n->sec_last && n->loads && n->ld_slot && n->reg_branch &&
-         n->tap && n->v && n->j && n->i_from && n->i_to;
+         n->tap && n->v && n->j && n->i_from && n->i_to && n->pos && n->br_from_pos && n->vs &&
+         n->js;
     return ok ? KL_OK : KL_ENOMEM;
 }
 
@@ -252,7 +257,8 @@ void kl_network_free(kl_network *n)
     void *p[] = {n->order, n->phases, n->v_base_ln, n->parent, n->br_from, n->br_to,
                  n->br_kind, n->br_phases, n->br_section, n->a, n->b, n->c, n->d, n->A,
                  n->B, n->zser, n->ysh, n->sec_first, n->sec_last, n->loads, n->ld_slot,
-                 n->reg_branch, n->tap, n->v, n->j, n->i_from, n->i_to};
+                 n->reg_branch, n->tap, n->v, n->j, n->i_from, n->i_to, n->pos,
+                 n->br_from_pos, n->vs, n->js};
     for (size_t k = 0; k < sizeof p / sizeof p[0]; k++)
         kl_free(p[k]);
     kl_free(n);
@@ -386,11 +392,6 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
     if (sc->kind == KL_SEC_REGULATOR) {
         if (sc->device < 0 || sc->device >= f->nregulators) {
             net_err(err, f, sc->loc, "section", sc->name, "names an unknown regulator");
-            return KL_EINPUT;
-        }
-        if (f->regulators[sc->device].conn == KL_REG_CLOSED_DELTA) {
-            net_err(err, f, sc->loc, "section", sc->name, "closed-delta regulators are not "
-                    "modelled by the load flow: use wye or open-delta units");
             return KL_EINPUT;
         }
         n->br_kind[k] = KL_BR_REGULATOR;
@@ -602,6 +603,16 @@ static kl_status check_capacitors(const kl_network *n, const int *seen, kl_error
     return st;
 }
 
+/* Positions for the sweep: order[] lists the source, then the to-bus of
+ * each tree branch in branch order. */
+static void sweep_layout(kl_network *n)
+{
+    for (int i = 0; i < n->nbuses; i++)
+        n->pos[n->order[i]] = i;
+    for (int k = 0; k < n->nbranches; k++)
+        n->br_from_pos[k] = n->pos[n->br_from[k]];
+}
+
 /* Builds branches, buses, loads and workspace.  Temporary arrays are freed
  * at the one exit. */
 kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
@@ -679,6 +690,8 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         st = place_loads(n, mid_of, seen, err);
     if (!st)
         st = check_capacitors(n, seen, err);
+    if (!st)
+        sweep_layout(n);
 done:
     kl_free(g.start);
     kl_free(g.sec);

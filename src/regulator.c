@@ -11,8 +11,8 @@
  * given by the regulator's phase mask: bit 0 ab, bit 1 bc, bit 2 ca) acts on
  * line-to-line voltages, V_pq = a_pq V_PQ for the two units, the third side
  * closing by KVL, and the load side's line-to-neutral voltages are W V_ll
- * (zero sequence free).  Closed delta is refused by the network builder: its
- * coupled ratios are not modelled here yet.
+ * (zero sequence free).  Closed delta: three units, each with its series
+ * winding in one line (below).
  *
  * Line-drop compensation (Kersting ch. 7, from memory): the relay sees
  *   V_relay = V_out / PT - (R + jX) I_line / CT_primary    [volts, 120 V base]
@@ -31,9 +31,26 @@ static double ratio(const kl_regulator *r, int tap)
     return 1.0 + step * tap;
 }
 
+/* Closed delta: the unit between lines p and p+1 has its series winding in
+ * line p, excited by the source-side V_p - V_p+1:
+ *   V_p' = V_p + (a_p - 1)(V_p - V_p+1),  i.e.  A = U + diag(a - 1) D,
+ * which gives V_ab' = a_ab V_AB + (1 - a_bc) V_BC (Kersting ch. 7, from memory). */
+static void closed_delta(const kl_regulator *r, const int tap[3], kl_complex A[9])
+{
+    for (int p = 0; p < 3; p++) {
+        double e = ratio(r, tap[p]) - 1.0;
+        A[3 * p + p] = 1.0 + e;
+        A[3 * p + (p + 1) % 3] = -e;
+    }
+}
+
 /* Open-delta regulators: A = W M D with D the line-to-line difference matrix. */
 static void delta_matrices(const kl_regulator *r, const int tap[3], kl_complex A[9])
 {
+    if (r->conn == KL_REG_CLOSED_DELTA) {
+        closed_delta(r, tap, A);
+        return;
+    }
     kl_complex M[9] = {0}, D[9] = {0}, Wc[9], WM[9];
     for (int p = 0; p < 3; p++) {
         D[3 * p + p] = 1.0;

@@ -47,15 +47,16 @@ static inline int is_masked_kind(int kind)
     return kind == KL_BR_LINE || kind == KL_BR_SWITCH;
 }
 
-/* Backward sweep: currents from the present voltages. */
+/* Backward sweep: currents from the present voltages (positions: the
+ * to-bus of branch k is at k + 1). */
 static void sweep_backward(kl_network *n, double scale)
 {
-    memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
-    kl_load_inject(n, scale);
+    memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
+    kl_load_inject_at(n, scale, n->vs, n->js, n->pos);
     for (int k = n->nbranches - 1; k >= 0; k--) {
         kl_complex *ito = n->i_to + 3 * k, *ifr = n->i_from + 3 * k;
-        const kl_complex *vto = n->v + 3 * n->br_to[k], *jto = n->j + 3 * n->br_to[k];
-        kl_complex *jfr = n->j + 3 * n->br_from[k];
+        const kl_complex *vto = n->vs + 3 * (k + 1), *jto = n->js + 3 * (k + 1);
+        kl_complex *jfr = n->js + 3 * n->br_from_pos[k];
         memcpy(ito, jto, 3 * sizeof *ito);
         if (is_masked_kind(n->br_kind[k])) {
             ifr[0] = ifr[1] = ifr[2] = 0;
@@ -68,12 +69,12 @@ static void sweep_backward(kl_network *n, double scale)
     }
 }
 
-/* Sets v to new values, returning the largest change in per unit (or
- * INFINITY on a non-finite value) and where it sits. */
-static inline double set_voltage(kl_network *n, int bus, const kl_complex vnew[3], double worst,
-                                 int *where)
+/* Sets the voltages at position i (bus `bus`), returning the largest change
+ * in per unit (INFINITY on a non-finite value) and where it sits. */
+static inline double set_voltage(kl_network *n, int i, int bus, const kl_complex vnew[3],
+                                 double worst, int *where)
 {
-    kl_complex *v = n->v + 3 * bus;
+    kl_complex *v = n->vs + 3 * i;
     int mask = n->phases[bus];
     double big = 0;
     for (int p = 0; p < 3; p++) {
@@ -97,21 +98,36 @@ static double sweep_forward(kl_network *n, int *where)
     kl_complex vs[3], t[3];
     memcpy(vs, n->v_source, sizeof vs);
     if (n->has_zsource) {
-        kl_cm3_vec(n->zsource, n->j + 3 * n->source, t);
+        kl_cm3_vec(n->zsource, n->js, t);
         for (int p = 0; p < 3; p++)
             vs[p] -= t[p];
     }
-    double worst = set_voltage(n, n->source, vs, 0.0, where);
+    double worst = set_voltage(n, 0, n->source, vs, 0.0, where);
     for (int k = 0; k < n->nbranches; k++) {
         kl_complex vnew[3] = {0, 0, 0};
-        const kl_complex *vf = n->v + 3 * n->br_from[k], *ito = n->i_to + 3 * k;
+        const kl_complex *vf = n->vs + 3 * n->br_from_pos[k], *ito = n->i_to + 3 * k;
         if (is_masked_kind(n->br_kind[k]))
             mv2_masked(n->A + 9 * k, vf, n->B + 9 * k, ito, -1.0, n->br_phases[k], vnew);
         else
             mv2_full(n->A + 9 * k, vf, n->B + 9 * k, ito, -1.0, vnew);
-        worst = set_voltage(n, n->br_to[k], vnew, worst, where);
+        worst = set_voltage(n, k + 1, n->br_to[k], vnew, worst, where);
     }
     return worst;
+}
+
+/* Between the network's bus-id arrays and the sweep's positions. */
+static void gather_voltages(kl_network *n)
+{
+    for (int i = 0; i < n->nbuses; i++)
+        memcpy(n->vs + 3 * i, n->v + 3 * n->order[i], 3 * sizeof n->vs[0]);
+}
+
+static void scatter_state(kl_network *n)
+{
+    for (int i = 0; i < n->nbuses; i++) {
+        memcpy(n->v + 3 * n->order[i], n->vs + 3 * i, 3 * sizeof n->v[0]);
+        memcpy(n->j + 3 * n->order[i], n->js + 3 * i, 3 * sizeof n->j[0]);
+    }
 }
 
 /* Lowest present-phase voltage in per unit, for the non-convergence message. */
@@ -172,9 +188,9 @@ static void flat_start(kl_network *n)
 {
     int where = -1;
     memset(n->i_to, 0, 3 * (size_t)n->nbranches * sizeof n->i_to[0]);
-    memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
+    memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
+    memset(n->vs, 0, 3 * (size_t)n->nbuses * sizeof n->vs[0]);
     sweep_forward(n, &where);
-    n->v_valid = 1;
 }
 
 kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_result *res,
@@ -193,7 +209,9 @@ kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_resu
         return KL_ETOPO;
     }
     double scale = opt->load_scale;
-    if (!n->v_valid)
+    if (n->v_valid)
+        gather_voltages(n);
+    else
         flat_start(n);
     double worst = INFINITY;
     int where = -1, it = 0;
@@ -208,6 +226,8 @@ kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_resu
     /* final currents consistent with the final voltages (exact power balance) */
     if (isfinite(worst))
         sweep_backward(n, scale);
+    scatter_state(n);
+    n->v_valid = 1;
     if (res) {
         res->iterations = it;
         res->total_iterations += it;

@@ -504,12 +504,21 @@ START_TEST(test_regulator_open_delta)
     ck_assert_msg(cabs(bc - 1.025) < 1e-12, "bc ratio %g", cabs(bc));
     ck_assert(cabs(vo[0] + vo[1] + vo[2]) < 1e-9 * cabs(vo[0])); /* no zero sequence */
     done(n, r, &e);
-    /* closed delta is not modelled: refused with a message, never solved */
+    /* closed delta at no load: V_ab = a_ab V_AB + (1 - a_bc) V_BC, cyclic
+     * (Kersting ch. 7, from memory) */
     kl_errors_init(&e);
     H.reg[0].conn = KL_REG_CLOSED_DELTA;
     H.reg[0].phases = KL_PH_ABC;
-    ck_assert_int_eq(run(&H.f, NULL, &n, &r, &e), KL_EINPUT);
-    ck_assert(strstr(first(&e), "closed-delta"));
+    H.reg[0].tap[2] = -6;
+    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    vs = r->v;
+    vo = r->v + 3;
+    double a_r[3] = {1.05, 1.025, 1 - 0.0375};
+    for (int p = 0; p < 3; p++) {
+        int q = (p + 1) % 3, t = (p + 2) % 3;
+        kl_complex want = a_r[p] * (vs[p] - vs[q]) + (1 - a_r[q]) * (vs[q] - vs[t]);
+        ck_assert_msg(cabs(vo[p] - vo[q] - want) < 1e-9 * cabs(want), "closed delta pair %d", p);
+    }
     done(n, r, &e);
 }
 END_TEST
@@ -645,6 +654,9 @@ START_TEST(test_random_feeders)
         build_random(&H, seed);
         ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "seed %u: %s", seed, first(&e));
         for (int k = 0; k < n->nbranches; k++) {
+            /* the sweep's layout: branch k feeds the bus at position k + 1 */
+            ck_assert_int_eq(n->order[k + 1], n->br_to[k]);
+            ck_assert_int_eq(n->pos[n->br_to[k]], k + 1);
             kl_complex vf[3], t[3], t2[3];
             kl_cm3_vec(n->a + 9 * k, n->v + 3 * n->br_to[k], vf);
             kl_cm3_vec(n->b + 9 * k, n->i_to + 3 * k, t);

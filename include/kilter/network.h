@@ -94,6 +94,13 @@ typedef struct kl_network {
     kl_complex *i_from;    /* [3*nbranches] sending-end currents */
     kl_complex *i_to;      /* [3*nbranches] receiving-end currents */
 
+    /* sweep layout (sweep.c): the sweep keeps bus quantities by position in
+     * order[] (the to-bus of tree branch k sits at position k + 1), so its
+     * loops walk memory in sequence; it fills v and j above when it ends. */
+    int *pos;              /* [nbuses] position of each bus in order[] */
+    int *br_from_pos;      /* [nbranches] pos[br_from[k]] */
+    kl_complex *vs, *js;   /* [3*nbuses] voltages and bus currents by position */
+
     /* nodal solver (nodal.c): its matrix, ordering and LU factors, built on
      * the first nodal solve and kept, so later solves only refactor when
      * regulator taps have moved.  Code that changes branch matrices in any
