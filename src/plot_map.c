@@ -1,6 +1,7 @@
 /* kilter: feeder map.  Buses sit at their coordinates from the feeder file
  * when every drawn bus has them (the file's y axis points up, the screen's
- * down), otherwise at the layered tree layout of plot_tree.c.  A section's
+ * down), otherwise at the layered tree layout of plot_tree.c, each section
+ * then drawn as an elbow (down from its parent, then across).  A section's
  * phasing shows in its line (three-phase thick and solid, two-phase medium
  * and dashed, single-phase thin and dotted), its colour in the chosen index
  * (report.h kl_map_index) on a sequential scale with a legend; sections with
@@ -20,6 +21,7 @@ typedef struct {
     int worst_bus;   /* far bus of the worst section */
     double h;        /* picture height */
     int thin;        /* too many sections: three-phase part only */
+    int tree;        /* automatic layout: sections drawn as elbows */
 } map;
 
 static int popcount3(int m)
@@ -94,6 +96,7 @@ static kl_status place(map *m, const kl_report_input *in, const kl_plot_tree *t,
         fit(m, t, rx, ry, 1, 1);
     } else {
         st = kl_plot_tree_layout(f, t, rx, ry, &rows, err);
+        m->tree = 1;
         if (st == KL_OK)
             fit(m, t, rx, ry, 0, 0);
     }
@@ -152,10 +155,15 @@ static void draw_sections(FILE *out, const map *m, const kl_report_input *in, co
             snprintf(col, sizeof col, "#9a9a9a");
         int np = popcount3(in->feeder->sections[s].phases);
         snprintf(attr, sizeof attr, "stroke=\"%s\"%s", col, style[np < 1 ? 1 : np]);
-        kl_svg_line(out, m->x[a], m->y[a], m->x[b], m->y[b], attr);
+        if (m->tree) { /* down from the parent's column, then across: no diagonals */
+            double px[3] = {m->x[a], m->x[a], m->x[b]}, py[3] = {m->y[a], m->y[b], m->y[b]};
+            kl_svg_polyline(out, px, py, 3, attr);
+        } else {
+            kl_svg_line(out, m->x[a], m->y[a], m->x[b], m->y[b], attr);
+        }
         kl_section_kind kind = in->feeder->sections[s].kind;
         if (kind != KL_SEC_LINE) { /* devices: a small open marker at mid-section */
-            double cx = (m->x[a] + m->x[b]) / 2, cy = (m->y[a] + m->y[b]) / 2;
+            double cx = (m->x[a] + m->x[b]) / 2, cy = m->tree ? m->y[b] : (m->y[a] + m->y[b]) / 2;
             if (kind == KL_SEC_TRANSFORMER)
                 kl_svg_circle(out, cx, cy, 4, "fill=\"#fff\" stroke=\"#222\" stroke-width=\"1.2\"");
             else if (kind == KL_SEC_REGULATOR)
