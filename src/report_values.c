@@ -14,6 +14,7 @@
 #include "kilter/unbalance.h"
 #include "kilter/flow.h"
 #include "kilter/study.h"
+#include "kilter/rebalance.h"
 
 /* Phases of bus b that hold a voltage: the bus's mask, and the flow's 0 for
  * absent phases (in case the mask was never filled). */
@@ -133,6 +134,17 @@ kl_status kl_report_input_check(FILE *out, const kl_report_input *in, kl_errors 
         kl_errors_add(err, f->path, 0, 0, NULL, "report: phasor bus id %d is not a bus of this "
                       "feeder (0..%d, or -1 for the most unbalanced bus)", in->opt.phasor_bus,
                       f->nbuses - 1);
+        return KL_EARG;
+    }
+    if (in->study && (in->study->nbuses != f->nbuses || in->study->nsections != f->nsections)) {
+        kl_errors_add(err, f->path, 0, 0, NULL, "report: the study record is of another feeder "
+                      "(%d buses, %d sections; this one has %d and %d)", in->study->nbuses,
+                      in->study->nsections, f->nbuses, f->nsections);
+        return KL_EARG;
+    }
+    if (in->plan && (!in->rephaser || in->plan->nitems != in->rephaser->nitems)) {
+        kl_errors_add(err, f->path, 0, 0, NULL, "report: the rebalancing plan needs the "
+                      "rephaser it was computed with (its items name the moves)");
         return KL_EARG;
     }
     if ((unsigned)in->opt.map_index > KL_MAP_BY_NEUTRAL) {

@@ -447,7 +447,12 @@ START_TEST(with_the_study)
     kl_study *study = NULL;
     ck_assert_int_eq(kl_study_run(&x.f, &ph, NULL, &so, &study, &err), KL_OK);
     x.rin.study = study;
+    x.f.nbuses--; /* a study of another feeder is refused */
     char *h = render(&x.rin, &st, &err);
+    ck_assert_int_eq(st, KL_EARG);
+    free(h);
+    x.f.nbuses++;
+    h = render(&x.rin, &st, &err);
     ck_assert_int_eq(st, KL_OK);
     ck_assert_ptr_nonnull(strstr(h, "<h3>Neutral sizing</h3>"));
     ck_assert_ptr_nonnull(strstr(h, "<h2>What causes the unbalance</h2>"));
@@ -514,7 +519,13 @@ START_TEST(with_a_plan)
     ck_assert_ptr_nonnull(strstr(h, "worst voltage unbalance 2.80 % before, 1.50 % after"));
     ck_assert_ptr_null(strstr(h, "No rebalancing plan"));
     free(h);
-    /* a plan without levels is refused, not drawn from garbage */
+    /* a plan without its rephaser, or without levels, is refused, not drawn from garbage */
+    x.rin.rephaser = NULL;
+    kl_errors_clear(&err);
+    h = render(&x.rin, &st, &err);
+    ck_assert_int_eq(st, KL_EARG);
+    free(h);
+    x.rin.rephaser = &rp;
     plan->nlevels = 0;
     kl_errors_clear(&err);
     h = render(&x.rin, &st, &err);
