@@ -31,6 +31,17 @@ done
 if grep -Eq '<script|src="|href=|url\(' "$h"; then fail "the page refers to something outside it"; fi
 if grep -Eq '>-?(nan|inf)<|"-?(nan|inf)"' "$h"; then fail "a NaN or infinity reached the page"; fi
 
+# Each plot is well-formed XML on its own (checked when xmllint, from libxml2-utils, is there).
+if command -v xmllint >/dev/null 2>&1; then
+  awk -v dir="$tmp" '/<svg /{ n++; f = dir "/plot" n ".svg"; print "<?xml version=\"1.0\" encoding=\"UTF-8\"?>" > f }
+       f { print > f } /<\/svg>/{ close(f); f = "" }' "$h"
+  for f in "$tmp"/plot*.svg; do
+    xmllint --noout "$f" 2>"$tmp/xml.err" || { cat "$tmp/xml.err"; fail "$(basename "$f") is not well-formed XML"; }
+  done
+else
+  echo "cli_report_html: xmllint not installed: SVG well-formedness not checked"
+fi
+
 # Rows of one HTML table as "name<TAB>v1 v2 ..." (data-v figures) and "name<TAB>t1 t2 ..." (texts).
 rows() { # $1 table class, $2 data|text
   awk -v cls="$1" -v what="$2" '
