@@ -429,6 +429,42 @@ START_TEST(test_every_move_independent)
 }
 END_TEST
 
+/* Names YAML would misread if written bare (quotes, colons, #, backslash,
+ * leading dash, non-ASCII) survive the writer: the file reads back with the
+ * same names and the same load flow. */
+START_TEST(test_write_hostile_names)
+{
+    const char *body =
+        "sections:\n"
+        "  - {name: \"main: 1 # a\", from: \"sub\", to: \"- m1\", length: 1000 m, construction: m3}\n"
+        "  - {name: 'lat \"q\"', from: \"- m1\", to: 'x\\1', length: 500 m, construction: l1}\n"
+        "loads:\n"
+        "  - {name: \"d\u00e9p\u00f4t, 1\", bus: 'x\\1', power: {a: 200 + j50 kVA},\n"
+        "     description: \"line one\\nline two\"}\n";
+    char *text = text_join(HEAD, body);
+    fixture x;
+    fixture_load_text(&x, text);
+    char path[256];
+    snprintf(path, sizeof path, "%s/rebalance-names-%ld.yaml", KILTER_BINARY_DIR, (long)getpid());
+    int sec_rot[2] = {0, 1}, load_rot[1] = {1};
+    ck_assert_int_eq(kl_feeder_write(x.f, sec_rot, load_rot, path, &x.err), KL_OK);
+    fixture y;
+    fixture_load_file(&y, path);
+    ck_assert_int_eq(y.f->nsections, 2);
+    for (int k = 0; k < 2; k++)
+        ck_assert_str_eq(y.f->sections[k].name, x.f->sections[k].name);
+    ck_assert_str_eq(y.f->loads[0].name, x.f->loads[0].name);
+    ck_assert_str_eq(y.f->loads[0].description, x.f->loads[0].description);
+    ck_assert_str_eq(y.f->buses[y.f->sections[1].to].name, "x\\1");
+    ck_assert_int_eq(y.f->sections[1].phases, KL_PH_B); /* the lateral moved a -> b */
+    ck_assert(cabs(y.f->loads[0].s_va[1] - x.f->loads[0].s_va[0]) == 0);
+    remove(path);
+    fixture_free(&y);
+    fixture_free(&x);
+    free(text);
+}
+END_TEST
+
 /* Writing the feeder unchanged and reading it back gives the same flow. */
 START_TEST(test_write_roundtrip)
 {
@@ -559,6 +595,7 @@ int main(void)
     tcase_add_test(tc, test_demo_steps_independent);
     tcase_add_test(tc, test_every_move_independent);
     tcase_add_test(tc, test_write_roundtrip);
+    tcase_add_test(tc, test_write_hostile_names);
     tcase_add_test(tc, test_rotation_restores);
     tcase_add_test(tc, test_bad_options);
     tcase_add_test(tc, test_alloc_failures);
