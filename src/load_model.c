@@ -14,6 +14,13 @@
 #include "kilter/network.h"
 #include "kl_internal.h"
 
+/* conj(s / v) without the library's general complex division (v != 0). */
+static inline kl_complex conj_ratio(kl_complex s, kl_complex v)
+{
+    double m2 = creal(v) * creal(v) + cimag(v) * cimag(v);
+    return conj(s) * v / m2;
+}
+
 static kl_complex element_current(const kl_load *ld, kl_complex s, kl_complex v, double vn)
 {
     switch (ld->model) {
@@ -23,9 +30,9 @@ static kl_complex element_current(const kl_load *ld, kl_complex s, kl_complex v,
         return conj(s) / vn * (v / cabs(v));
     case KL_LOAD_ZIP:
         return ld->zip[0] * (conj(s) * v / (vn * vn)) + ld->zip[1] * (conj(s) / vn * (v / cabs(v))) +
-               ld->zip[2] * conj(s / v);
+               ld->zip[2] * conj_ratio(s, v);
     default:
-        return conj(s / v);
+        return conj_ratio(s, v);
     }
 }
 

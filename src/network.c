@@ -605,12 +605,13 @@ static kl_status check_capacitors(const kl_network *n, const int *seen, kl_error
 
 /* Positions for the sweep: order[] lists the source, then the to-bus of
  * each tree branch in branch order. */
-static void sweep_layout(kl_network *n)
+static kl_status sweep_layout(kl_network *n)
 {
     for (int i = 0; i < n->nbuses; i++)
         n->pos[n->order[i]] = i;
     for (int k = 0; k < n->nbranches; k++)
         n->br_from_pos[k] = n->pos[n->br_from[k]];
+    return KL_OK;
 }
 
 /* Builds branches, buses, loads and workspace.  Temporary arrays are freed
@@ -691,7 +692,7 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     if (!st)
         st = check_capacitors(n, seen, err);
     if (!st)
-        sweep_layout(n);
+        st = sweep_layout(n);
 done:
     kl_free(g.start);
     kl_free(g.sec);
