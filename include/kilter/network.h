@@ -62,7 +62,9 @@ typedef struct kl_network {
     int *br_kind;          /* [nbranches] kl_branch_kind */
     int *br_phases;        /* [nbranches] phase mask on the source side */
     int *br_section;       /* [nbranches] feeder section id */
-    kl_complex *a, *b, *c, *d, *A, *B; /* [9*nbranches] row-major 3x3 each */
+    kl_complex *a, *b, *c, *d, *A, *B; /* [9*nbranches] row-major 3x3 each; transformers:
+                            * c = 0, d = A^T, and a, b only where A is invertible (wye-wye,
+                            * single-phase), zero otherwise: the sweep uses A, B, c, d only */
     kl_complex *zser;      /* [9*nbranches] lines: series impedance (ohm); devices: B (load side) */
     kl_complex *ysh;       /* [9*nbranches] lines: total shunt admittance (S), half at each end */
 
@@ -71,7 +73,8 @@ typedef struct kl_network {
      * section is an open switch */
     int *sec_first, *sec_last;
 
-    /* loads as solved: spot loads, then lumped parts of distributed loads */
+    /* loads as solved: one entry per spot load, two per distributed load
+     * (its lumped parts), in the feeder's load order */
     int nloads;
     kl_net_load *loads;    /* [nloads] */
     int *ld_slot;          /* [3*feeder nloads] phase slot (0..2) of each load entry:
