@@ -164,8 +164,8 @@ static int line_admittance(const kl_network *n, int k, kl_complex Y[9])
 
 static int stamp_line(kl_nodal *w, const kl_network *n, int k)
 {
-    kl_complex Y[9];
-    if (line_admittance(n, k, Y))
+    kl_complex Y[9] = {0}; /* the pattern passes need no values */
+    if (w->mode == ST_VALUES && line_admittance(n, k, Y))
         return -1;
     const kl_complex *ysh = n->ysh + 9 * k;
     const int *vf = w->vidx + 3 * n->br_from[k], *vt = w->vidx + 3 * n->br_to[k];
@@ -262,11 +262,10 @@ static void compress_columns(kl_nodal *w)
 }
 
 /* Builds Ap, Ai (count, place, compress) and allocates Ax. */
-static kl_status build_pattern(kl_nodal *w, const kl_network *n, int *bad_line)
+static kl_status build_pattern(kl_nodal *w, const kl_network *n)
 {
     w->mode = ST_COUNT;
-    if ((*bad_line = stamp_all(w, n)) >= 0)
-        return KL_EINPUT;
+    stamp_all(w, n);
     for (int j = 0; j < w->n; j++)
         w->Ap[j + 1] += w->Ap[j];
     w->Ai = kl_malloc(sizeof(int) * ((size_t)w->Ap[w->n] + 1));
@@ -283,12 +282,25 @@ static kl_status build_pattern(kl_nodal *w, const kl_network *n, int *bad_line)
     return w->Ax ? KL_OK : KL_ENOMEM;
 }
 
-static void assemble_values(kl_nodal *w, const kl_network *n)
+/* Values into the pattern; returns a line whose series impedance cannot be
+ * inverted (then M is incomplete), or -1. */
+static int assemble_values(kl_nodal *w, const kl_network *n)
 {
     memset(w->Ax, 0, sizeof(kl_complex) * (size_t)w->nnz);
     w->mode = ST_VALUES;
-    stamp_all(w, n);
     memcpy(w->taps, n->tap, sizeof(int) * 3 * (size_t)n->feeder->nregulators);
+    return stamp_all(w, n);
+}
+
+static kl_status singular_line(const kl_network *n, int k, kl_errors *err)
+{
+    const kl_section *sc = &n->feeder->sections[n->br_section[k]];
+    char elem[128];
+    snprintf(elem, sizeof elem, "section %s", sc->name ? sc->name : "?");
+    kl_errors_add(err, n->feeder->path, sc->loc.line, sc->loc.col, elem, "the series impedance "
+                  "matrix is singular, so the line has no admittance: check its "
+                  "construction's impedances");
+    return KL_EINPUT;
 }
 
 /* ---- workspace -------------------------------------------------------------- */
@@ -398,19 +410,15 @@ static kl_status nodal_alloc(const kl_network *n, kl_nodal **out, kl_errors *err
         goto fail;
     if ((st = source_setup(w, n, err)))
         goto fail;
-    int bad = -1;
-    if ((st = build_pattern(w, n, &bad))) {
-        if (bad >= 0) {
-            const kl_section *sc = &n->feeder->sections[n->br_section[bad]];
-            kl_errors_add(err, n->feeder->path, sc->loc.line, sc->loc.col, "section",
-                          "%s: the series impedance matrix is singular, so the line has no "
-                          "admittance: check its construction's impedances", sc->name);
-        }
+    if ((st = build_pattern(w, n)))
         goto fail;
-    }
     kl_free(w->fill);
     w->fill = NULL;
-    assemble_values(w, n);
+    int bad = assemble_values(w, n);
+    if (bad >= 0) {
+        st = singular_line(n, bad, err);
+        goto fail;
+    }
     klu_defaults(&w->common);
     /* the natural order is leaves-first (number_unknowns): no AMD needed; KLU
      * still permutes to block triangular form and pivots for stability */
@@ -435,7 +443,9 @@ static kl_status nodal_refresh(kl_nodal *w, const kl_network *n, kl_errors *err)
     size_t nt = 3 * (size_t)n->feeder->nregulators;
     if (nt == 0 || memcmp(w->taps, n->tap, nt * sizeof(int)) == 0)
         return KL_OK;
-    assemble_values(w, n);
+    int bad = assemble_values(w, n); /* the lines inverted at the first assembly: never */
+    if (bad >= 0)
+        return singular_line(n, bad, err);
     if (!klu_z_refactor(w->Ap, w->Ai, (double *)w->Ax, w->sym, w->num, &w->common))
         return klu_failure(n, w, err);
     return KL_OK;

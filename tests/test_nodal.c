@@ -656,6 +656,7 @@ START_TEST(test_zero_impedance_line)
     kl_status st = solve_with(&H.f, KL_SOLVER_NODAL, 0, &net, &res, &err);
     ck_assert_int_eq(st, KL_EINPUT);
     ck_assert_int_eq(err.items[0].line, 12);
+    ck_assert_str_eq(err.items[0].element, "section m1");
     ck_assert_msg(strstr(first_error(&err), "singular"), "%s", first_error(&err));
     kl_flow_result_free(res);
     kl_network_free(net);
