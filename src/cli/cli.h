@@ -8,6 +8,7 @@
 #include <stdio.h>
 #include "kilter/error.h"
 #include "kilter/feeder.h"
+#include "kilter/lines.h"
 
 enum {
     KL_EXIT_OK = 0,
@@ -28,7 +29,7 @@ typedef struct {
     const char *help;
 } kl_cli_opt;
 
-#define KL_CLI_MAX_OPTS 16
+#define KL_CLI_MAX_OPTS 24
 
 typedef struct {
     const char *cmd;
@@ -63,6 +64,13 @@ void kl_cli_error(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 int kl_cli_exit_code(kl_status s);
 /* Loads a->feeder, printing the errors; 0 or an exit code. */
 int kl_cli_load(const kl_cli_args *a, kl_feeder **f);
+
+/* The form of Carson's equations named by --carson (NULL: the default, the
+ * full series, as issue 3 and `kilter lines` have it).  0, or 64 after
+ * printing what was expected. */
+int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form);
+#define KL_CLI_CARSON_OPT { "carson", 1, "full|approx", \
+    "form of Carson's equations: full series (default) or the approximate 60 Hz form of published tables" }
 
 /* Output helpers: a JSON string with escapes; a CSV field quoted when needed. */
 void kl_cli_json_str(FILE *f, const char *s);

@@ -268,3 +268,16 @@ void kl_cli_csv_str(FILE *f, const char *s)
     }
     fputc('"', f);
 }
+
+int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form)
+{
+    if (!value || strcmp(value, "full") == 0)
+        *form = KL_CARSON_FULL;
+    else if (strcmp(value, "approx") == 0)
+        *form = KL_CARSON_APPROX;
+    else {
+        kl_cli_error("%s: unknown --carson '%s': expected full or approx", cmd, value);
+        return KL_EXIT_USAGE;
+    }
+    return 0;
+}

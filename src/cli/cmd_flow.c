@@ -19,7 +19,7 @@ enum { OPT_TABLE, OPT_SOLVER, OPT_CARSON, OPT_SCALE, NOPTS };
 static const kl_cli_opt opts[NOPTS] = {
     {"table", 1, "buses|sections", "which table to print (default buses; JSON holds both)"},
     {"solver", 1, "sweep|nodal", "backward/forward sweep (default) or the nodal solver"},
-    {"carson", 1, "approx|full", "form of Carson's equations for line constants (default approx)"},
+    KL_CLI_CARSON_OPT,
     {"load-scale", 1, "X", "multiply every load by X (default 1)"},
 };
 
@@ -275,7 +275,6 @@ static int read_options(const kl_cli_args *a, kl_flow_options *o, kl_carson_form
                         int *sections)
 {
     kl_flow_options_default(o);
-    *form = KL_CARSON_APPROX;
     *sections = 0;
     const char *t = a->val[OPT_TABLE], *s = a->val[OPT_SOLVER], *c = a->val[OPT_CARSON];
     if (t && strcmp(t, "buses") && strcmp(t, "sections")) {
@@ -288,11 +287,8 @@ static int read_options(const kl_cli_args *a, kl_flow_options *o, kl_carson_form
         return KL_EXIT_USAGE;
     }
     o->solver = s && strcmp(s, "nodal") == 0 ? KL_SOLVER_NODAL : KL_SOLVER_SWEEP;
-    if (c && strcmp(c, "approx") && strcmp(c, "full")) {
-        kl_cli_error("flow: unknown Carson form '%s': expected approx or full", c);
+    if (kl_cli_carson_form("flow", c, form))
         return KL_EXIT_USAGE;
-    }
-    *form = c && strcmp(c, "full") == 0 ? KL_CARSON_FULL : KL_CARSON_APPROX;
     if (a->val[OPT_SCALE]) {
         char *end;
         o->load_scale = strtod(a->val[OPT_SCALE], &end);

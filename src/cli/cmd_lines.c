@@ -224,19 +224,6 @@ static void print_json(FILE *o, const kl_feeder *f, const unsigned char *used, p
     fprintf(o, "\n  ]\n}\n");
 }
 
-static int parse_form(const char *v, kl_carson_form *form)
-{
-    if (!v || strcmp(v, "full") == 0)
-        *form = KL_CARSON_FULL;
-    else if (strcmp(v, "approx") == 0)
-        *form = KL_CARSON_APPROX;
-    else {
-        kl_cli_error("lines: unknown --carson '%s': expected full or approx", v);
-        return KL_EXIT_USAGE;
-    }
-    return 0;
-}
-
 static void print_all(FILE *o, const kl_cli_args *a, kl_feeder *f, const unsigned char *used,
                       kl_carson_form form)
 {
@@ -272,7 +259,7 @@ int kl_cmd_lines(int argc, char **argv)
                           "in the file's units.", opts, 1);
     if (rc >= 0)
         return rc;
-    if ((rc = parse_form(a.val[0], &form)) != 0)
+    if ((rc = kl_cli_carson_form("lines", a.val[0], &form)) != 0)
         return rc;
     if ((rc = kl_cli_load(&a, &f)) != 0)
         return rc;

@@ -19,7 +19,7 @@
 
 enum { OPT_OBJ, OPT_AT, OPT_MOVES, OPT_BUDGET, OPT_LEVELS, OPT_RANGE, OPT_SEARCH, OPT_TIME,
        OPT_SEED, OPT_PIN, OPT_FORBID, OPT_COST, OPT_RULES, OPT_WRITE, OPT_ITEMS, OPT_HTML,
-       NOPTS };
+       OPT_CARSON, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"objective", 1, "NAME[=W],...", "neutral, vuf, losses, current, drop; weighted with =W "
@@ -39,6 +39,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"write-feeder", 1, "FILE", "write the rebalanced feeder file (atomically)"},
     {"items", 0, NULL, "list the movable items and stop"},
     {"html", 1, "FILE", "also write the HTML study report with the plan to FILE"},
+    KL_CLI_CARSON_OPT,
 };
 
 static const char *CAUTION =
@@ -564,8 +565,11 @@ static int run(const kl_cli_args *a, kl_feeder *f, kl_rebalance_options *o, kl_e
     kl_rephaser *rp = NULL;
     kl_rebalance_plan *plan = NULL;
     kl_progress prog;
-    int rc = 0;
-    kl_status st = kl_lines_derive(f, KL_CARSON_APPROX, e);
+    kl_carson_form carson;
+    int rc = kl_cli_carson_form("rebalance", a->val[OPT_CARSON], &carson);
+    if (rc)
+        return rc;
+    kl_status st = kl_lines_derive(f, carson, e);
     if (!st)
         st = kl_network_build(f, &net, e);
     if (!st)
