@@ -309,7 +309,13 @@ static kl_status line_matrices(kl_network *n, int k, const kl_section *sc, doubl
         c[i] = Y[i] + 0.25 * YZY[i];
     }
     kl_cm3_mask(a, mask);
-    memcpy(d, a, 9 * sizeof *d);
+    /* d = U + YZ/2, the transpose of a (not a itself: ZY and YZ differ for
+     * unequal phase couplings); it follows from I_from = I_s + (Y/2) V_from
+     * with V_from = a V_to + b I_to, the pi section the sweep solves */
+    kl_cm3_identity(d, mask);
+    for (int i = 0; i < 9; i++)
+        d[i] += 0.5 * YZ[i];
+    kl_cm3_mask(d, mask);
     memcpy(n->b + 9 * k, Z, 9 * sizeof *Z);
     if (inverse_on(a, mask, n->A + 9 * k)) {
         net_err(err, f, sc->loc, "section", sc->name, "has a singular line matrix: check the "
