@@ -15,6 +15,7 @@
 #define MAX_TEXT (64u << 20)     /* bytes of scalar text per element */
 
 struct kl_yreader {
+    kl_ypool pool;          /* first: kl_ynode_at reads it through the header */
     yaml_parser_t parser;
     yaml_event_t ev;
     int have_ev;
@@ -22,9 +23,7 @@ struct kl_yreader {
     int nomem;
     const char *file;
     kl_errors *err;
-    kl_ynode *nodes;
     int nnodes, capnodes;
-    char *text;
     size_t ntext, captext;
 };
 
@@ -65,8 +64,8 @@ void kl_yreader_free(kl_yreader *r)
     if (r->have_ev)
         yaml_event_delete(&r->ev);
     yaml_parser_delete(&r->parser);
-    kl_free(r->nodes);
-    kl_free(r->text);
+    kl_free(r->pool.nodes);
+    kl_free(r->pool.text);
     kl_free(r);
 }
 
@@ -176,16 +175,6 @@ void kl_yreader_reset(kl_yreader *r)
     r->ntext = 0;
 }
 
-const kl_ynode *kl_ynode_at(const kl_yreader *r, int i)
-{
-    return &r->nodes[i];
-}
-
-const char *kl_ynode_text(const kl_yreader *r, int i)
-{
-    return r->nodes[i].kind == KL_YSCALAR ? r->text + r->nodes[i].text : "";
-}
-
 static int new_node(kl_yreader *r, int kind)
 {
     kl_ynode *n;
@@ -197,15 +186,15 @@ static int new_node(kl_yreader *r, int kind)
     }
     if (r->nnodes == r->capnodes) {
         int cap = r->capnodes ? r->capnodes * 2 : 64;
-        kl_ynode *p = kl_realloc(r->nodes, (size_t)cap * sizeof *p);
+        kl_ynode *p = kl_realloc(r->pool.nodes, (size_t)cap * sizeof *p);
         if (!p) {
             r->nomem = r->failed = 1;
             return -1;
         }
-        r->nodes = p;
+        r->pool.nodes = p;
         r->capnodes = cap;
     }
-    n = &r->nodes[r->nnodes];
+    n = &r->pool.nodes[r->nnodes];
     memset(n, 0, sizeof *n);
     n->kind = kind;
     kl_yreader_mark(r, &n->line, &n->col);
@@ -217,7 +206,7 @@ static int store_text(kl_yreader *r, int node)
 {
     size_t len = r->ev.data.scalar.length;
     if (len >= MAX_TEXT || r->ntext + len + 1 > MAX_TEXT) {
-        fail(r, r->nodes[node].line, r->nodes[node].col,
+        fail(r, r->pool.nodes[node].line, r->pool.nodes[node].col,
              "scalar text too long (over 64 MiB in one element)%s%s", "", "");
         return -1;
     }
@@ -226,18 +215,18 @@ static int store_text(kl_yreader *r, int node)
         char *p;
         while (cap < r->ntext + len + 1)
             cap *= 2;
-        p = kl_realloc(r->text, cap);
+        p = kl_realloc(r->pool.text, cap);
         if (!p) {
             r->nomem = r->failed = 1;
             return -1;
         }
-        r->text = p;
+        r->pool.text = p;
         r->captext = cap;
     }
-    memcpy(r->text + r->ntext, r->ev.data.scalar.value, len);
-    r->text[r->ntext + len] = '\0';
-    r->nodes[node].text = (int)r->ntext;
-    r->nodes[node].len = (int)len;
+    memcpy(r->pool.text + r->ntext, r->ev.data.scalar.value, len);
+    r->pool.text[r->ntext + len] = '\0';
+    r->pool.nodes[node].text = (int)r->ntext;
+    r->pool.nodes[node].len = (int)len;
     r->ntext += len + 1;
     return 0;
 }
@@ -261,11 +250,11 @@ static int read_children(kl_yreader *r, int node, kl_yev end, int depth)
         if (c < 0)
             return -1;
         if (last < 0)
-            r->nodes[node].first = c;
+            r->pool.nodes[node].first = c;
         else
-            r->nodes[last].next = c;
+            r->pool.nodes[last].next = c;
         last = c;
-        r->nodes[node].count++;
+        r->pool.nodes[node].count++;
     }
 }
 

@@ -183,8 +183,23 @@ int kl_yreader_tree(kl_yreader *r);
 /* Consumes the next complete value without storing it; -1 on error. */
 int kl_yreader_skip(kl_yreader *r);
 void kl_yreader_reset(kl_yreader *r); /* empties the node pool */
-const kl_ynode *kl_ynode_at(const kl_yreader *r, int i);
-const char *kl_ynode_text(const kl_yreader *r, int i);
+/* The node pool is the reader's first member, so that these two, called for
+ * every key and value the loader reads, are inlined (C11 6.7.2.1p15: a
+ * pointer to a structure points to its first member). */
+typedef struct {
+    kl_ynode *nodes; /* [nnodes] */
+    char *text;      /* NUL-terminated scalar texts */
+} kl_ypool;
+static inline const kl_ynode *kl_ynode_at(const kl_yreader *r, int i)
+{
+    return &((const kl_ypool *)(const void *)r)->nodes[i];
+}
+/* A scalar's text; "" for a mapping or sequence. */
+static inline const char *kl_ynode_text(const kl_yreader *r, int i)
+{
+    const kl_ypool *p = (const kl_ypool *)(const void *)r;
+    return p->nodes[i].kind == KL_YSCALAR ? p->text + p->nodes[i].text : "";
+}
 
 /* ---- feeder_load.c, feeder_fields.c, feeder_elements.c, feeder_topology.c:
  * the loader's working state, shared by its files. */
