@@ -3,7 +3,7 @@
 # on a generated 3,000-bus feeder (kl_synth, fixed seed).  Builds kilter in
 # Release, prints the search line of the plan (load flows run, seconds, and
 # when the greedy construction had its 10-move plan) and the process's CPU
-# and wall time.  Figures for docs-rebalance.md.
+# and wall time.  Figures for docs/rebalance.md.
 #
 #   scripts/bench_rebalance.sh [--buses N] [--seed S] [--time-limit T]
 #

@@ -15,7 +15,7 @@
  *     share_L = Re(dV2_L conj(V2_k)) / |V2_k|^2.
  * In a network of lines the voltages are linear in the currents drawn, so
  * the shares of all loads and shunts sum to 1 when the source is balanced.
- * The method is explained in docs-study.md. */
+ * The method is explained in docs/study.md. */
 #include <math.h>
 #include <stdlib.h>
 #include "kilter/study.h"

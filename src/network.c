@@ -10,7 +10,7 @@
  * source end, 1/3 at the far end.  It reproduces both the voltage drop and the
  * loss of a uniformly distributed load; on the IEEE 13-node feeder it gives
  * the published voltages more closely than all of it at the midpoint (figures
- * in docs-flow.md). */
+ * in docs/flow.md). */
 #include <math.h>
 #include <stdio.h>
 #include <string.h>

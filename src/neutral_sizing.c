@@ -6,7 +6,7 @@
  *
  * Third-harmonic currents of the three phases are displaced by 3 x 120 deg =
  * 360 deg, i.e. in phase, so they add arithmetically in the neutral instead
- * of cancelling (common practice).  Assumptions (docs-study.md): all of the
+ * of cancelling (common practice).  Assumptions (docs/study.md): all of the
  * triplen returns by the metallic neutral (conservative for sizing); delta-
  * connected loads circulate their triplens inside the delta and add none;
  * a transformer passes them up only between two grounded-wye windings

@@ -15,7 +15,7 @@
  * the load side to every current it can carry (positive, negative and, where
  * a path exists, zero sequence), so B = z Z_base U for the three-phase banks.
  *
- * Simplified (said here and in docs-flow.md):
+ * Simplified (said here and in docs/flow.md):
  * - grounded-wye/delta is solved as ungrounded-wye/delta: the zero-sequence
  *   current such a bank draws as a grounding source is not represented;
  * - open-wye/open-delta: `rating` is the sum of the two units; each unit has

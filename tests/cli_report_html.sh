@@ -63,7 +63,7 @@ rows() { # $1 table class, $2 data|text
     }' "$h"
 }
 
-# CSV columns by name (the contract in docs-study.md), as "name<TAB>c1 c2 ...".
+# CSV columns by name (the contract in docs/study.md), as "name<TAB>c1 c2 ...".
 csv_cols() { # $1 file, $2.. column names; the first column is the name
   local f=$1; shift
   awk -F, -v want="$*" '

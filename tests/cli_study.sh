@@ -5,7 +5,7 @@
 #  - IEEE 13-node: the CSV VUF at bus 675 agrees with the VUF of the published phase
 #    voltages (IEEE PES 13-node results, 2004-06-24) within 0.23 points (the load flow's
 #    0.002 pu agreement carried through |V2|/|V1|, see tests/test_study.c);
-#  - the CSV bus table has the documented columns (docs-study.md);
+#  - the CSV bus table has the documented columns (docs/study.md);
 #  - the complaint check reproduces the NEMA MG 1 worked figure 462, 463, 455 V -> 1.1 %
 #    (secondary sources citing MG 1, /work/shared/reference/unbalance.md), and the VUF of
 #    the same magnitudes by the closed form is about the same (common practice);

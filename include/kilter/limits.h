@@ -1,7 +1,7 @@
 /* kilter: compliance limits and the classification of values against them.
  *
  * Every default comes from a standard or from common practice, cited beside
- * it in src/limits.c and in docs-unbalance.md.  Ratios are fractions
+ * it in src/limits.c and in docs/unbalance.md.  Ratios are fractions
  * (0.03 = 3 %); service-voltage limits are volts on the 120 V base. */
 #ifndef KILTER_LIMITS_H
 #define KILTER_LIMITS_H

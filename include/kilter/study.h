@@ -5,8 +5,8 @@
  * loads that cause the negative-sequence voltage where a limit is broken.
  * Every array is flat and indexed by the FEEDER's bus / section / load ids
  * (the ids the load-flow result uses).  Ratios are fractions (0.02 = 2 %);
- * voltages in V, currents in A.  Definitions and sources: docs-study.md and
- * docs-unbalance.md.
+ * voltages in V, currents in A.  Definitions and sources: docs/study.md and
+ * docs/unbalance.md.
  *
  * The study reads the flow through two views that hold only pointers, so it
  * can be run on the load-flow result, or on hand-made arrays in a test:
@@ -56,7 +56,7 @@ typedef struct {
 typedef struct {
     kl_limits limits;            /* compliance limits (limits.h), cited defaults */
     double sizing_margin;        /* neutral sizing: required = (1 + margin) x worst current;
-                                    default 0.25 (common practice, see docs-study.md) */
+                                    default 0.25 (common practice, see docs/study.md) */
     int max_contributors;        /* kept per bus, largest share first; default 10 */
     int at_bus;                  /* feeder bus id whose contributors are wanted even
                                     within the limits (the complaint check); -1 none */

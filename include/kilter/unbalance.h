@@ -1,7 +1,7 @@
 /* kilter: unbalance indices and the motor derating factor.
  *
  * Every index is a fraction (0.02 means 2 %); percent is for printing only.
- * The definitions, with their sources, are in docs-unbalance.md and beside
+ * The definitions, with their sources, are in docs/unbalance.md and beside
  * each function in src/unbalance.c and src/derating.c. */
 #ifndef KILTER_UNBALANCE_H
 #define KILTER_UNBALANCE_H

@@ -1,6 +1,6 @@
 /* kilter flow: the three-phase unbalanced load flow of a feeder, printed as
  * a table (default), CSV (bus or section table) or JSON (everything).  The
- * machine-readable forms are documented in docs-flow.md. */
+ * machine-readable forms are documented in docs/flow.md. */
 #include <complex.h>
 #include <math.h>
 #include <stdio.h>

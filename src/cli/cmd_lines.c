@@ -2,7 +2,7 @@
  * neutral transformation matrix of every construction a line section uses,
  * in the feeder file's units (ohm/mile and uS/mile, or ohm/km and uS/km).
  *
- * CSV contract (stable; documented in docs-lines.md): header
+ * CSV contract (stable; documented in docs/lines.md): header
  *   name,row,col,r_ohm_per_mile,x_ohm_per_mile,b_us_per_mile
  * (the _per_km forms for a feeder in SI units), then one row per element of
  * the phase matrices, row and col phase letters a b c, for the phases the

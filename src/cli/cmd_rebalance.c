@@ -1,7 +1,7 @@
 /* kilter rebalance: suggests moves of single-phase laterals, spot loads and
  * two-phase taps between phases, each judged by a full load flow, and prints
  * the ordered plan with the objectives after every step (table, CSV, JSON).
- * Options and the plan's fields are documented in docs-rebalance.md. */
+ * Options and the plan's fields are documented in docs/rebalance.md. */
 #include <ctype.h>
 #include <errno.h>
 #include <math.h>
@@ -35,7 +35,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"pin", 1, "ITEM,...", "never move these items (tap section or load names)"},
     {"forbid", 1, "ITEM=PHASES,...", "never move an item onto these phases"},
     {"cost", 1, "ITEM=X,...", "cost of moving an item"},
-    {"rules", 1, "FILE", "pins, forbidden phases and costs, one per line (docs-rebalance.md)"},
+    {"rules", 1, "FILE", "pins, forbidden phases and costs, one per line (docs/rebalance.md)"},
     {"write-feeder", 1, "FILE", "write the rebalanced feeder file (atomically)"},
     {"items", 0, NULL, "list the movable items and stop"},
     {"html", 1, "FILE", "also write the HTML study report with the plan to FILE"},

@@ -124,8 +124,8 @@ static int read_complaint(const kl_cli_args *a, study_args *x)
     int rc = 0;
     ci->bus = -1;
     ci->kind = KL_MEAS_NONE;
-    ci->tol_pu = 0.02;   /* 2 % of nominal: see docs-study.md */
-    ci->tol_vuf = 0.005; /* 0.5 points of VUF: see docs-study.md */
+    ci->tol_pu = 0.02;   /* 2 % of nominal: see docs/study.md */
+    ci->tol_vuf = 0.005; /* 0.5 points of VUF: see docs/study.md */
     if ((a->val[OPT_MPHASE] || a->val[OPT_MLINE] || a->val[OPT_TOL] || a->val[OPT_VUFTOL])
         && !a->val[OPT_AT]) {
         kl_cli_error("study: --measured-phase, --measured-line and the tolerances need --at BUS");

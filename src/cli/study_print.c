@@ -272,7 +272,7 @@ static void print_contributors(FILE *o, const kl_study_print *p)
     const kl_study *s = p->s;
     if (!s->contrib_done || s->ncbus == 0)
         return;
-    fprintf(o, "\nContributors to the negative-sequence voltage (share of V2, docs-study.md)\n");
+    fprintf(o, "\nContributors to the negative-sequence voltage (share of V2, docs/study.md)\n");
     for (int c = 0; c < s->ncbus && c < MAX_LIST; c++)
         print_contrib_bus(o, p, c);
     if (s->ncbus > MAX_LIST)
@@ -505,7 +505,7 @@ void kl_study_print_at(FILE *o, const kl_study_print *p)
     fprintf(o, "\nCaution: %s.\n", KL_STUDY_CAUTION);
 }
 
-/* ---- CSV (contract in docs-study.md) */
+/* ---- CSV (contract in docs/study.md) */
 
 static void csv_buses(FILE *o, const kl_study_print *p)
 {
@@ -616,7 +616,7 @@ void kl_study_print_csv(FILE *o, const kl_study_print *p, kl_study_table t)
     }
 }
 
-/* ---- JSON (contract in docs-study.md) */
+/* ---- JSON (contract in docs/study.md) */
 
 static void json_key_num(FILE *o, const char *key, double x, int comma)
 {
