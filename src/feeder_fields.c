@@ -58,6 +58,21 @@ static const char *label(kl_loader *L)
     return L->elem;
 }
 
+#define GROW_CHUNK (1u << 20)
+
+/* When entry n is the first to start in a new MiB of the array, that MiB
+ * (within the capacity) is mapped in one call rather than page by page as
+ * the appends reach it (prefault.c). */
+static void prefault_ahead(void *arr, int cap, int n, size_t size)
+{
+    size_t off = (size_t)n * size, k = off / GROW_CHUNK, end = (size_t)cap * size;
+    if (n > 0 && (off - size) / GROW_CHUNK == k)
+        return;
+    if (end > (k + 1) * GROW_CHUNK)
+        end = (k + 1) * GROW_CHUNK;
+    kl_prefault((char *)arr + k * GROW_CHUNK, end - k * GROW_CHUNK);
+}
+
 /* Geometric growth: amortised O(1) appends, no per-element allocation.
  * Makes (*arr)[n] valid and zero.  Only that entry is cleared: zeroing the
  * whole new half on each doubling wrote (and faulted in) up to twice the
@@ -80,6 +95,7 @@ int kl_ld_grow(kl_loader *L, void **arr, int *cap, int n, size_t size)
         *arr = p;
         *cap = c;
     }
+    prefault_ahead(*arr, *cap, n, size);
     memset((char *)*arr + (size_t)n * size, 0, size);
     return 0;
 }

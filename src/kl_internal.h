@@ -126,6 +126,9 @@ void kl_arena_free(kl_arena *a);
 const char *kl_arena_strndup(kl_arena *a, const char *s, size_t len); /* NULL: out of memory */
 const char *kl_arena_strdup(kl_arena *a, const char *s);
 size_t kl_arena_bytes(const kl_arena *a);
+/* prefault.c: maps the whole pages of [p, p + n) for writing in one call
+ * (a hint: ignored where the system does not offer it). */
+void kl_prefault(void *p, size_t n);
 
 typedef struct {
     const char *name; /* NULL: empty slot; points into an arena */

@@ -57,6 +57,9 @@ static kl_status rehash(kl_names *t)
     kl_name_slot *s = kl_calloc(cap, sizeof *s);
     if (!s)
         return KL_ENOMEM;
+    /* re-inserting the old entries fills a quarter of the new table, which
+     * writes to every page of it: map them in one call (prefault.c) */
+    kl_prefault(s, (size_t)cap * sizeof *s);
     for (i = 0; i < t->cap; i++)
         if (t->slots[i].name)
             put(s, cap, t->slots[i]);
