@@ -102,6 +102,8 @@ static void feed(kl_loader *L, int e, int u, int v, int energized)
     b->base_kv_ll = up->base_kv_ll;
     if (s->kind == KL_SEC_TRANSFORMER && s->device >= 0) {
         const kl_transformer *t = &f->transformers[s->device];
+        /* center-tap legs, open-delta and line-to-line units change the phases below */
+        b->phases = kl_transformer_load_phases(t, b->phases);
         if (t->kv_high > 0 && t->kv_low > 0)
             b->base_kv_ll = up->base_kv_ll * t->kv_low / t->kv_high;
     }

@@ -314,6 +314,13 @@ int kl_cm3_inverse(const kl_complex m[9], kl_complex r[9]);
 kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int step_up,
                                   kl_complex A[9], kl_complex B[9], int *load_phases,
                                   double *load_base_ln, char *why, size_t nwhy);
+/* The phases of a transformer's load-side bus, as kl_transformer_matrices
+ * names them for a step-down bank: abc below three-phase and open banks; the
+ * two legs of a center-tapped secondary in slots a and b; a single-phase
+ * secondary on the primary's phase (line-to-line primary: the slot of its
+ * first phase, ab -> a, bc -> b, ca -> c).  The loader uses it so that the
+ * file's phases and the load flow's agree. */
+int kl_transformer_load_phases(const kl_transformer *t, int src_phases);
 
 /* regulator.c */
 void kl_regulator_matrices(const kl_regulator *r, const int tap[3], int phases,

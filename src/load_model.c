@@ -6,7 +6,8 @@
  *   constant current    I = conj(S) / |V_n| * V / |V|   (magnitude and power-factor angle held)
  *   ZIP                 the three weighted by the load's fractions.
  * Wye elements see phase-to-neutral voltage, delta elements line-to-line
- * (V_n = sqrt(3) times the bus's line-to-neutral base); a delta element's
+ * (V_n = sqrt(3) times the bus's line-to-neutral base, or 2 times the leg
+ * base across the two legs of a center-tapped secondary); a delta element's
  * current I_pq enters line p and leaves line q.  Capacitors are constant
  * susceptance B = Q / |V_n|^2. */
 #include <math.h>
@@ -59,7 +60,7 @@ static int load_entry(const kl_network *n, const kl_complex *vv, const int *map,
     if (ld->conn == KL_CONN_DELTA) {
         e->q = (e->p + 1) % 3;
         e->v = v[e->p] - v[e->q];
-        vn *= sqrt(3.0);
+        vn *= n->split_phase[nl->bus] ? 2.0 : sqrt(3.0);
     }
     e->i = element_current(ld, ld->s_va[k] * scale * nl->weight, e->v, vn);
     return 1;
@@ -80,7 +81,7 @@ static int cap_entry(const kl_network *n, const kl_complex *vv, const int *map, 
     if (cp->conn == KL_CONN_DELTA) {
         e->q = (k + 1) % 3;
         e->v = v[k] - v[e->q];
-        vn *= sqrt(3.0);
+        vn *= n->split_phase[cp->bus] ? 2.0 : sqrt(3.0);
     }
     e->i = I * (cp->q_var[k] / (vn * vn)) * e->v;
     return 1;

@@ -216,6 +216,7 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->order = kl_calloc(nb, sizeof(int));
     n->phases = kl_calloc(nb, sizeof(int));
     n->v_base_ln = kl_calloc(nb, sizeof(double));
+    n->split_phase = kl_calloc(nb, 1);
     n->parent = kl_calloc(nb, sizeof(int));
     n->br_from = kl_calloc(nr, sizeof(int));
     n->br_to = kl_calloc(nr, sizeof(int));
@@ -223,7 +224,7 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->br_phases = kl_calloc(nr, sizeof(int));
     n->br_section = kl_calloc(nr, sizeof(int));
     kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B, &n->zser, &n->ysh};
-    int ok = n->order && n->phases && n->v_base_ln && n->parent && n->br_from && n->br_to &&
+    int ok = n->order && n->phases && n->v_base_ln && n->split_phase && n->parent && n->br_from && n->br_to &&
              n->br_kind && n->br_phases && n->br_section;
     for (size_t k = 0; k < sizeof m / sizeof m[0]; k++) {
         *m[k] = kl_calloc(9 * nr, sizeof(kl_complex));
@@ -254,7 +255,7 @@ void kl_network_free(kl_network *n)
     if (!n)
         return;
     kl_network_nodal_reset(n);
-    void *p[] = {n->order, n->phases, n->v_base_ln, n->parent, n->br_from, n->br_to,
+    void *p[] = {n->order, n->phases, n->v_base_ln, n->split_phase, n->parent, n->br_from, n->br_to,
                  n->br_kind, n->br_phases, n->br_section, n->a, n->b, n->c, n->d, n->A,
                  n->B, n->zser, n->ysh, n->sec_first, n->sec_last, n->loads, n->ld_slot,
                  n->reg_branch, n->tap, n->v, n->j, n->i_from, n->i_to, n->pos,
@@ -385,6 +386,7 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
             return KL_EINPUT;
         }
         n->br_kind[k] = KL_BR_TRANSFORMER;
+        n->split_phase[to] = !up && t->low == KL_WINDING_CENTER_TAP;
         kl_cm3_transpose(A, n->d + 9 * k);
         memcpy(n->zser + 9 * k, n->B + 9 * k, 9 * sizeof(kl_complex));
         /* a, b only where A is invertible (wye-wye, single-phase); else zero */
@@ -395,6 +397,7 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
     }
     n->phases[to] = n->br_phases[k];
     n->v_base_ln[to] = n->v_base_ln[from];
+    n->split_phase[to] = n->split_phase[from];
     if (sc->kind == KL_SEC_REGULATOR) {
         if (sc->device < 0 || sc->device >= f->nregulators) {
             net_err(err, f, sc->loc, "section", sc->name, "names an unknown regulator");
@@ -470,6 +473,7 @@ static kl_status emit_section(kl_network *n, int s, int reversed, int split, int
     n->br_kind[k] = KL_BR_LINE;
     n->phases[n->br_to[k]] = mask;
     n->v_base_ln[n->br_to[k]] = n->v_base_ln[from];
+    n->split_phase[n->br_to[k]] = n->split_phase[from];
     n->parent[n->br_to[k]] = k;
     if ((st = line_matrices(n, k, sc, split ? DIST_AT : 1.0, err)))
         return st;
@@ -485,6 +489,7 @@ static kl_status emit_section(kl_network *n, int s, int reversed, int split, int
     n->sec_last[s] = k2;
     n->phases[to] = mask;
     n->v_base_ln[to] = n->v_base_ln[from];
+    n->split_phase[to] = n->split_phase[from];
     n->parent[to] = k2;
     return line_matrices(n, k2, sc, 1.0 - DIST_AT, err);
 }

@@ -231,3 +231,21 @@ kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int s
              "single/center-tap", t->name);
     return KL_EINPUT;
 }
+
+int kl_transformer_load_phases(const kl_transformer *t, int src_phases)
+{
+    if (t->low == KL_WINDING_CENTER_TAP)
+        return KL_PH_A | KL_PH_B;
+    if (t->high == KL_WINDING_SINGLE && t->low == KL_WINDING_SINGLE) {
+        if (src_phases == (KL_PH_A | KL_PH_B))
+            return KL_PH_A;
+        if (src_phases == (KL_PH_B | KL_PH_C))
+            return KL_PH_B;
+        if (src_phases == (KL_PH_A | KL_PH_C))
+            return KL_PH_C;
+        return src_phases;
+    }
+    if (t->high == KL_WINDING_SINGLE || t->low == KL_WINDING_SINGLE)
+        return src_phases;
+    return KL_PH_ABC;
+}

@@ -49,6 +49,9 @@ typedef struct kl_network {
     int *order;            /* [nbuses] bus ids breadth-first from the source */
     int *phases;           /* [nbuses] phase mask (center-tap secondary: a = leg 1, b = leg 2) */
     double *v_base_ln;     /* [nbuses] line-to-neutral base, V */
+    unsigned char *split_phase; /* [nbuses] 1 at and below a center-tapped secondary: slots a
+                            * and b are its two legs, 180 degrees apart, so a line-to-line
+                            * element there is rated at 2x the leg base (240 V), not sqrt(3)x */
     int *parent;           /* [nbuses] branch feeding the bus, -1 for the source */
 
     /* branches in sweep order: parents before children */
