@@ -70,6 +70,10 @@ typedef struct kl_network {
                             * single-phase), zero otherwise: the sweep uses A, B, c, d only */
     kl_complex *zser;      /* [9*nbranches] lines: series impedance (ohm); devices: B (load side) */
     kl_complex *ysh;       /* [9*nbranches] lines: total shunt admittance (S), half at each end */
+    /* Lines fill all eight: a = U + ZY/2, b = Z, c = Y + YZY/4, d = U + YZ/2
+     * (the pi section; d is the transpose of a, not a copy), A = a^-1,
+     * B = A Z.  The sweep reads only zser and ysh for KL_BR_LINE branches
+     * (ladder form, sweep.c) and c, d, A, B for the others. */
 
     /* per feeder section [nsections]: branch carrying its sending end and its
      * receiving end (differ when a distributed load splits it); -1 when the
