@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # Scale benchmark of the load flow: builds kilter in Release, generates
 # synthetic feeders with kl_synth (fixed seed) and times each stage with
-# kl_bench.  Prints one table; figures for docs-bench.md.
+# kl_bench.  Prints one table; figures for docs/benchmark.md.
 #
 #   scripts/bench.sh [--quick] [--seed S] [--repeat R] [--keep DIR]
 #
