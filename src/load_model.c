@@ -19,7 +19,14 @@
 static inline kl_complex conj_ratio(kl_complex s, kl_complex v)
 {
     double m2 = creal(v) * creal(v) + cimag(v) * cimag(v);
-    return conj(s) * v / m2;
+    return m2 > 0 ? conj(s) * v / m2 : 0; /* a dead element draws nothing */
+}
+
+/* v / |v|, and 0 for a dead element (no angle to hold). */
+static inline kl_complex unit(kl_complex v)
+{
+    double m = cabs(v);
+    return m > 0 ? v / m : 0;
 }
 
 static kl_complex element_current(const kl_load *ld, kl_complex s, kl_complex v, double vn)
@@ -28,9 +35,9 @@ static kl_complex element_current(const kl_load *ld, kl_complex s, kl_complex v,
     case KL_LOAD_Z:
         return conj(s) * v / (vn * vn);
     case KL_LOAD_I:
-        return conj(s) / vn * (v / cabs(v));
+        return conj(s) / vn * unit(v);
     case KL_LOAD_ZIP:
-        return ld->zip[0] * (conj(s) * v / (vn * vn)) + ld->zip[1] * (conj(s) / vn * (v / cabs(v))) +
+        return ld->zip[0] * (conj(s) * v / (vn * vn)) + ld->zip[1] * (conj(s) / vn * unit(v)) +
                ld->zip[2] * conj_ratio(s, v);
     default:
         return conj_ratio(s, v);

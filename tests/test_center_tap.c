@@ -6,7 +6,9 @@
  * Reference: the three-wire 120/240 V secondary of a center-tapped
  * distribution transformer gives two 120 V legs 180 degrees apart and 240 V
  * across them at no load (common practice; the nameplate ratio 7200/240 V
- * of a 12.47Y/7.2 kV service transformer is common practice too). */
+ * of a 12.47Y/7.2 kV service transformer is common practice too).  The line
+ * impedances are the published IEEE PES 13-node test feeder configurations
+ * 601 (three-phase) and 605 (single-phase), used here only as realistic data. */
 #include <check.h>
 #include <complex.h>
 #include <math.h>

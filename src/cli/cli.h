@@ -74,6 +74,9 @@ int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form)
 
 /* Output helpers: a JSON string with escapes; a CSV field quoted when needed. */
 void kl_cli_json_str(FILE *f, const char *s);
+/* A JSON number with 8 significant digits; NaN and infinities (undefined
+ * indices, empty extremes) become null, which JSON allows and %g would not. */
+void kl_cli_json_num(FILE *f, double x);
 void kl_cli_csv_str(FILE *f, const char *s);
 
 int kl_cmd_check(int argc, char **argv);

@@ -1,6 +1,7 @@
 /* kilter program: option handling, atomic output and error printing shared by
  * every command. */
 #include <errno.h>
+#include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -280,4 +281,12 @@ int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form)
         return KL_EXIT_USAGE;
     }
     return 0;
+}
+
+void kl_cli_json_num(FILE *f, double x)
+{
+    if (!isfinite(x))
+        fputs("null", f);
+    else
+        fprintf(f, "%.8g", x);
 }

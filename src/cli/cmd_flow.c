@@ -292,7 +292,7 @@ static int read_options(const kl_cli_args *a, kl_flow_options *o, kl_carson_form
     if (a->val[OPT_SCALE]) {
         char *end;
         o->load_scale = strtod(a->val[OPT_SCALE], &end);
-        if (*end || !(o->load_scale >= 0) || !isfinite(o->load_scale)) {
+        if (end == a->val[OPT_SCALE] || *end || !(o->load_scale >= 0) || !isfinite(o->load_scale)) {
             kl_cli_error("flow: --load-scale needs a number of 0 or more, not '%s'",
                          a->val[OPT_SCALE]);
             return KL_EXIT_USAGE;

@@ -399,10 +399,19 @@ static void print_csv(FILE *o, const view *w)
 
 static void json_summary(FILE *o, const kl_rebalance_summary *s)
 {
-    fprintf(o, "{\"i_head\": [%.6f, %.6f, %.6f], \"i_residual\": %.6f, \"i_residual_at\": %.6f, "
-            "\"vuf\": %.8f, \"losses_kw\": %.6f, \"v_min_pu\": %.8f, \"v_max_pu\": %.8f}",
-            s->i_head[0], s->i_head[1], s->i_head[2], s->i_residual, s->i_residual_at, s->vuf_max,
-            s->losses_w / 1e3, s->v_min_pu, s->v_max_pu);
+    const char *key[] = {"i_residual", "i_residual_at", "vuf", "losses_kw", "v_min_pu", "v_max_pu"};
+    double val[] = {s->i_residual, s->i_residual_at, s->vuf_max, s->losses_w / 1e3, s->v_min_pu,
+                    s->v_max_pu};
+    fputs("{\"i_head\": [", o);
+    for (int p = 0; p < 3; p++) {
+        kl_cli_json_num(o, s->i_head[p]);
+        fputs(p < 2 ? ", " : "]", o);
+    }
+    for (size_t k = 0; k < sizeof val / sizeof val[0]; k++) {
+        fprintf(o, ", \"%s\": ", key[k]);
+        kl_cli_json_num(o, val[k]);
+    }
+    fputc('}', o);
 }
 
 static void json_levels(FILE *o, const kl_rebalance_plan *p, const kl_rebalance_summary *s)

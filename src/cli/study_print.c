@@ -30,13 +30,6 @@ static void csv_num(FILE *o, double x)
         fprintf(o, "%.6f", x);
 }
 
-static void json_num(FILE *o, double x)
-{
-    if (isnan(x) || !isfinite(x))
-        fputs("null", o);
-    else
-        fprintf(o, "%.8g", x);
-}
 
 static double pct(double x) { return 100.0 * x; }
 
@@ -621,7 +614,7 @@ void kl_study_print_csv(FILE *o, const kl_study_print *p, kl_study_table t)
 static void json_key_num(FILE *o, const char *key, double x, int comma)
 {
     fprintf(o, "\"%s\": ", key);
-    json_num(o, x);
+    kl_cli_json_num(o, x);
     if (comma)
         fputs(", ", o);
 }
