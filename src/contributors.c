@@ -215,17 +215,12 @@ static int by_share_desc(const void *a, const void *b)
     return (x < y) - (x > y);
 }
 
-static int popcount3(int m)
-{
-    return (m & 1) + ((m >> 1) & 1) + ((m >> 2) & 1);
-}
-
 /* A tap: a live section with fewer phases than the bus it leaves. */
 static int is_tap(const kl_feeder *f, const kl_study_phases *ph, int k)
 {
     const kl_section *sec = &f->sections[k];
     int b = kl_sec_up(sec), up = ph->bus_phases ? ph->bus_phases[b] : f->buses[b].phases;
-    return popcount3(sec->phases) < popcount3(up);
+    return kl_phases_count(sec->phases) < kl_phases_count(up);
 }
 
 /* Adds each load's share to every tap above it; counts loads per tap. */

@@ -63,3 +63,8 @@ const char *kl_phases_str(int mask, char buf[4])
     buf[n] = '\0';
     return buf;
 }
+
+int kl_phases_count(int mask)
+{
+    return (mask & 1) + (mask >> 1 & 1) + (mask >> 2 & 1);
+}

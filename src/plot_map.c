@@ -24,15 +24,10 @@ typedef struct {
     int tree;        /* automatic layout: sections drawn as elbows */
 } map;
 
-static int popcount3(int m)
-{
-    return (m & 1) + ((m >> 1) & 1) + ((m >> 2) & 1);
-}
-
 static int draw_bus(const kl_report_input *in, const kl_plot_tree *t, int b, int thin)
 {
     return t->parent_bus[b] >= 0
-        && (!thin || popcount3(in->feeder->sections[t->parent_sec[b]].phases) == 3);
+        && (!thin || kl_phases_count(in->feeder->sections[t->parent_sec[b]].phases) == 3);
 }
 
 static int all_have_xy(const kl_feeder *f, const kl_plot_tree *t)
@@ -153,7 +148,7 @@ static void draw_sections(FILE *out, const map *m, const kl_report_input *in, co
             kl_svg_colour_scale(scale_t(m, in, v), col);
         else
             snprintf(col, sizeof col, "#9a9a9a");
-        int np = popcount3(in->feeder->sections[s].phases);
+        int np = kl_phases_count(in->feeder->sections[s].phases);
         snprintf(attr, sizeof attr, "stroke=\"%s\"%s", col, style[np < 1 ? 1 : np]);
         if (m->tree) { /* down from the parent's column, then across: no diagonals */
             double px[3] = {m->x[a], m->x[a], m->x[b]}, py[3] = {m->y[a], m->y[b], m->y[b]};

@@ -31,11 +31,6 @@ int kl_phase_mask_rotate(int mask, int r)
     return out;
 }
 
-static int popcount3(int m)
-{
-    return (m & 1) + ((m >> 1) & 1) + ((m >> 2) & 1);
-}
-
 /* Phases a load entry set occupies at its bus (delta entry k joins k, k+1). */
 static int load_bus_mask(const kl_load *ld)
 {
@@ -267,7 +262,7 @@ static kl_status lateral_try(finder *w, int k0)
     const kl_feeder *f = n->feeder;
     int s = n->br_section[k0];
     int from = n->br_from[k0], M = n->br_phases[k0], P = n->phases[from];
-    int nm = popcount3(M), np = popcount3(P);
+    int nm = kl_phases_count(M), np = kl_phases_count(P);
     if (n->sec_first[s] != k0 || w->ct_below[from] || n->br_kind[k0] == KL_BR_REGULATOR)
         return KL_OK;
     if (!((nm == 1 && np >= 2) || (nm == 2 && np == 3)))
@@ -309,7 +304,7 @@ static kl_status load_try(finder *w, int l)
 {
     const kl_network *n = w->net;
     const kl_load *ld = &n->feeder->loads[l];
-    if (ld->bus < 0 || ld->bus >= n->nbuses || popcount3(ld->phases) != 1 ||
+    if (ld->bus < 0 || ld->bus >= n->nbuses || kl_phases_count(ld->phases) != 1 ||
         w->ct_below[ld->bus])
         return KL_OK;
     int need = load_bus_mask(ld), have = n->phases[ld->bus], allowed = 1;

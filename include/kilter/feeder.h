@@ -271,5 +271,7 @@ int kl_feeder_find_load(const kl_feeder *f, const char *name);
 
 /* "abc", "ac", "b" ... for a mask; buf must hold 4 bytes. */
 const char *kl_phases_str(int mask, char buf[4]);
+/* How many of a, b, c a mask holds (0..3). */
+int kl_phases_count(int mask);
 
 #endif

@@ -32,16 +32,11 @@ static void add_power(kl_complex s_ph[3], kl_connection conn, int mask, const kl
     }
 }
 
-static int popcount3(int m)
-{
-    return (m & 1) + (m >> 1 & 1) + (m >> 2 & 1);
-}
-
 /* A tap: a line with fewer phases than the bus it leaves. */
 static void count_tap(summary *u, const kl_feeder *f, const kl_section *s)
 {
-    int up = s->reversed ? s->to : s->from, n = popcount3(s->phases), k;
-    if (s->kind != KL_SEC_LINE || up < 0 || n >= popcount3(f->buses[up].phases))
+    int up = s->reversed ? s->to : s->from, n = kl_phases_count(s->phases), k;
+    if (s->kind != KL_SEC_LINE || up < 0 || n >= kl_phases_count(f->buses[up].phases))
         return;
     if (n == 1)
         u->tap1[s->phases == KL_PH_A ? 0 : s->phases == KL_PH_B ? 1 : 2]++;
