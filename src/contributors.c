@@ -18,12 +18,17 @@
  * The method is explained in docs/study.md. */
 #include <math.h>
 #include <stdlib.h>
+#include "kilter/sequence.h"
 #include "kilter/study.h"
 #include "kl_internal.h"
 
-#define KL_SQRT3_2 0.86602540378443864676
-static const kl_complex A1 = -0.5 + KL_SQRT3_2 * I; /* a = 1 /120 deg */
-static const kl_complex A2 = -0.5 - KL_SQRT3_2 * I; /* a^2 */
+/* Negative-sequence component (Fortescue), from the one transform in sequence.c. */
+static kl_complex neg_seq(const kl_complex abc[3])
+{
+    kl_complex s012[3];
+    kl_seq_from_phase(abc, s012);
+    return s012[2];
+}
 
 typedef struct {
     kl_complex *di;   /* [3*nbranches] current change on m's path */
@@ -148,7 +153,7 @@ static void shares_at(const kl_feeder *f, const kl_study_phases *ph,
                       double *share, double *total)
 {
     const kl_complex *vk = &ph->v[3 * k];
-    kl_complex v2 = (vk[0] + A2 * vk[1] + A1 * vk[2]) / 3.0;
+    kl_complex v2 = neg_seq(vk);
     double den = creal(v2 * conj(v2));
     *total = 0;
     for (int L = 0; L < f->nloads; L++)
@@ -159,7 +164,7 @@ static void shares_at(const kl_feeder *f, const kl_study_phases *ph,
         if (!load_current(f, ph, p, n, I_m))
             continue;
         delta_v(p, w, p->ld_bus[n], I_m, dv);
-        dv2 = (dv[0] + A2 * dv[1] + A1 * dv[2]) / 3.0;
+        dv2 = neg_seq(dv);
         if (isnan(share[L]))
             share[L] = 0;
         share[L] += den > 0 ? creal(dv2 * conj(v2)) / den : NAN;
