@@ -10,7 +10,6 @@
 #include "kilter/study.h"
 
 #define KL_SQRT3 1.73205080756887729353
-#define KL_SERVICE_BASE_V 120.0 /* ANSI C84.1 states service ranges on 120 V */
 /* A reading within 20 % of a nominal is taken to be on that nominal: far
  * wider than any service-voltage range, far narrower than the step between
  * a primary base and the 120 V base (common practice). */

@@ -4,7 +4,6 @@
 #include <math.h>
 #include "kilter/limits.h"
 
-#define KL_SERVICE_BASE_V 120.0 /* ANSI C84.1 ranges are stated on 120 V */
 
 void kl_limits_default(kl_limits *l)
 {

@@ -26,7 +26,7 @@ static int drawn(const kl_report_input *in, const kl_plot_tree *t, int b, int th
 
 static extent find_extent(const kl_report_input *in, const kl_plot_tree *t, double to_unit)
 {
-    extent e = {0, in->opt.limits.range_b_low_v / 120.0, in->opt.limits.range_b_high_v / 120.0,
+    extent e = {0, in->opt.limits.range_b_low_v / KL_SERVICE_BASE_V, in->opt.limits.range_b_high_v / KL_SERVICE_BASE_V,
                 -1, 0, INFINITY};
     for (int k = 0; k < t->nreached; k++) {
         int b = t->order[k];
@@ -100,8 +100,8 @@ static void draw(FILE *out, const kl_report_input *in, const kl_plot_tree *t)
     double pad = 0.05 * (e.vhi - e.vlo);
     kl_svg_frame fr = {70, 20, 640, 350, 0, e.dmax, e.vlo - pad, e.vhi + pad};
     const kl_limits *l = &in->opt.limits;
-    kl_svg_band(out, &fr, l->range_b_low_v / 120, l->range_b_high_v / 120, "#f4ecd2", NULL);
-    kl_svg_band(out, &fr, l->range_a_low_v / 120, l->range_a_high_v / 120, "#dcefd9", NULL);
+    kl_svg_band(out, &fr, l->range_b_low_v / KL_SERVICE_BASE_V, l->range_b_high_v / KL_SERVICE_BASE_V, "#f4ecd2", NULL);
+    kl_svg_band(out, &fr, l->range_a_low_v / KL_SERVICE_BASE_V, l->range_a_high_v / KL_SERVICE_BASE_V, "#dcefd9", NULL);
     kl_svg_axes(out, &fr, si ? "distance from the source (km)" : "distance from the source (mi)",
                 e.dmax < 2 ? 2 : 1, "voltage (per unit of nominal)", 3);
     int thin = t->nreached - 1 > KL_PLOT_MAX_SECTIONS;

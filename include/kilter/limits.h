@@ -8,6 +8,8 @@
 
 #include "kilter/error.h"
 
+#define KL_SERVICE_BASE_V 120.0 /* ANSI C84.1 states the service-voltage ranges on a 120 V base */
+
 typedef struct {
     double range_a_low_v, range_a_high_v; /* service voltage Range A, 120 V base */
     double range_b_low_v, range_b_high_v; /* service voltage Range B, 120 V base */
