@@ -94,7 +94,8 @@ static void feed(kl_loader *L, int e, int u, int v, int energized)
                        s->kind == KL_SEC_TRANSFORMER ? "transformer" : "regulator", up->name);
     if (!s->phases)
         s->phases = up->phases;
-    if (s->phases & ~up->phases)
+    /* an upstream bus left with no phases was reported above: say it once */
+    if (up->phases && (s->phases & ~up->phases))
         kl_ld_error_at(L, s->loc.line, s->loc.col, "phases '%s' are not all present at its upstream bus '%s', "
                        "which has '%s': use phases the upstream bus has, or correct the section above it",
                        kl_phases_str(s->phases, b1), up->name, kl_phases_str(up->phases, b2));

@@ -213,6 +213,18 @@ START_TEST(phase_absent_upstream)
 }
 END_TEST
 
+START_TEST(phase_absent_upstream_said_once)
+{
+    /* the sections below a wrong tap are not blamed for it: one error, at the tap */
+    const char *t = HEAD "  - {name: s1, from: sub, to: b1, length: 10 ft, construction: kac}\n"
+                         "  - {name: s2, from: b1, to: b2, length: 10 ft, construction: k3, phases: b}\n"
+                         "  - {name: s3, from: b2, to: b3, length: 10 ft, construction: k3, phases: b}\n";
+    ck_assert_int_eq(load_text(t), KL_EINPUT);
+    ck_assert_int_eq(err.count, 1);
+    expect_error(17, 5, "section \"s2\"", "phases 'b'", "upstream bus 'b1'", NULL);
+}
+END_TEST
+
 START_TEST(load_on_absent_phase)
 {
     const char *t = HEAD "  - {name: s1, from: sub, to: b1, length: 10 ft, construction: kac}\n"
@@ -472,6 +484,7 @@ int main(void)
     tcase_add_test(tc, position_not_in_layout);
     tcase_add_test(tc, section_phases_not_in_construction);
     tcase_add_test(tc, phase_absent_upstream);
+    tcase_add_test(tc, phase_absent_upstream_said_once);
     tcase_add_test(tc, load_on_absent_phase);
     tcase_add_test(tc, closed_loop);
     tcase_add_test(tc, islands);
