@@ -210,9 +210,10 @@ static kl_status count_distributed(const kl_feeder *f, int *has_dist, kl_errors 
     return st;
 }
 
-static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int nbr, int nld)
+static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int nbr, int nld,
+                              int ndev_max)
 {
-    size_t nb = (size_t)nbus, nr = (size_t)nbr;
+    size_t nb = (size_t)nbus, nr = (size_t)nbr, nd = (size_t)(ndev_max > 0 ? ndev_max : 1);
     n->order = kl_calloc(nb, sizeof(int));
     n->phases = kl_calloc(nb, sizeof(int));
     n->v_base_ln = kl_calloc(nb, sizeof(double));
@@ -223,13 +224,17 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->br_kind = kl_calloc(nr, sizeof(int));
     n->br_phases = kl_calloc(nr, sizeof(int));
     n->br_section = kl_calloc(nr, sizeof(int));
+    n->dev = kl_malloc(nr * sizeof(int));
     kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B, &n->zser, &n->ysh};
     int ok = n->order && n->phases && n->v_base_ln && n->split_phase && n->parent && n->br_from && n->br_to &&
-             n->br_kind && n->br_phases && n->br_section;
+             n->br_kind && n->br_phases && n->br_section && n->dev;
     for (size_t k = 0; k < sizeof m / sizeof m[0]; k++) {
-        *m[k] = kl_calloc(9 * nr, sizeof(kl_complex));
+        /* a..B by device slot, zser and ysh by branch (network.h) */
+        *m[k] = kl_calloc(9 * (k < 6 ? nd : nr), sizeof(kl_complex));
         ok = ok && *m[k];
     }
+    for (size_t k = 0; n->dev && k < nr; k++)
+        n->dev[k] = -1;
     n->sec_first = kl_calloc((size_t)f->nsections, sizeof(int));
     n->sec_last = kl_calloc((size_t)f->nsections, sizeof(int));
     n->loads = kl_calloc((size_t)nld, sizeof(kl_net_load));
@@ -256,7 +261,7 @@ void kl_network_free(kl_network *n)
         return;
     kl_network_nodal_reset(n);
     void *p[] = {n->order, n->phases, n->v_base_ln, n->split_phase, n->parent, n->br_from, n->br_to,
-                 n->br_kind, n->br_phases, n->br_section, n->a, n->b, n->c, n->d, n->A,
+                 n->br_kind, n->br_phases, n->br_section, n->dev, n->a, n->b, n->c, n->d, n->A,
                  n->B, n->zser, n->ysh, n->sec_first, n->sec_last, n->loads, n->ld_slot,
                  n->reg_branch, n->tap, n->v, n->j, n->i_from, n->i_to, n->pos,
                  n->br_from_pos, n->vs, n->js};
@@ -288,7 +293,7 @@ static kl_status line_matrices(kl_network *n, int k, const kl_section *sc, doubl
     const kl_construction *cn = &f->constructions[sc->construction];
     int mask = n->br_phases[k];
     double len = sc->length_m * share;
-    kl_complex *Z = n->zser + 9 * k, *Y = n->ysh + 9 * k, ZY[9], YZ[9], YZY[9];
+    kl_complex *Z = n->zser + 9 * k, *Y = n->ysh + 9 * k, A[9];
     for (int i = 0; i < 9; i++) {
         if (cn->derived) {
             Z[i] = cn->zabc[i / 3][i % 3] * len;
@@ -300,30 +305,72 @@ static kl_status line_matrices(kl_network *n, int k, const kl_section *sc, doubl
     }
     kl_cm3_mask(Z, mask);
     kl_cm3_mask(Y, mask);
-    kl_cm3_mul(Z, Y, ZY);
-    kl_cm3_mul(Y, Z, YZ);
-    kl_cm3_mul(YZ, Y, YZY);
-    kl_complex *a = n->a + 9 * k, *c = n->c + 9 * k, *d = n->d + 9 * k;
-    kl_cm3_identity(a, mask);
-    for (int i = 0; i < 9; i++) {
-        a[i] += 0.5 * ZY[i];
-        c[i] = Y[i] + 0.25 * YZY[i];
-    }
-    kl_cm3_mask(a, mask);
-    /* d = U + YZ/2, the transpose of a (not a itself: ZY and YZ differ for
-     * unequal phase couplings); it follows from I_from = I_s + (Y/2) V_from
-     * with V_from = a V_to + b I_to, the pi section the sweep solves */
-    kl_cm3_identity(d, mask);
-    for (int i = 0; i < 9; i++)
-        d[i] += 0.5 * YZ[i];
-    kl_cm3_mask(d, mask);
-    memcpy(n->b + 9 * k, Z, 9 * sizeof *Z);
-    if (inverse_on(a, mask, n->A + 9 * k)) {
+    /* only Z and Y are kept; a singular a would stop every reader of A */
+    if (kl_network_line_abcd(n, k, NULL, NULL, NULL, NULL, A, NULL)) {
         net_err(err, f, sc->loc, "section", sc->name, "has a singular line matrix: check the "
                 "construction's impedance and susceptance");
         return KL_EINPUT;
     }
-    kl_cm3_mul(n->A + 9 * k, Z, n->B + 9 * k);
+    return KL_OK;
+}
+
+kl_status kl_network_line_abcd(const kl_network *n, int k, kl_complex a[9], kl_complex b[9],
+                               kl_complex c[9], kl_complex d[9], kl_complex A[9],
+                               kl_complex B[9])
+{
+    const kl_complex *Z = n->zser + 9 * k, *Y = n->ysh + 9 * k;
+    int mask = n->br_phases[k];
+    kl_complex ZY[9], YZ[9], ta[9];
+    kl_cm3_mul(Z, Y, ZY);
+    kl_cm3_mul(Y, Z, YZ);
+    /* a = U + ZY/2 (needed for A and B as well) */
+    kl_cm3_identity(ta, mask);
+    for (int i = 0; i < 9; i++)
+        ta[i] += 0.5 * ZY[i];
+    kl_cm3_mask(ta, mask);
+    if (a)
+        memcpy(a, ta, sizeof ta);
+    if (b)
+        memcpy(b, Z, 9 * sizeof *Z);
+    if (c) {
+        kl_complex YZY[9];
+        kl_cm3_mul(YZ, Y, YZY);
+        for (int i = 0; i < 9; i++)
+            c[i] = Y[i] + 0.25 * YZY[i];
+    }
+    /* d = U + YZ/2, the transpose of a (not a itself: ZY and YZ differ for
+     * unequal phase couplings); it follows from I_from = I_s + (Y/2) V_from
+     * with V_from = a V_to + b I_to, the pi section the sweep solves */
+    if (d) {
+        kl_cm3_identity(d, mask);
+        for (int i = 0; i < 9; i++)
+            d[i] += 0.5 * YZ[i];
+        kl_cm3_mask(d, mask);
+    }
+    if (!A && !B)
+        return KL_OK;
+    kl_complex tA[9];
+    if (inverse_on(ta, mask, tA))
+        return KL_EINPUT;
+    if (A)
+        memcpy(A, tA, sizeof tA);
+    if (B)
+        kl_cm3_mul(tA, Z, B);
+    return KL_OK;
+}
+
+kl_status kl_network_branch_abcd(const kl_network *n, int k, kl_complex a[9],
+                                 kl_complex b[9], kl_complex c[9], kl_complex d[9],
+                                 kl_complex A[9], kl_complex B[9])
+{
+    int s = n->dev[k];
+    if (s < 0)
+        return kl_network_line_abcd(n, k, a, b, c, d, A, B);
+    kl_complex *out[] = {a, b, c, d, A, B};
+    const kl_complex *src[] = {n->a, n->b, n->c, n->d, n->A, n->B};
+    for (int q = 0; q < 6; q++)
+        if (out[q])
+            memcpy(out[q], src[q] + 9 * (size_t)s, 9 * sizeof(kl_complex));
     return KL_OK;
 }
 
@@ -371,7 +418,8 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
 {
     const kl_feeder *f = n->feeder;
     int from = n->br_from[k], to = n->br_to[k];
-    kl_complex *A = n->A + 9 * k;
+    int s = n->dev[k] = n->ndev++;
+    kl_complex *A = n->A + 9 * s;
     if (sc->kind == KL_SEC_TRANSFORMER) {
         if (sc->device < 0 || sc->device >= f->ntransformers) {
             net_err(err, f, sc->loc, "section", sc->name, "names an unknown transformer");
@@ -380,19 +428,19 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
         const kl_transformer *t = &f->transformers[sc->device];
         char why[384];
         int up = transformer_step_up(t, n->v_base_ln[from]);
-        if (kl_transformer_matrices(t, n->br_phases[k], up, A, n->B + 9 * k, &n->phases[to],
+        if (kl_transformer_matrices(t, n->br_phases[k], up, A, n->B + 9 * s, &n->phases[to],
                                     &n->v_base_ln[to], why, sizeof why)) {
             net_err(err, f, sc->loc, "section", sc->name, why);
             return KL_EINPUT;
         }
         n->br_kind[k] = KL_BR_TRANSFORMER;
         n->split_phase[to] = !up && t->low == KL_WINDING_CENTER_TAP;
-        kl_cm3_transpose(A, n->d + 9 * k);
-        memcpy(n->zser + 9 * k, n->B + 9 * k, 9 * sizeof(kl_complex));
+        kl_cm3_transpose(A, n->d + 9 * s);
+        memcpy(n->zser + 9 * k, n->B + 9 * s, 9 * sizeof(kl_complex));
         /* a, b only where A is invertible (wye-wye, single-phase); else zero */
         if (inverse_on(A, n->phases[to] == n->br_phases[k] ? n->br_phases[k] : 0,
-                       n->a + 9 * k) == 0)
-            kl_cm3_mul(n->a + 9 * k, n->B + 9 * k, n->b + 9 * k);
+                       n->a + 9 * s) == 0)
+            kl_cm3_mul(n->a + 9 * s, n->B + 9 * s, n->b + 9 * s);
         return KL_OK;
     }
     n->phases[to] = n->br_phases[k];
@@ -409,9 +457,9 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
         return KL_OK;
     }
     n->br_kind[k] = KL_BR_SWITCH;
-    kl_cm3_identity(n->a + 9 * k, n->br_phases[k]);
-    memcpy(n->d + 9 * k, n->a + 9 * k, 9 * sizeof(kl_complex));
-    memcpy(A, n->a + 9 * k, 9 * sizeof(kl_complex));
+    kl_cm3_identity(n->a + 9 * s, n->br_phases[k]);
+    memcpy(n->d + 9 * s, n->a + 9 * s, 9 * sizeof(kl_complex));
+    memcpy(A, n->a + 9 * s, 9 * sizeof(kl_complex));
     return KL_OK;
 }
 
@@ -421,8 +469,8 @@ void kl_network_regulator_update(kl_network *n, int r)
     if (k < 0)
         return;
     const kl_regulator *rg = &n->feeder->regulators[r];
-    kl_regulator_matrices(rg, n->tap + 3 * r, n->br_phases[k], n->A + 9 * k, n->d + 9 * k,
-                          n->a + 9 * k);
+    size_t s = 9 * (size_t)n->dev[k];
+    kl_regulator_matrices(rg, n->tap + 3 * r, n->br_phases[k], n->A + s, n->d + s, n->a + s);
 }
 
 static kl_status phases_present(const kl_network *n, const kl_section *sc, int k,
@@ -527,9 +575,10 @@ static kl_status emit_link(kl_network *n, int s, int *nbr, kl_errors *err)
         return line_matrices(n, k, sc, 1.0, err);
     }
     n->br_kind[k] = KL_BR_SWITCH;
-    kl_cm3_identity(n->a + 9 * k, mask);
-    memcpy(n->d + 9 * k, n->a + 9 * k, 9 * sizeof(kl_complex));
-    memcpy(n->A + 9 * k, n->a + 9 * k, 9 * sizeof(kl_complex));
+    size_t q = 9 * (size_t)(n->dev[k] = n->ndev++);
+    kl_cm3_identity(n->a + q, mask);
+    memcpy(n->d + q, n->a + q, 9 * sizeof(kl_complex));
+    memcpy(n->A + q, n->a + q, 9 * sizeof(kl_complex));
     return KL_OK;
 }
 
@@ -656,8 +705,11 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         st = st ? st : st2 ? st2 : st3;
         goto done;
     }
-    for (int s = 0; s < f->nsections; s++)
+    int ndev_max = 0; /* device slots: at most one per section that is not a line */
+    for (int s = 0; s < f->nsections; s++) {
         nsplit += has_dist[s];
+        ndev_max += f->sections[s].kind != KL_SEC_LINE;
+    }
     for (int l = 0; l < f->nloads; l++)
         ndist += f->loads[l].bus < 0;
     n->nfeeder_buses = f->nbuses;
@@ -665,7 +717,8 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     n->nbranches = nsec + nsplit;
     n->nlinks = nlinks;
     n->source = f->source.bus;
-    if ((st = alloc_arrays(n, f, n->nbuses, n->nbranches + nlinks, f->nloads + ndist)))
+    if ((st = alloc_arrays(n, f, n->nbuses, n->nbranches + nlinks, f->nloads + ndist,
+                           ndev_max)))
         goto done;
     for (int s = 0; s < f->nsections; s++)
         n->sec_first[s] = n->sec_last[s] = -1;

@@ -189,7 +189,8 @@ static int stamp_line(kl_nodal *w, const kl_network *n, int k)
  * must not change); B only where nonzero (it never changes). */
 static void stamp_device(kl_nodal *w, const kl_network *n, int k)
 {
-    const kl_complex *A = n->A + 9 * k, *B = n->B + 9 * k, *d = n->d + 9 * k;
+    size_t s = 9 * (size_t)n->dev[k]; /* device slot (network.h) */
+    const kl_complex *A = n->A + s, *B = n->B + s, *d = n->d + s;
     const int *vf = w->vidx + 3 * n->br_from[k], *vt = w->vidx + 3 * n->br_to[k];
     const int *ik = w->iidx + 3 * k;
     int mf = n->br_phases[k], mt = to_mask(n, k);
@@ -521,8 +522,14 @@ static void link_currents(kl_network *n, int k)
 {
     const kl_complex *vf = n->v + 3 * n->br_from[k], *vt = n->v + 3 * n->br_to[k];
     kl_complex *ifr = n->i_from + 3 * k, *ito = n->i_to + 3 * k, Y[9], dv[3], tf[3], tt[3];
-    if (!is_line(n, k) || line_admittance(n, k, Y)) {
-        kl_cm3_vec(n->d + 9 * k, ito, ifr);
+    if (!is_line(n, k)) {
+        kl_cm3_vec(n->d + 9 * (size_t)n->dev[k], ito, ifr);
+        return;
+    }
+    if (line_admittance(n, k, Y)) {
+        kl_complex d[9];
+        kl_network_line_abcd(n, k, NULL, NULL, NULL, d, NULL, NULL);
+        kl_cm3_vec(d, ito, ifr);
         return;
     }
     for (int p = 0; p < 3; p++)
@@ -559,8 +566,10 @@ static void branch_currents(kl_network *n, double scale)
         const kl_complex *vto = n->v + 3 * n->br_to[k];
         kl_complex *jfr = n->j + 3 * n->br_from[k];
         memcpy(ito, n->j + 3 * n->br_to[k], 3 * sizeof *ito);
-        kl_cm3_vec(n->c + 9 * k, vto, ifr);
-        kl_cm3_vec(n->d + 9 * k, ito, t);
+        kl_complex c[9], d[9];
+        kl_network_branch_abcd(n, k, NULL, NULL, c, d, NULL, NULL);
+        kl_cm3_vec(c, vto, ifr);
+        kl_cm3_vec(d, ito, t);
         for (int p = 0; p < 3; p++) {
             ifr[p] += t[p];
             jfr[p] += ifr[p];

@@ -421,11 +421,14 @@ static void mat_relabel(kl_complex *m, int rr, int cc)
 
 static void branch_relabel(kl_network *n, int k, int rf, int rt)
 {
-    kl_complex *src_load[] = {n->a, n->b, n->c, n->d};
-    for (int q = 0; q < 4; q++)
-        mat_relabel(src_load[q] + 9 * k, rf, rt);
-    mat_relabel(n->A + 9 * k, rt, rf);
-    mat_relabel(n->B + 9 * k, rt, rt);
+    if (n->dev[k] >= 0) { /* a line keeps only zser and ysh (network.h) */
+        size_t s = 9 * (size_t)n->dev[k];
+        kl_complex *src_load[] = {n->a, n->b, n->c, n->d};
+        for (int q = 0; q < 4; q++)
+            mat_relabel(src_load[q] + s, rf, rt);
+        mat_relabel(n->A + s, rt, rf);
+        mat_relabel(n->B + s, rt, rt);
+    }
     mat_relabel(n->zser + 9 * k, rt, rt);
     mat_relabel(n->ysh + 9 * k, rt, rt);
     n->br_phases[k] = kl_phase_mask_rotate(n->br_phases[k], rf);

@@ -14,8 +14,10 @@ void kl_study_view_free(kl_study_view *w)
     kl_free(w->ld_load);
     kl_free(w->ld_bus);
     kl_free(w->ld_weight);
+    kl_free(w->br_abd);
     w->ld_load = w->ld_bus = NULL;
     w->ld_weight = NULL;
+    w->br_abd = NULL;
 }
 
 static void phases_view(const kl_flow_result *res, kl_study_phases *ph)
@@ -39,9 +41,6 @@ static void paths_view(const kl_network *net, kl_study_paths *p)
     p->parent = net->parent;
     p->br_from = net->br_from;
     p->br_to = net->br_to;
-    p->A = net->A;
-    p->B = net->B;
-    p->d = net->d;
     p->zsource = net->has_zsource ? net->zsource : NULL;
     p->v = net->v_valid ? net->v : NULL;
     p->nloads = net->nloads;
@@ -54,6 +53,7 @@ kl_status kl_study_view_init(kl_study_view *w, const kl_network *net,
     size_t n = (size_t)(net && net->nloads > 0 ? net->nloads : 1);
     w->ld_load = w->ld_bus = NULL;
     w->ld_weight = NULL;
+    w->br_abd = NULL;
     if (!net || !res || !res->converged) {
         kl_errors_add(err, NULL, 0, 0, "study",
                       "the study needs a converged load flow: solve the feeder first");
@@ -64,7 +64,9 @@ kl_status kl_study_view_init(kl_study_view *w, const kl_network *net,
     w->ld_load = kl_malloc(n * sizeof *w->ld_load);
     w->ld_bus = kl_malloc(n * sizeof *w->ld_bus);
     w->ld_weight = kl_malloc(n * sizeof *w->ld_weight);
-    if (!w->ld_load || !w->ld_bus || !w->ld_weight) {
+    w->br_abd = kl_malloc(27 * (size_t)(net->nbranches > 0 ? net->nbranches : 1) *
+                          sizeof *w->br_abd);
+    if (!w->ld_load || !w->ld_bus || !w->ld_weight || !w->br_abd) {
         kl_study_view_free(w);
         kl_errors_add(err, NULL, 0, 0, "study", "out of memory");
         return KL_ENOMEM;
@@ -74,6 +76,15 @@ kl_status kl_study_view_init(kl_study_view *w, const kl_network *net,
         w->ld_bus[k] = net->loads[k].bus;
         w->ld_weight[k] = net->loads[k].weight;
     }
+    /* the matrices exist on a solved network, so a singular line cannot
+     * occur here (kl_network_build refused it) */
+    size_t m = 9 * (size_t)net->nbranches;
+    for (int k = 0; k < net->nbranches; k++)
+        kl_network_branch_abcd(net, k, NULL, NULL, NULL, w->br_abd + 2 * m + 9 * (size_t)k,
+                               w->br_abd + 9 * (size_t)k, w->br_abd + m + 9 * (size_t)k);
+    w->paths.A = w->br_abd;
+    w->paths.B = w->br_abd + m;
+    w->paths.d = w->br_abd + 2 * m;
     w->paths.ld_load = w->ld_load;
     w->paths.ld_bus = w->ld_bus;
     w->paths.ld_weight = w->ld_weight;

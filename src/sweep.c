@@ -144,10 +144,12 @@ static void sweep_backward(kl_network *n, double scale)
         if (n->br_kind[k] == KL_BR_LINE) {
             line_backward(n->zser + 9 * k, n->ysh + 9 * k, n->br_phases[k], vto, ito, ifr);
         } else if (is_masked_kind(n->br_kind[k])) {
+            size_t s = 9 * (size_t)n->dev[k]; /* device slot (network.h) */
             ifr[0] = ifr[1] = ifr[2] = 0;
-            mv2_masked(n->c + 9 * k, vto, n->d + 9 * k, ito, 1.0, n->br_phases[k], ifr);
+            mv2_masked(n->c + s, vto, n->d + s, ito, 1.0, n->br_phases[k], ifr);
         } else {
-            mv2_full(n->c + 9 * k, vto, n->d + 9 * k, ito, 1.0, ifr);
+            size_t s = 9 * (size_t)n->dev[k];
+            mv2_full(n->c + s, vto, n->d + s, ito, 1.0, ifr);
         }
         for (int p = 0; p < 3; p++)
             jfr[p] += ifr[p];
@@ -195,9 +197,11 @@ static double sweep_forward(kl_network *n, int *where)
             line_forward(n->zser + 9 * k, n->ysh + 9 * k, n->br_phases[k], vf, ito,
                          n->vs + 3 * (k + 1), vnew);
         else if (is_masked_kind(n->br_kind[k]))
-            mv2_masked(n->A + 9 * k, vf, n->B + 9 * k, ito, -1.0, n->br_phases[k], vnew);
+            mv2_masked(n->A + 9 * (size_t)n->dev[k], vf, n->B + 9 * (size_t)n->dev[k], ito,
+                       -1.0, n->br_phases[k], vnew);
         else
-            mv2_full(n->A + 9 * k, vf, n->B + 9 * k, ito, -1.0, vnew);
+            mv2_full(n->A + 9 * (size_t)n->dev[k], vf, n->B + 9 * (size_t)n->dev[k], ito,
+                     -1.0, vnew);
         worst = set_voltage(n, k + 1, n->br_to[k], vnew, worst, where);
     }
     return worst;

@@ -657,15 +657,18 @@ START_TEST(test_random_feeders)
             /* the sweep's layout: branch k feeds the bus at position k + 1 */
             ck_assert_int_eq(n->order[k + 1], n->br_to[k]);
             ck_assert_int_eq(n->pos[n->br_to[k]], k + 1);
-            kl_complex vf[3], t[3], t2[3];
-            kl_cm3_vec(n->a + 9 * k, n->v + 3 * n->br_to[k], vf);
-            kl_cm3_vec(n->b + 9 * k, n->i_to + 3 * k, t);
+            kl_complex vf[3], t[3], t2[3], a[9], b[9], c[9], d[9];
+            /* generalized form of the branch (lines: from Z and Y, network.h),
+             * against the sweep's ladder-form solution */
+            kl_network_branch_abcd(n, k, a, b, c, d, NULL, NULL);
+            kl_cm3_vec(a, n->v + 3 * n->br_to[k], vf);
+            kl_cm3_vec(b, n->i_to + 3 * k, t);
             for (int p = 0; p < 3; p++)
                 ck_assert_msg(!(n->br_phases[k] & (1 << p)) ||
                               cabs(vf[p] + t[p] - n->v[3 * n->br_from[k] + p]) < 1e-5 * 7200,
                               "seed %u branch %d phase %d", seed, k, p);
-            kl_cm3_vec(n->c + 9 * k, n->v + 3 * n->br_to[k], t);
-            kl_cm3_vec(n->d + 9 * k, n->i_to + 3 * k, t2);
+            kl_cm3_vec(c, n->v + 3 * n->br_to[k], t);
+            kl_cm3_vec(d, n->i_to + 3 * k, t2);
             for (int p = 0; p < 3; p++)
                 ck_assert(cabs(t[p] + t2[p] - n->i_from[3 * k + p]) < 1e-9 * (1 + cabs(t2[p])));
         }

@@ -495,11 +495,16 @@ START_TEST(test_rotation_restores)
     char *text = text_join(HEAD, MIXED);
     fixture_load_text(&x, text);
     kl_network *n = x.net;
-    size_t m = 9 * (size_t)n->nbranches;
-    kl_complex *copy = malloc(6 * m * sizeof(kl_complex));
-    kl_complex *arr[6] = {n->a, n->b, n->c, n->d, n->A, n->B};
-    for (int k = 0; k < 6; k++)
-        memcpy(copy + k * m, arr[k], m * sizeof(kl_complex));
+    /* lines keep zser and ysh, devices also a..B by slot (network.h); the
+     * copy holds each array at a stride of the longest */
+    size_t m = 9 * (size_t)(n->nbranches > n->ndev ? n->nbranches : n->ndev);
+    kl_complex *copy = calloc(8 * m, sizeof(kl_complex));
+    kl_complex *arr[8] = {n->a, n->b, n->c, n->d, n->A, n->B, n->zser, n->ysh};
+    size_t len[8];
+    for (int k = 0; k < 8; k++) {
+        len[k] = 9 * (size_t)(k < 6 ? n->ndev : n->nbranches);
+        memcpy(copy + k * m, arr[k], len[k] * sizeof(kl_complex));
+    }
     int *ph = malloc(sizeof(int) * (size_t)n->nbuses);
     memcpy(ph, n->phases, sizeof(int) * (size_t)n->nbuses);
     for (int i = 0; i < x.rp->nitems; i++) {
@@ -507,13 +512,13 @@ START_TEST(test_rotation_restores)
         kl_rephase_set(x.rp, i, 2);
     }
     int moved = 0;
-    for (int k = 0; k < 6; k++)
-        moved |= memcmp(copy + k * m, arr[k], m * sizeof(kl_complex)) != 0;
+    for (int k = 0; k < 8; k++)
+        moved |= memcmp(copy + k * m, arr[k], len[k] * sizeof(kl_complex)) != 0;
     ck_assert(moved);
     for (int i = x.rp->nitems - 1; i >= 0; i--)
         kl_rephase_set(x.rp, i, 0);
-    for (int k = 0; k < 6; k++)
-        ck_assert(memcmp(copy + k * m, arr[k], m * sizeof(kl_complex)) == 0);
+    for (int k = 0; k < 8; k++)
+        ck_assert(memcmp(copy + k * m, arr[k], len[k] * sizeof(kl_complex)) == 0);
     ck_assert(memcmp(ph, n->phases, sizeof(int) * (size_t)n->nbuses) == 0);
     for (int l = 0; l < x.f->nloads; l++)
         for (int k = 0; k < 3; k++)

@@ -65,15 +65,28 @@ typedef struct kl_network {
     int *br_kind;          /* [nbranches] kl_branch_kind */
     int *br_phases;        /* [nbranches] phase mask on the source side */
     int *br_section;       /* [nbranches] feeder section id */
-    kl_complex *a, *b, *c, *d, *A, *B; /* [9*nbranches] row-major 3x3 each; transformers:
-                            * c = 0, d = A^T, and a, b only where A is invertible (wye-wye,
-                            * single-phase), zero otherwise: the sweep uses A, B, c, d only */
+    /* Branch matrices, stored compactly (a branch of a single-phase lateral
+     * would otherwise carry eight complex 3x3 matrices, 1152 bytes, for one
+     * or two nonzero entries):
+     *   - every branch keeps zser and ysh, indexed by branch id;
+     *   - only device branches (switches, transformers, regulators) keep the
+     *     generalized a, b, c, d, A, B, in slot dev[k] of the device arrays;
+     *     dev[k] is -1 for a line.
+     * A line's a..B follow from its Z and Y (the pi section: a = U + ZY/2,
+     * b = Z, c = Y + YZY/4, d = U + YZ/2, the transpose of a, A = a^-1,
+     * B = A Z on the present phases): kl_network_line_abcd computes them,
+     * kl_network_branch_abcd gives any branch's. */
+    int ndev;              /* device branches (tree and loop-closing) */
+    int *dev;              /* [nbranches+nlinks] slot in the device matrices, -1 for lines */
+    kl_complex *a, *b, *c, *d, *A, *B; /* [9*ndev] row-major 3x3 each, by device slot;
+                            * transformers: c = 0, d = A^T, and a, b only where A is
+                            * invertible (wye-wye, single-phase), zero otherwise: the
+                            * sweep uses A, B, c, d only */
     kl_complex *zser;      /* [9*nbranches] lines: series impedance (ohm); devices: B (load side) */
-    kl_complex *ysh;       /* [9*nbranches] lines: total shunt admittance (S), half at each end */
-    /* Lines fill all eight: a = U + ZY/2, b = Z, c = Y + YZY/4, d = U + YZ/2
-     * (the pi section; d is the transpose of a, not a copy), A = a^-1,
-     * B = A Z.  The sweep reads only zser and ysh for KL_BR_LINE branches
-     * (ladder form, sweep.c) and c, d, A, B for the others. */
+    kl_complex *ysh;       /* [9*nbranches] lines: total shunt admittance (S), half at each end;
+                            * devices: zero */
+    /* The sweep reads only zser and ysh for KL_BR_LINE branches (ladder
+     * form, sweep.c) and the device slot's c, d, A, B for the others. */
 
     /* per feeder section [nsections]: branch carrying its sending end and its
      * receiving end (differ when a distributed load splits it); -1 when the
@@ -127,6 +140,20 @@ void kl_network_free(kl_network *net);
 
 /* Frees the nodal solver's matrix and factors (rebuilt on the next nodal solve). */
 void kl_network_nodal_reset(kl_network *net);
+
+/* Line branch k's generalized matrices from its zser and ysh (see the
+ * layout above); any output may be NULL.  A and B need a^-1 on the present
+ * phases: KL_EINPUT when a is singular (the other outputs are still filled).
+ * No allocation. */
+kl_status kl_network_line_abcd(const kl_network *net, int k, kl_complex a[9], kl_complex b[9],
+                               kl_complex c[9], kl_complex d[9], kl_complex A[9],
+                               kl_complex B[9]);
+
+/* Any branch's generalized matrices: a device's copied from its slot, a
+ * line's from kl_network_line_abcd.  Outputs may be NULL. */
+kl_status kl_network_branch_abcd(const kl_network *net, int k, kl_complex a[9],
+                                 kl_complex b[9], kl_complex c[9], kl_complex d[9],
+                                 kl_complex A[9], kl_complex B[9]);
 
 /* Recomputes regulator r's branch matrices from net->tap (no allocation). */
 void kl_network_regulator_update(kl_network *net, int r);

@@ -152,6 +152,9 @@ typedef struct {
     kl_study_paths paths;
     int *ld_load, *ld_bus;       /* [paths.nloads] owned */
     double *ld_weight;           /* [paths.nloads] owned */
+    kl_complex *br_abd;          /* [27*nbranches] owned: A, B, d of every branch, one
+                                    array after the other (the network keeps them for
+                                    devices only, network.h), read as paths.A, .B, .d */
 } kl_study_view;
 
 kl_status kl_study_view_init(kl_study_view *w, const struct kl_network *net,
