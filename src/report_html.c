@@ -181,7 +181,10 @@ static void cautions(FILE *out)
           "load level shown, and every result is only as good as that data. "
           "Unbalance limits in the standards apply to measured 10-minute values at the point of "
           "supply, compared here with one steady-state solution. "
-          "Check the figures against field readings before acting on them.</div>\n", out);
+          "Check the figures against field readings before acting on them. Rephasing a lateral "
+          "or a load and sizing a neutral are work on energized equipment: field work follows "
+          "the utility's switching and safety rules, local codes, and review by a licensed "
+          "engineer.</div>\n", out);
 }
 
 /* Ranks buses by key(in, b) (NAN = left out), largest first; returns the count. */

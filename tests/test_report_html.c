@@ -143,6 +143,8 @@ START_TEST(hostile_names_render_as_text)
     ck_assert_ptr_nonnull(strstr(h, "x&quot;y&#39;z"));
     ck_assert_ptr_nonnull(strstr(h, "&lt;img src=x onerror=alert(2)&gt;"));
     ck_assert_ptr_nonnull(strstr(h, "Feeder &lt;b&gt;&amp;"));
+    /* every report carries the field-work caution (project rule, common practice) */
+    ck_assert_ptr_nonnull(strstr(h, "switching and safety rules, local codes, and review by a licensed engineer"));
     free(h);
     kl_errors_free(&err);
 }
