@@ -97,17 +97,21 @@ static void section_results(const kl_network *n, kl_flow_result *r)
         r->i_neutral[s] = r->i_earth[s] = 0;
         if (k1 < 0)
             continue;
+        const kl_complex *vf1 = kl_network_bus_v(n, n->br_from[k1]);
+        const kl_complex *it2 = kl_network_i_to(n, k2);
         for (int p = 0; p < 3; p++) {
             i[p] = n->i_from[3 * k1 + p];
-            ir[p] = n->i_to[3 * k2 + p];
-            sin[p] = n->v[3 * n->br_from[k1] + p] * conj(i[p]);
+            ir[p] = it2[p];
+            sin[p] = vf1[p] * conj(i[p]);
         }
         /* loss summed over the section's branches, so an internal node's
          * lumped load is not counted as loss */
         for (int k = k1;; k = k2) {
+            const kl_complex *vf = kl_network_bus_v(n, n->br_from[k]);
+            const kl_complex *vt = kl_network_bus_v(n, n->br_to[k]), *it = kl_network_i_to(n, k);
             for (int p = 0; p < 3; p++) {
-                kl_complex in = n->v[3 * n->br_from[k] + p] * conj(n->i_from[3 * k + p]);
-                kl_complex outp = n->v[3 * n->br_to[k] + p] * conj(n->i_to[3 * k + p]);
+                kl_complex in = vf[p] * conj(n->i_from[3 * k + p]);
+                kl_complex outp = vt[p] * conj(it[p]);
                 sl[p] += in - outp;
             }
             if (k == k2)
@@ -124,14 +128,16 @@ static void section_results(const kl_network *n, kl_flow_result *r)
 static void fill_results(const kl_network *n, const kl_flow_options *opt, kl_flow_result *r)
 {
     const kl_feeder *f = n->feeder;
-    memcpy(r->v, n->v, 3 * (size_t)f->nbuses * sizeof r->v[0]);
+    for (int b = 0; b < f->nbuses; b++) /* by bus id from the network's positions */
+        memcpy(r->v + 3 * (size_t)b, kl_network_bus_v(n, b), 3 * sizeof r->v[0]);
     memcpy(r->v_base_ln, n->v_base_ln, (size_t)f->nbuses * sizeof r->v_base_ln[0]);
     memcpy(r->phases, n->phases, (size_t)f->nbuses * sizeof r->phases[0]);
     section_results(n, r);
     kl_load_powers(n, opt->load_scale, r);
     memcpy(r->tap, n->tap, 3 * (size_t)f->nregulators * sizeof r->tap[0]);
+    const kl_complex *vh = kl_network_bus_v(n, n->source), *jh = kl_network_bus_j(n, n->source);
     for (int p = 0; p < 3; p++)
-        r->s_head[p] = n->v[3 * n->source + p] * conj(n->j[3 * n->source + p]);
+        r->s_head[p] = vh[p] * conj(jh[p]);
 }
 
 static kl_status solve_once(kl_network *n, const kl_flow_options *opt, kl_flow_result *r,

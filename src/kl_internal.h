@@ -332,12 +332,16 @@ int kl_regulator_control(struct kl_network *net, int r);
 void kl_regulator_relay_voltage(const struct kl_network *net, int r, double vr[3]);
 
 /* load_model.c: adds every load's and capacitor's current at the present
- * voltages into net->j (scale multiplies load powers). */
+ * voltages (net->vs) into net->js, both by sweep position (scale multiplies
+ * load powers).  Reads the load parts (network.h), refreshing their phase
+ * slots first when ld_slot has changed. */
 void kl_load_inject(struct kl_network *net, double scale);
-/* The same on other arrays: bus b's voltages at v + 3 map[b], its current
- * into j + 3 map[b] (map NULL: bus ids; the sweep passes its positions). */
-void kl_load_inject_at(const struct kl_network *net, double scale, const kl_complex *v,
-                       kl_complex *j, const int *map);
+/* sweep.c: the tree part of a backward sweep at the present voltages, from
+ * the bus currents already in net->js (loads, loop-closing branches): fills
+ * i_from and accumulates js toward the source (nodal.c uses it too). */
+void kl_sweep_tree_currents(struct kl_network *net);
+/* Builds net->parts from the network loads and capacitors (kl_network_build). */
+kl_status kl_load_parts_build(struct kl_network *net);
 /* Actual powers at the present voltages into res->s_load, q_cap, s_loads. */
 void kl_load_powers(const struct kl_network *net, double scale, struct kl_flow_result *res);
 

@@ -10,7 +10,9 @@
  * base across the two legs of a center-tapped secondary); a delta element's
  * current I_pq enters line p and leaves line q.  Capacitors are constant
  * susceptance B = Q / |V_n|^2. */
+#include <limits.h>
 #include <math.h>
+#include <string.h>
 #include "kilter/flow.h"
 #include "kilter/network.h"
 #include "kl_internal.h"
@@ -94,37 +96,162 @@ static int cap_entry(const kl_network *n, const kl_complex *vv, const int *map, 
     return 1;
 }
 
-void kl_load_inject_at(const kl_network *n, double scale, const kl_complex *v, kl_complex *jj,
-                       const int *map)
+/* ---- the working form: parts in sweep-position order (network.h) -------- */
+
+/* The parts of network load m (at most 3 entries x 3 ZIP parts): for an
+ * element rated S at V_n, k = conj(S) / V_n^2 (Z), conj(S) / V_n (I),
+ * conj(S) (P), times the distributed-load share and the ZIP fraction, so
+ * that the kernel's I = k v, k v/|v|, k v/|v|^2 is element_current's. */
+static int load_parts_of(const kl_network *n, int m, kl_load_part out[9])
 {
-    entry_state e;
-    for (int m = 0; m < n->nloads; m++) {
-        int b = n->loads[m].bus;
-        kl_complex *j = jj + 3 * (map ? map[b] : b);
-        for (int k = 0; k < 3; k++) {
-            if (!load_entry(n, v, map, m, k, scale, &e))
-                continue;
-            j[e.p] += e.i;
-            if (e.q >= 0)
-                j[e.q] -= e.i;
+    const kl_net_load *nl = &n->loads[m];
+    const kl_load *ld = &n->feeder->loads[nl->load];
+    int delta = ld->conn == KL_CONN_DELTA, c = 0;
+    double vn = n->v_base_ln[nl->bus];
+    if (delta)
+        vn *= n->split_phase[nl->bus] ? 2.0 : sqrt(3.0);
+    for (int k = 0; k < 3; k++) {
+        if (!(ld->phases & (1 << k)))
+            continue;
+        int p = n->ld_slot[3 * nl->load + k];
+        kl_complex s = conj(ld->s_va[k] * nl->weight);
+        double frac[3] = {0, 0, 0}; /* Z, I, P */
+        if (ld->model == KL_LOAD_Z)
+            frac[0] = 1;
+        else if (ld->model == KL_LOAD_I)
+            frac[1] = 1;
+        else if (ld->model == KL_LOAD_ZIP)
+            memcpy(frac, ld->zip, sizeof frac);
+        else
+            frac[2] = 1;
+        static const unsigned char MODEL[3] = {KL_LOAD_Z, KL_LOAD_I, KL_LOAD_PQ};
+        double div[3] = {vn * vn, vn, 1.0};
+        for (int t = 0; t < 3; t++) {
+            if (frac[t] == 0)
+                continue; /* adds nothing */
+            out[c++] = (kl_load_part){n->pos[nl->bus], nl->load, (unsigned char)k,
+                                      (unsigned char)p, (unsigned char)(delta ? (p + 1) % 3 : 3),
+                                      MODEL[t], frac[t] * s / div[t]};
         }
     }
-    for (int c = 0; c < n->feeder->ncapacitors; c++) {
-        int b = n->feeder->capacitors[c].bus;
-        kl_complex *j = jj + 3 * (map ? map[b] : b);
-        for (int k = 0; k < 3; k++) {
-            if (!cap_entry(n, v, map, c, k, &e))
-                continue;
-            j[e.p] += e.i;
-            if (e.q >= 0)
-                j[e.q] -= e.i;
+    return c;
+}
+
+/* Capacitor c's parts: constant susceptance, I = j (Q / V_n^2) v. */
+static int cap_parts_of(const kl_network *n, int c, kl_load_part out[3])
+{
+    const kl_capacitor *cp = &n->feeder->capacitors[c];
+    int delta = cp->conn == KL_CONN_DELTA, cnt = 0;
+    double vn = n->v_base_ln[cp->bus];
+    if (delta)
+        vn *= n->split_phase[cp->bus] ? 2.0 : sqrt(3.0);
+    for (int k = 0; k < 3; k++)
+        if (cp->phases & (1 << k))
+            out[cnt++] = (kl_load_part){n->pos[cp->bus], -1, (unsigned char)k, (unsigned char)k,
+                                        (unsigned char)(delta ? (k + 1) % 3 : 3), KL_LOAD_Z,
+                                        I * (cp->q_var[k] / (vn * vn))};
+    return cnt;
+}
+
+/* Counting sort of the parts by position, without a second copy of them:
+ * one pass counts, the next places (start[] is the only scratch). */
+static void parts_place(const kl_network *n, kl_load_part *dst, int *start, int caps)
+{
+    kl_load_part tmp[9];
+    int nitems = caps ? n->feeder->ncapacitors : n->nloads;
+    memset(start, 0, sizeof(int) * ((size_t)n->nbuses + 1));
+    for (int pass = 0; pass < 2; pass++) {
+        for (int m = 0; m < nitems; m++) {
+            int c = caps ? cap_parts_of(n, m, tmp) : load_parts_of(n, m, tmp);
+            for (int q = 0; q < c; q++) {
+                if (pass == 0)
+                    start[tmp[q].pos + 1]++;
+                else
+                    dst[start[tmp[q].pos]++] = tmp[q];
+            }
         }
+        for (int i = 0; pass == 0 && i < n->nbuses; i++)
+            start[i + 1] += start[i];
+    }
+}
+
+kl_status kl_load_parts_build(kl_network *n)
+{
+    kl_load_part tmp[9];
+    size_t np = 0, nc = 0;
+    for (int m = 0; m < n->nloads; m++)
+        np += (size_t)load_parts_of(n, m, tmp);
+    for (int c = 0; c < n->feeder->ncapacitors; c++)
+        nc += (size_t)cap_parts_of(n, c, tmp);
+    if (np + nc > INT_MAX)
+        return KL_ENOMEM;
+    int *start = kl_malloc(sizeof(int) * ((size_t)n->nbuses + 1));
+    n->parts = kl_malloc((np + nc + 1) * sizeof *n->parts);
+    if (!start || !n->parts) {
+        kl_free(start);
+        return KL_ENOMEM;
+    }
+    n->nparts = (int)np;
+    n->ncap_parts = (int)nc;
+    parts_place(n, n->parts, start, 0);
+    parts_place(n, n->parts + np, start, 1);
+    kl_free(start);
+    n->parts_stale = 0;
+    return KL_OK;
+}
+
+void kl_network_loads_moved(kl_network *n)
+{
+    n->parts_stale = 1;
+}
+
+/* The slots of every load part from ld_slot (after rephasing). */
+static void parts_refresh(kl_network *n)
+{
+    for (int i = 0; i < n->nparts; i++) {
+        kl_load_part *pt = &n->parts[i];
+        int p = n->ld_slot[3 * pt->load + pt->entry];
+        pt->q = pt->q < 3 ? (unsigned char)((p + 1) % 3) : 3;
+        pt->p = (unsigned char)p;
+    }
+    n->parts_stale = 0;
+}
+
+/* The load kernel: every part's current at the present voltages (vs) into
+ * the bus currents (js), both by position; parts are in position order. */
+static void parts_inject(const kl_load_part *pt, int np, double scale, const kl_complex *vs,
+                         kl_complex *js)
+{
+    for (int i = 0; i < np; i++) {
+        const kl_complex *v = vs + 3 * (size_t)pt[i].pos;
+        int p = pt[i].p, q = pt[i].q;
+        kl_complex e = q < 3 ? v[p] - v[q] : v[p], c;
+        double m2 = creal(e) * creal(e) + cimag(e) * cimag(e);
+        switch (pt[i].model) {
+        case KL_LOAD_Z:
+            c = pt[i].k * e;
+            break;
+        case KL_LOAD_I: /* a dead element draws nothing: no angle to hold */
+            c = m2 > 0 ? pt[i].k * e / sqrt(m2) : 0;
+            break;
+        default:
+            c = m2 > 0 ? pt[i].k * e / m2 : 0;
+            break;
+        }
+        c *= scale;
+        kl_complex *j = js + 3 * (size_t)pt[i].pos;
+        j[p] += c;
+        if (q < 3)
+            j[q] -= c;
     }
 }
 
 void kl_load_inject(kl_network *n, double scale)
 {
-    kl_load_inject_at(n, scale, n->v, n->j, NULL);
+    if (n->parts_stale)
+        parts_refresh(n);
+    parts_inject(n->parts, n->nparts, scale, n->vs, n->js);
+    parts_inject(n->parts + n->nparts, n->ncap_parts, 1.0, n->vs, n->js);
 }
 
 static void add_phase_power(kl_complex tot[3], const entry_state *e, kl_complex s)
@@ -147,7 +274,7 @@ void kl_load_powers(const kl_network *n, double scale, kl_flow_result *res)
         res->s_loads[p] = 0;
     for (int m = 0; m < n->nloads; m++) {
         for (int k = 0; k < 3; k++) {
-            if (!load_entry(n, n->v, NULL, m, k, scale, &e))
+            if (!load_entry(n, n->vs, n->pos, m, k, scale, &e))
                 continue;
             kl_complex s = e.v * conj(e.i);
             res->s_load[3 * n->loads[m].load + k] += s;
@@ -157,7 +284,7 @@ void kl_load_powers(const kl_network *n, double scale, kl_flow_result *res)
     for (int c = 0; c < f->ncapacitors; c++) {
         for (int k = 0; k < 3; k++) {
             res->q_cap[3 * c + k] = 0;
-            if (!cap_entry(n, n->v, NULL, c, k, &e))
+            if (!cap_entry(n, n->vs, n->pos, c, k, &e))
                 continue;
             kl_complex s = e.v * conj(e.i);
             res->q_cap[3 * c + k] = -cimag(s);

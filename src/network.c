@@ -11,6 +11,7 @@
  * loss of a uniformly distributed load; on the IEEE 13-node feeder it gives
  * the published voltages more closely than all of it at the midpoint (figures
  * in docs/flow.md). */
+#include <limits.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -225,33 +226,35 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->br_phases = kl_calloc(nr, sizeof(int));
     n->br_section = kl_calloc(nr, sizeof(int));
     n->dev = kl_malloc(nr * sizeof(int));
-    kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B, &n->zser, &n->ysh};
+    n->zy_at = kl_malloc(nr * sizeof(int));
+    kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B};
     int ok = n->order && n->phases && n->v_base_ln && n->split_phase && n->parent && n->br_from && n->br_to &&
-             n->br_kind && n->br_phases && n->br_section && n->dev;
+             n->br_kind && n->br_phases && n->br_section && n->dev && n->zy_at;
     for (size_t k = 0; k < sizeof m / sizeof m[0]; k++) {
-        /* a..B by device slot, zser and ysh by branch (network.h) */
-        *m[k] = kl_calloc(9 * (k < 6 ? nd : nr), sizeof(kl_complex));
+        /* a..B by device slot (network.h); the lines' packed Z, Y come
+         * once every branch's phases are known (pack_lines) */
+        *m[k] = kl_calloc(9 * nd, sizeof(kl_complex));
         ok = ok && *m[k];
     }
-    for (size_t k = 0; n->dev && k < nr; k++)
-        n->dev[k] = -1;
+    for (size_t k = 0; n->dev && n->zy_at && k < nr; k++)
+        n->dev[k] = n->zy_at[k] = -1;
     n->sec_first = kl_calloc((size_t)f->nsections, sizeof(int));
     n->sec_last = kl_calloc((size_t)f->nsections, sizeof(int));
     n->loads = kl_calloc((size_t)nld, sizeof(kl_net_load));
     n->ld_slot = kl_calloc(3 * (size_t)f->nloads, sizeof(int));
     n->reg_branch = kl_calloc((size_t)f->nregulators, sizeof(int));
     n->tap = kl_calloc(3 * (size_t)f->nregulators, sizeof(int));
-    n->v = kl_calloc(3 * nb, sizeof(kl_complex));
-    n->j = kl_calloc(3 * nb, sizeof(kl_complex));
     n->i_from = kl_calloc(3 * nr, sizeof(kl_complex));
-    n->i_to = kl_calloc(3 * nr, sizeof(kl_complex));
+    n->i_to_link = kl_calloc(3 * (nr - (size_t)n->nbranches) + 3, sizeof(kl_complex));
     n->pos = kl_calloc(nb, sizeof(int));
     n->br_from_pos = kl_calloc(nr, sizeof(int));
+    n->pos_phases = kl_calloc(nb, 1);
+    n->pos_inv_base = kl_calloc(nb, sizeof(double));
     n->vs = kl_calloc(3 * nb, sizeof(kl_complex));
     n->js = kl_calloc(3 * nb, sizeof(kl_complex));
     ok = ok && n->sec_first && n->sec_last && n->loads && n->ld_slot && n->reg_branch &&
-         n->tap && n->v && n->j && n->i_from && n->i_to && n->pos && n->br_from_pos && n->vs &&
-         n->js;
+         n->tap && n->i_from && n->i_to_link && n->pos && n->br_from_pos && n->pos_phases &&
+         n->pos_inv_base && n->vs && n->js;
     return ok ? KL_OK : KL_ENOMEM;
 }
 
@@ -262,9 +265,9 @@ void kl_network_free(kl_network *n)
     kl_network_nodal_reset(n);
     void *p[] = {n->order, n->phases, n->v_base_ln, n->split_phase, n->parent, n->br_from, n->br_to,
                  n->br_kind, n->br_phases, n->br_section, n->dev, n->a, n->b, n->c, n->d, n->A,
-                 n->B, n->zser, n->ysh, n->sec_first, n->sec_last, n->loads, n->ld_slot,
-                 n->reg_branch, n->tap, n->v, n->j, n->i_from, n->i_to, n->pos,
-                 n->br_from_pos, n->vs, n->js};
+                 n->B, n->zy_at, n->zy, n->sec_first, n->sec_last, n->loads, n->ld_slot,
+                 n->parts, n->reg_branch, n->tap, n->i_from, n->i_to_link, n->pos,
+                 n->br_from_pos, n->pos_phases, n->pos_inv_base, n->vs, n->js};
     for (size_t k = 0; k < sizeof p / sizeof p[0]; k++)
         kl_free(p[k]);
     kl_free(n);
@@ -285,28 +288,94 @@ static int inverse_on(const kl_complex a[9], int mask, kl_complex r[9])
     return 0;
 }
 
-/* Line matrices of branch k for `share` of the section's length. */
-static kl_status line_matrices(kl_network *n, int k, const kl_section *sc, double share,
-                               kl_errors *err)
+/* Phases of each mask, in the order a, b, c (the packed layout). */
+static const int PH_N[8] = {0, 1, 1, 2, 1, 2, 2, 3};
+static const int PH_L[8][3] = {{0}, {0}, {1}, {0, 1}, {2}, {0, 2}, {1, 2}, {0, 1, 2}};
+
+void kl_network_line_zy(const kl_network *n, int k, kl_complex Z[9], kl_complex Y[9])
+{
+    kl_complex *out[2] = {Z, Y};
+    int mask = n->br_phases[k], m = PH_N[mask];
+    const int *l = PH_L[mask];
+    for (int t = 0; t < 2; t++) {
+        if (!out[t])
+            continue;
+        memset(out[t], 0, 9 * sizeof(kl_complex));
+        if (n->zy_at[k] < 0)
+            continue;
+        const kl_complex *src = n->zy + n->zy_at[k] + t * m * m;
+        for (int i = 0; i < m; i++)
+            for (int j = 0; j < m; j++)
+                out[t][3 * l[i] + l[j]] = src[m * i + j];
+    }
+}
+
+void kl_network_line_set_zy(kl_network *n, int k, const kl_complex Z[9], const kl_complex Y[9])
+{
+    int mask = n->br_phases[k], m = PH_N[mask];
+    const int *l = PH_L[mask];
+    if (n->zy_at[k] < 0)
+        return;
+    kl_complex *dst = n->zy + n->zy_at[k];
+    for (int i = 0; i < m; i++)
+        for (int j = 0; j < m; j++) {
+            dst[m * i + j] = Z[3 * l[i] + l[j]];
+            dst[m * m + m * i + j] = Y[3 * l[i] + l[j]];
+        }
+}
+
+/* Share of its section's length that line branch k carries (network.h:
+ * a distributed load splits a section at DIST_AT). */
+static double line_share(const kl_network *n, int k)
+{
+    int s = n->br_section[k];
+    if (n->sec_first[s] == n->sec_last[s])
+        return 1.0;
+    return k == n->sec_first[s] ? DIST_AT : 1.0 - DIST_AT;
+}
+
+/* 1 when a = U + Z Y / 2 of the packed m x m Z, Y is singular: the test
+ * kl_cm3_inverse applies (|det| against the largest entry cubed, identity
+ * rows standing in for absent phases), on the present phases only. */
+static int line_a_singular(const kl_complex *Z, const kl_complex *Y, int m)
+{
+    kl_complex a[9];
+    double big = m < 3 ? 1.0 : 0.0;
+    for (int i = 0; i < m; i++)
+        for (int j = 0; j < m; j++) {
+            kl_complex acc = i == j ? 1.0 : 0.0;
+            for (int q = 0; q < m; q++)
+                acc += 0.5 * Z[m * i + q] * Y[m * q + j];
+            a[m * i + j] = acc;
+            big = fmax(big, cabs(acc));
+        }
+    kl_complex det = m == 1 ? a[0]
+                   : m == 2 ? a[0] * a[3] - a[1] * a[2]
+                   : a[0] * (a[4] * a[8] - a[5] * a[7]) - a[1] * (a[3] * a[8] - a[5] * a[6]) +
+                         a[2] * (a[3] * a[7] - a[4] * a[6]);
+    return big == 0 || !(cabs(det) > 1e-300 * big * big * big);
+}
+
+/* Line branch k's Z and Y: its construction's per-metre matrices on the
+ * branch's phases times its length (Carson and Kron reduction were done
+ * once per construction by kl_lines_derive). */
+static kl_status line_fill(kl_network *n, int k, kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
+    const kl_section *sc = &f->sections[n->br_section[k]];
     const kl_construction *cn = &f->constructions[sc->construction];
-    int mask = n->br_phases[k];
-    double len = sc->length_m * share;
-    kl_complex *Z = n->zser + 9 * k, *Y = n->ysh + 9 * k, A[9];
-    for (int i = 0; i < 9; i++) {
-        if (cn->derived) {
-            Z[i] = cn->zabc[i / 3][i % 3] * len;
-            Y[i] = cn->yabc[i / 3][i % 3] * len;
-        } else {
-            Z[i] = cn->z_given[i / 3][i % 3] * len;
-            Y[i] = I * cn->b_given[i / 3][i % 3] * len;
+    int mask = n->br_phases[k], m = PH_N[mask];
+    const int *l = PH_L[mask];
+    double len = sc->length_m * line_share(n, k);
+    kl_complex *Z = n->zy + n->zy_at[k], *Y = Z + m * m;
+    for (int i = 0; i < m; i++)
+        for (int j = 0; j < m; j++) {
+            int p = l[i], q = l[j];
+            Z[m * i + j] = (cn->derived ? cn->zabc[p][q] : cn->z_given[p][q]) * len;
+            Y[m * i + j] = (cn->derived ? cn->yabc[p][q] : I * cn->b_given[p][q]) * len;
         }
-    }
-    kl_cm3_mask(Z, mask);
-    kl_cm3_mask(Y, mask);
     /* only Z and Y are kept; a singular a would stop every reader of A */
-    if (kl_network_line_abcd(n, k, NULL, NULL, NULL, NULL, A, NULL)) {
+    if (line_a_singular(Z, Y, m)) {
         net_err(err, f, sc->loc, "section", sc->name, "has a singular line matrix: check the "
                 "construction's impedance and susceptance");
         return KL_EINPUT;
@@ -314,11 +383,37 @@ static kl_status line_matrices(kl_network *n, int k, const kl_section *sc, doubl
     return KL_OK;
 }
 
+/* Packs every line's Z and Y by phase count (network.h), once all branch
+ * phases are known. */
+static kl_status pack_lines(kl_network *n, kl_errors *err)
+{
+    size_t total = 0;
+    int nr = n->nbranches + n->nlinks;
+    for (int k = 0; k < nr; k++) {
+        if (n->br_kind[k] != KL_BR_LINE)
+            continue;
+        int m = PH_N[n->br_phases[k]];
+        if (total > (size_t)INT_MAX - 18)
+            return KL_ENOMEM; /* offsets are ints: over 100 million lines */
+        n->zy_at[k] = (int)total;
+        total += 2 * (size_t)(m * m);
+    }
+    n->zy = kl_malloc((total ? total : 1) * sizeof(kl_complex));
+    if (!n->zy)
+        return KL_ENOMEM;
+    kl_status st = KL_OK;
+    for (int k = 0; k < nr; k++)
+        if (n->zy_at[k] >= 0 && line_fill(n, k, err))
+            st = KL_EINPUT;
+    return st;
+}
+
 kl_status kl_network_line_abcd(const kl_network *n, int k, kl_complex a[9], kl_complex b[9],
                                kl_complex c[9], kl_complex d[9], kl_complex A[9],
                                kl_complex B[9])
 {
-    const kl_complex *Z = n->zser + 9 * k, *Y = n->ysh + 9 * k;
+    kl_complex Z[9], Y[9];
+    kl_network_line_zy(n, k, Z, Y);
     int mask = n->br_phases[k];
     kl_complex ZY[9], YZ[9], ta[9];
     kl_cm3_mul(Z, Y, ZY);
@@ -436,7 +531,6 @@ static kl_status device_branch(kl_network *n, int k, const kl_section *sc, kl_er
         n->br_kind[k] = KL_BR_TRANSFORMER;
         n->split_phase[to] = !up && t->low == KL_WINDING_CENTER_TAP;
         kl_cm3_transpose(A, n->d + 9 * s);
-        memcpy(n->zser + 9 * k, n->B + 9 * s, 9 * sizeof(kl_complex));
         /* a, b only where A is invertible (wye-wye, single-phase); else zero */
         if (inverse_on(A, n->phases[to] == n->br_phases[k] ? n->br_phases[k] : 0,
                        n->a + 9 * s) == 0)
@@ -523,8 +617,6 @@ static kl_status emit_section(kl_network *n, int s, int reversed, int split, int
     n->v_base_ln[n->br_to[k]] = n->v_base_ln[from];
     n->split_phase[n->br_to[k]] = n->split_phase[from];
     n->parent[n->br_to[k]] = k;
-    if ((st = line_matrices(n, k, sc, split ? DIST_AT : 1.0, err)))
-        return st;
     if (!split)
         return KL_OK;
     int mid = (*nbus)++;
@@ -539,7 +631,7 @@ static kl_status emit_section(kl_network *n, int s, int reversed, int split, int
     n->v_base_ln[to] = n->v_base_ln[from];
     n->split_phase[to] = n->split_phase[from];
     n->parent[to] = k2;
-    return line_matrices(n, k2, sc, 1.0 - DIST_AT, err);
+    return KL_OK;
 }
 
 /* A loop-closing line or closed switch between two buses already placed
@@ -572,7 +664,7 @@ static kl_status emit_link(kl_network *n, int s, int *nbr, kl_errors *err)
     n->sec_first[s] = n->sec_last[s] = k;
     if (sc->kind == KL_SEC_LINE) {
         n->br_kind[k] = KL_BR_LINE;
-        return line_matrices(n, k, sc, 1.0, err);
+        return KL_OK;
     }
     n->br_kind[k] = KL_BR_SWITCH;
     size_t q = 9 * (size_t)(n->dev[k] = n->ndev++);
@@ -667,9 +759,13 @@ static kl_status check_capacitors(const kl_network *n, const int *seen, kl_error
  * each tree branch in branch order. */
 static kl_status sweep_layout(kl_network *n)
 {
-    for (int i = 0; i < n->nbuses; i++)
-        n->pos[n->order[i]] = i;
-    for (int k = 0; k < n->nbranches; k++)
+    for (int i = 0; i < n->nbuses; i++) {
+        int b = n->order[i];
+        n->pos[b] = i;
+        n->pos_phases[i] = (unsigned char)n->phases[b];
+        n->pos_inv_base[i] = 1.0 / n->v_base_ln[b];
+    }
+    for (int k = 0; k < n->nbranches + n->nlinks; k++)
         n->br_from_pos[k] = n->pos[n->br_from[k]];
     return KL_OK;
 }
@@ -756,7 +852,11 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     if (!st)
         st = check_capacitors(n, seen, err);
     if (!st)
+        st = pack_lines(n, err);
+    if (!st)
         st = sweep_layout(n);
+    if (!st)
+        st = kl_load_parts_build(n);
 done:
     kl_free(g.start);
     kl_free(g.sec);

@@ -151,8 +151,7 @@ static int line_admittance(const kl_network *n, int k, kl_complex Y[9])
 {
     int mask = n->br_phases[k];
     kl_complex z[9];
-    memcpy(z, n->zser + 9 * k, sizeof z);
-    kl_cm3_mask(z, mask);
+    kl_network_line_zy(n, k, z, NULL);
     for (int p = 0; p < 3; p++)
         if (!(mask & (1 << p)))
             z[4 * p] = 1.0;
@@ -164,10 +163,11 @@ static int line_admittance(const kl_network *n, int k, kl_complex Y[9])
 
 static int stamp_line(kl_nodal *w, const kl_network *n, int k)
 {
-    kl_complex Y[9] = {0}; /* the pattern passes need no values */
+    kl_complex Y[9] = {0}, ysh[9] = {0}; /* the pattern passes need no values */
     if (w->mode == ST_VALUES && line_admittance(n, k, Y))
         return -1;
-    const kl_complex *ysh = n->ysh + 9 * k;
+    if (w->mode == ST_VALUES)
+        kl_network_line_zy(n, k, NULL, ysh);
     const int *vf = w->vidx + 3 * n->br_from[k], *vt = w->vidx + 3 * n->br_to[k];
     int m = n->br_phases[k];
     for (int p = 0; p < 3; p++)
@@ -460,7 +460,7 @@ static void build_rhs(kl_nodal *w, const kl_network *n)
     memset(w->x, 0, sizeof(kl_complex) * (size_t)w->n);
     for (int i = 0; i < 3 * n->nbuses; i++)
         if (w->vidx[i] >= 0)
-            w->x[w->vidx[i]] = -n->j[i];
+            w->x[w->vidx[i]] = -kl_network_bus_j(n, i / 3)[i % 3];
     const int *vs = w->vidx + 3 * n->source;
     for (int p = 0; p < 3; p++) {
         kl_complex e = n->v_source[p];
@@ -473,16 +473,18 @@ static void build_rhs(kl_nodal *w, const kl_network *n)
     }
 }
 
-/* Copies the solution into net->v (and device currents into i_to);
+/* Copies the solution into net->vs (and loop-closing switches' currents
+ * into i_to_link; the tree's follow in branch_currents);
  * returns the largest change in per unit, INFINITY on a non-finite value. */
 static double take_solution(const kl_nodal *w, kl_network *n, int *where)
 {
     double worst2 = 0; /* squared, per unit: no square root per phase */
     for (int b = 0; b < n->nbuses; b++) {
         double inv = 1.0 / n->v_base_ln[b];
+        kl_complex *v = kl_network_bus_v(n, b);
         for (int p = 0; p < 3; p++) {
             int u = w->vidx[3 * b + p];
-            kl_complex x = u >= 0 ? w->x[u] : 0, dx = (x - n->v[3 * b + p]) * inv;
+            kl_complex x = u >= 0 ? w->x[u] : 0, dx = (x - v[p]) * inv;
             double d2 = creal(dx) * creal(dx) + cimag(dx) * cimag(dx);
             if (!isfinite(d2))
                 d2 = INFINITY;
@@ -490,12 +492,12 @@ static double take_solution(const kl_nodal *w, kl_network *n, int *where)
                 worst2 = d2;
                 *where = b;
             }
-            n->v[3 * b + p] = x;
+            v[p] = x;
         }
     }
-    for (int i = 0; i < 3 * (n->nbranches + n->nlinks); i++)
+    for (int i = 3 * n->nbranches; i < 3 * (n->nbranches + n->nlinks); i++)
         if (w->iidx[i] >= 0)
-            n->i_to[i] = w->x[w->iidx[i]];
+            n->i_to_link[i - 3 * n->nbranches] = w->x[w->iidx[i]];
     return sqrt(worst2);
 }
 
@@ -503,7 +505,7 @@ static double take_solution(const kl_nodal *w, kl_network *n, int *where)
 static kl_status solve_step(kl_nodal *w, kl_network *n, int loads, double scale, double *worst,
                             int *where, kl_errors *err)
 {
-    memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
+    memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
     if (loads)
         kl_load_inject(n, scale);
     build_rhs(w, n);
@@ -517,11 +519,13 @@ static kl_status solve_step(kl_nodal *w, kl_network *n, int loads, double scale,
 
 /* Loop-closing branch k's currents from the solution: a line from its pi
  * model, I_from = Y (Vf - Vt) + Ysh/2 Vf, I_to = Y (Vf - Vt) - Ysh/2 Vt; a
- * switch from its unknowns (already in i_to), I_from = I_to. */
+ * switch from its unknowns (already in i_to_link), I_from = d I_to. */
 static void link_currents(kl_network *n, int k)
 {
-    const kl_complex *vf = n->v + 3 * n->br_from[k], *vt = n->v + 3 * n->br_to[k];
-    kl_complex *ifr = n->i_from + 3 * k, *ito = n->i_to + 3 * k, Y[9], dv[3], tf[3], tt[3];
+    const kl_complex *vf = kl_network_bus_v(n, n->br_from[k]);
+    const kl_complex *vt = kl_network_bus_v(n, n->br_to[k]);
+    kl_complex *ifr = n->i_from + 3 * k, *ito = kl_network_i_to(n, k), Y[9], dv[3], tf[3],
+               tt[3], ysh[9];
     if (!is_line(n, k)) {
         kl_cm3_vec(n->d + 9 * (size_t)n->dev[k], ito, ifr);
         return;
@@ -535,8 +539,9 @@ static void link_currents(kl_network *n, int k)
     for (int p = 0; p < 3; p++)
         dv[p] = vf[p] - vt[p];
     kl_cm3_vec(Y, dv, ito);
-    kl_cm3_vec(n->ysh + 9 * k, vf, tf);
-    kl_cm3_vec(n->ysh + 9 * k, vt, tt);
+    kl_network_line_zy(n, k, NULL, ysh);
+    kl_cm3_vec(ysh, vf, tf);
+    kl_cm3_vec(ysh, vt, tt);
     for (int p = 0; p < 3; p++) {
         ifr[p] = ito[p] + 0.5 * tf[p];
         ito[p] -= 0.5 * tt[p];
@@ -551,30 +556,18 @@ static void link_currents(kl_network *n, int k)
  * and the power balance closes; no line admittance is inverted again. */
 static void branch_currents(kl_network *n, double scale)
 {
-    memset(n->j, 0, 3 * (size_t)n->nbuses * sizeof n->j[0]);
+    memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
     kl_load_inject(n, scale);
     for (int k = n->nbranches; k < n->nbranches + n->nlinks; k++) {
         link_currents(n, k);
-        kl_complex *jf = n->j + 3 * n->br_from[k], *jt = n->j + 3 * n->br_to[k];
+        kl_complex *jf = kl_network_bus_j(n, n->br_from[k]), *jt = kl_network_bus_j(n, n->br_to[k]);
+        const kl_complex *ito = kl_network_i_to(n, k);
         for (int p = 0; p < 3; p++) {
             jf[p] += n->i_from[3 * k + p];
-            jt[p] -= n->i_to[3 * k + p];
+            jt[p] -= ito[p];
         }
     }
-    for (int k = n->nbranches - 1; k >= 0; k--) {
-        kl_complex *ito = n->i_to + 3 * k, *ifr = n->i_from + 3 * k, t[3];
-        const kl_complex *vto = n->v + 3 * n->br_to[k];
-        kl_complex *jfr = n->j + 3 * n->br_from[k];
-        memcpy(ito, n->j + 3 * n->br_to[k], 3 * sizeof *ito);
-        kl_complex c[9], d[9];
-        kl_network_branch_abcd(n, k, NULL, NULL, c, d, NULL, NULL);
-        kl_cm3_vec(c, vto, ifr);
-        kl_cm3_vec(d, ito, t);
-        for (int p = 0; p < 3; p++) {
-            ifr[p] += t[p];
-            jfr[p] += ifr[p];
-        }
-    }
+    kl_sweep_tree_currents(n); /* the sweep's own backward step (same branch models) */
 }
 
 static void report_noconv(const kl_network *n, int it, double worst, int where,
@@ -584,7 +577,7 @@ static void report_noconv(const kl_network *n, int it, double worst, int where,
     int lowbus = n->source;
     for (int b = 0; b < n->nbuses; b++)
         for (int p = 0; p < 3; p++) {
-            double x = cabs(n->v[3 * b + p]) / n->v_base_ln[b];
+            double x = cabs(kl_network_bus_v(n, b)[p]) / n->v_base_ln[b];
             if ((n->phases[b] & (1 << p)) && !(x >= low)) {
                 low = x;
                 lowbus = b;

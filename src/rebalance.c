@@ -200,7 +200,7 @@ static kl_status engine_solve_level(engine *e, int l, kl_rebalance_summary *sum,
     fo.load_scale = e->opt->level[l].scale;
     taps_reset(e);
     if (e->snap_valid[l]) {
-        memcpy(n->v, e->snap + l * nv, nv * sizeof(kl_complex));
+        memcpy(n->vs, e->snap + l * nv, nv * sizeof(kl_complex)); /* by position */
         n->v_valid = 1;
     } else {
         n->v_valid = 0;
@@ -213,7 +213,7 @@ static kl_status engine_solve_level(engine *e, int l, kl_rebalance_summary *sum,
         return st;
     }
     kl_rebalance_summarize(n, 1, e->opt->neutral_section, sum);
-    memcpy(e->snap + l * nv, n->v, nv * sizeof(kl_complex));
+    memcpy(e->snap + l * nv, n->vs, nv * sizeof(kl_complex));
     e->snap_valid[l] = 1;
     return KL_OK;
 }
@@ -360,7 +360,7 @@ static void item_current(const engine *e, int i, double scale, kl_complex cur[3]
         return;
     }
     const kl_load *ld = &n->feeder->loads[it->load];
-    const kl_complex *v = n->v + 3 * ld->bus;
+    const kl_complex *v = kl_network_bus_v(n, ld->bus);
     for (int k = 0; k < 3; k++) {
         if (!(ld->phases & (1 << k)))
             continue;
@@ -407,7 +407,7 @@ static int screen_estimate(engine *e, const int *x, kl_rebalance_summary *sum)
         kl_errors_clear(&e->scratch);
         if (engine_solve_level(e, l, &sum[l], &e->scratch))
             return 0;
-        const kl_complex *jh = n->j + 3 * n->source;
+        const kl_complex *jh = kl_network_bus_j(n, n->source);
         for (int c = 0; c < e->ncand; c++) {
             kl_complex cur[3], ih[3];
             int dr = (e->cand[c].r - x[e->cand[c].item] + 3) % 3;

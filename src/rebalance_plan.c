@@ -51,7 +51,7 @@ static void summarize_voltages(const kl_network *n, kl_rebalance_summary *s)
     s->vuf_max = 0;
     s->vuf_bus = -1;
     for (int b = 0; b < n->nfeeder_buses; b++) {
-        const kl_complex *v = n->v + 3 * b;
+        const kl_complex *v = kl_network_bus_v(n, b);
         double base = n->v_base_ln[b];
         if (!(base > 0) || !n->phases[b])
             continue;
@@ -88,8 +88,9 @@ static double network_losses(const kl_network *n)
 {
     double w = 0;
     for (int k = 0; k < n->nbranches; k++) {
-        const kl_complex *vf = n->v + 3 * n->br_from[k], *vt = n->v + 3 * n->br_to[k];
-        const kl_complex *jf = n->i_from + 3 * k, *jt = n->i_to + 3 * k;
+        const kl_complex *vf = kl_network_bus_v(n, n->br_from[k]);
+        const kl_complex *vt = kl_network_bus_v(n, n->br_to[k]);
+        const kl_complex *jf = n->i_from + 3 * k, *jt = kl_network_i_to(n, k);
         for (int p = 0; p < 3; p++)
             w += creal(vf[p] * conj(jf[p]) - vt[p] * conj(jt[p]));
     }
@@ -101,7 +102,7 @@ void kl_rebalance_summarize(const kl_network *n, int converged, int neutral_sect
 {
     memset(s, 0, sizeof *s);
     s->converged = converged;
-    const kl_complex *jh = n->j + 3 * n->source;
+    const kl_complex *jh = kl_network_bus_j(n, n->source);
     kl_complex sum = 0;
     for (int p = 0; p < 3; p++) {
         s->i_head[p] = cabs(jh[p]);

@@ -96,7 +96,7 @@ void kl_regulator_relay_voltage(const kl_network *net, int r, double vr[3])
 {
     const kl_regulator *rg = &net->feeder->regulators[r];
     int k = net->reg_branch[r];
-    const kl_complex *v = net->v + 3 * net->br_to[k], *i = net->i_to + 3 * k;
+    const kl_complex *v = kl_network_bus_v(net, net->br_to[k]), *i = kl_network_i_to(net, k);
     double pt = rg->pt_ratio > 0 ? rg->pt_ratio : 1.0;
     double ct = rg->ct_primary_a > 0 ? rg->ct_primary_a : 1.0;
     for (int p = 0; p < 3; p++) {

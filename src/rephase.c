@@ -6,7 +6,8 @@
  * generalized matrices of Kersting's branch model (network.h) become
  *   a, b, c, d  ->  P_rf M P_rt^T     (rows source side, columns load side)
  *   A           ->  P_rt M P_rf^T     (rows load side, columns source side)
- *   B, zser, ysh->  P_rt M P_rt^T
+ *   B, Z, Y     ->  P_rt M P_rt^T     (a line's Z and Y: unpacked, relabelled,
+ *                                      packed again; network.h)
  * which is the same network with its wires renamed, so the load flow of the
  * moved feeder is exact, not an estimate.  rf = rt = r everywhere in a
  * lateral.  (The code can relabel only the primary side of a center-tap
@@ -429,13 +430,23 @@ static void branch_relabel(kl_network *n, int k, int rf, int rt)
         mat_relabel(n->A + s, rt, rf);
         mat_relabel(n->B + s, rt, rt);
     }
-    mat_relabel(n->zser + 9 * k, rt, rt);
-    mat_relabel(n->ysh + 9 * k, rt, rt);
+    if (n->zy_at[k] >= 0) {
+        /* the packed order follows the phases: unpack on the old mask,
+         * pack on the new one (same phase count) */
+        kl_complex Z[9], Y[9];
+        kl_network_line_zy(n, k, Z, Y);
+        mat_relabel(Z, rt, rt);
+        mat_relabel(Y, rt, rt);
+        n->br_phases[k] = kl_phase_mask_rotate(n->br_phases[k], rf);
+        kl_network_line_set_zy(n, k, Z, Y);
+        return;
+    }
     n->br_phases[k] = kl_phase_mask_rotate(n->br_phases[k], rf);
 }
 
 /* Bus voltages follow the move: slot p -> p + dr, and the phasor turns by
- * -120 degrees per step (a positive-sequence source). */
+ * -120 degrees per step (a positive-sequence source).  v is in the
+ * network's layout (by sweep position, network.h). */
 static void vector_shift(kl_complex *v3, int relabel, int dr)
 {
     kl_complex turn = cexp(-I * (2.0 * PI / 3.0) * dr), t[3];
@@ -451,7 +462,8 @@ void kl_rephase_shift_vector(const kl_rephaser *rp, int i, int dr, kl_complex *v
     if (!dr)
         return;
     for (int q = 0; q < it->nbus; q++)
-        vector_shift(v + 3 * rp->bus[it->first_bus + q], rp->bus_rot[it->first_bus + q], dr);
+        vector_shift(v + 3 * (size_t)rp->net->pos[rp->bus[it->first_bus + q]],
+                     rp->bus_rot[it->first_bus + q], dr);
 }
 
 void kl_rephase_set(kl_rephaser *rp, int i, int r)
@@ -467,15 +479,19 @@ void kl_rephase_set(kl_rephaser *rp, int i, int r)
     }
     for (int q = 0; q < it->nbus; q++) {
         int b = rp->bus[it->first_bus + q];
-        if (rp->bus_rot[it->first_bus + q])
+        if (rp->bus_rot[it->first_bus + q]) {
             n->phases[b] = kl_phase_mask_rotate(n->phases[b], dr);
+            n->pos_phases[n->pos[b]] = (unsigned char)n->phases[b];
+        }
     }
-    kl_rephase_shift_vector(rp, i, dr, n->v);
+    kl_rephase_shift_vector(rp, i, dr, n->vs);
     for (int q = 0; q < it->nld; q++) {
         int *slot = n->ld_slot + 3 * rp->ld[it->first_ld + q];
         for (int k = 0; k < 3; k++)
             slot[k] = (slot[k] + dr) % 3;
     }
+    if (it->nld > 0)
+        kl_network_loads_moved(n);
     rp->rot[i] = ((r % 3) + 3) % 3;
 }
 

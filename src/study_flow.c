@@ -42,7 +42,8 @@ static void paths_view(const kl_network *net, kl_study_paths *p)
     p->br_from = net->br_from;
     p->br_to = net->br_to;
     p->zsource = net->has_zsource ? net->zsource : NULL;
-    p->v = net->v_valid ? net->v : NULL;
+    p->v = net->v_valid ? net->vs : NULL; /* by sweep position (network.h) */
+    p->v_pos = net->pos;
     p->nloads = net->nloads;
     p->ld_slot = net->ld_slot;
 }

@@ -4,15 +4,18 @@
  *                                        I_from = c V_to + d I_to,  J_from += I_from
  *   forward, parents before children:    V_to = A V_from - B I_to
  * Line branches take the ladder (pi-section) form of the same equations
- * instead, straight from Z (zser) and Y (ysh) with the present voltages:
+ * instead, straight from Z and Y (packed by phase count, network.h) with the
+ * present voltages:
  *   backward:  I_s = I_to + (Y/2) V_to,   I_from = I_s + (Y/2) (V_to + Z I_s)
  *   forward:   V_to = V_from - Z I_s
  * whose fixed point is the generalized one (a = U + ZY/2, b = Z,
  * c = Y + YZY/4, d = U + YZ/2; Kersting ch. 6, from memory), at a quarter of
- * the memory traffic, and single-phase laterals cost scalar products only.
+ * the memory traffic, and single-phase laterals cost scalar products only;
  * with the source bus held at its ideal voltages (or E - Z_s J_source behind
  * a Thevenin equivalent).  Converged when the largest change of any phase
- * voltage between two iterations is below tol (per unit of the bus base). */
+ * voltage between two iterations is below tol (per unit of the bus base).
+ * Everything is read and written by sweep position (network.h), so each
+ * pass walks its arrays front to back (or back to front). */
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -54,95 +57,88 @@ static inline int is_masked_kind(int kind)
     return kind == KL_BR_LINE || kind == KL_BR_SWITCH;
 }
 
-/* Series current of a line, I_s = I_to + (Y/2) V_to, on the phases of
- * mask (Z and Y are zero outside it).  Single-phase laterals, most of a
- * distribution feeder's branches, take one complex product. */
-static inline void line_series_current(const kl_complex *Y, int mask, const kl_complex *vto,
-                                       const kl_complex *ito, kl_complex is[3])
+/* Line kernels on the packed m x m Z and Y (network.h: the present phases
+ * in the order a, b, c; l[] maps packed index to phase slot).  Single-phase
+ * laterals, most of a distribution feeder's branches, are scalar. */
+
+/* I_s = I_to + (Y/2) V_to on the packed phases. */
+static inline void line_series_current(const kl_complex *Y, int m, const int *l,
+                                       const kl_complex *vto, const kl_complex *ito,
+                                       kl_complex is[3])
 {
-    int n = PH_N[mask];
-    const int *l = PH_L[mask];
-    if (n == 1) {
-        int p = l[0];
-        is[p] = ito[p] + 0.5 * Y[4 * p] * vto[p];
-        return;
-    }
-    for (int i = 0; i < n; i++) {
-        int p = l[i];
+    for (int i = 0; i < m; i++) {
         kl_complex acc = 0;
-        for (int j = 0; j < n; j++)
-            acc += Y[3 * p + l[j]] * vto[l[j]];
-        is[p] = ito[p] + 0.5 * acc;
+        for (int j = 0; j < m; j++)
+            acc += Y[m * i + j] * vto[l[j]];
+        is[i] = ito[l[i]] + 0.5 * acc;
     }
 }
 
 /* Backward step of a line: I_from = I_s + (Y/2) V_from, with the sending-end
  * voltage the line itself implies, V_from = V_to + Z I_s (= a V_to + b I_to),
  * so I_from = c V_to + d I_to to rounding, as in the generalized form (see
- * the file comment); ifr is zero outside mask. */
-static inline void line_backward(const kl_complex *Z, const kl_complex *Y, int mask,
-                                 const kl_complex *vto, const kl_complex *ito, kl_complex *ifr)
+ * the file comment); ifr is zero outside the line's phases. */
+static inline void line_backward(const kl_complex *Z, int mask, const kl_complex *vto,
+                                 const kl_complex *ito, kl_complex *ifr)
 {
-    kl_complex is[3] = {0, 0, 0}, vfr[3] = {0, 0, 0};
-    line_series_current(Y, mask, vto, ito, is);
-    int n = PH_N[mask];
+    int m = PH_N[mask];
     const int *l = PH_L[mask];
-    if (n == 1) {
+    const kl_complex *Y = Z + m * m;
+    ifr[0] = ifr[1] = ifr[2] = 0;
+    if (m == 1) {
         int p = l[0];
-        ifr[0] = ifr[1] = ifr[2] = 0;
-        ifr[p] = is[p] + 0.5 * Y[4 * p] * (vto[p] + Z[4 * p] * is[p]);
+        kl_complex is = ito[p] + 0.5 * Y[0] * vto[p];
+        ifr[p] = is + 0.5 * Y[0] * (vto[p] + Z[0] * is);
         return;
     }
-    for (int i = 0; i < n; i++) {
-        int p = l[i];
+    kl_complex is[3], vfr[3];
+    line_series_current(Y, m, l, vto, ito, is);
+    for (int i = 0; i < m; i++) {
         kl_complex acc = 0;
-        for (int j = 0; j < n; j++)
-            acc += Z[3 * p + l[j]] * is[l[j]];
-        vfr[p] = vto[p] + acc;
+        for (int j = 0; j < m; j++)
+            acc += Z[m * i + j] * is[j];
+        vfr[i] = vto[l[i]] + acc;
     }
-    ifr[0] = ifr[1] = ifr[2] = 0;
-    for (int i = 0; i < n; i++) {
-        int p = l[i];
+    for (int i = 0; i < m; i++) {
         kl_complex acc = 0;
-        for (int j = 0; j < n; j++)
-            acc += Y[3 * p + l[j]] * vfr[l[j]];
-        ifr[p] = is[p] + 0.5 * acc;
+        for (int j = 0; j < m; j++)
+            acc += Y[m * i + j] * vfr[j];
+        ifr[l[i]] = is[i] + 0.5 * acc;
     }
 }
 
 /* Forward step of a line: V_to = V_from - Z I_s, with I_s from the
  * receiving-end voltages the backward sweep used (vto_old, not yet
- * overwritten); vnew is left zero outside mask. */
-static inline void line_forward(const kl_complex *Z, const kl_complex *Y, int mask,
-                                const kl_complex *vfr, const kl_complex *ito,
-                                const kl_complex *vto_old, kl_complex *vnew)
+ * overwritten); vnew is left zero outside the line's phases. */
+static inline void line_forward(const kl_complex *Z, int mask, const kl_complex *vfr,
+                                const kl_complex *ito, const kl_complex *vto_old,
+                                kl_complex *vnew)
 {
-    kl_complex is[3] = {0, 0, 0};
-    line_series_current(Y, mask, vto_old, ito, is);
-    int n = PH_N[mask];
+    int m = PH_N[mask];
     const int *l = PH_L[mask];
-    for (int i = 0; i < n; i++) {
-        int p = l[i];
+    const kl_complex *Y = Z + m * m;
+    kl_complex is[3];
+    line_series_current(Y, m, l, vto_old, ito, is);
+    for (int i = 0; i < m; i++) {
         kl_complex acc = 0;
-        for (int j = 0; j < n; j++)
-            acc += Z[3 * p + l[j]] * is[l[j]];
-        vnew[p] = vfr[p] - acc;
+        for (int j = 0; j < m; j++)
+            acc += Z[m * i + j] * is[j];
+        vnew[l[i]] = vfr[l[i]] - acc;
     }
 }
 
-/* Backward sweep: currents from the present voltages (positions: the
- * to-bus of branch k is at k + 1). */
-static void sweep_backward(kl_network *n, double scale)
+/* Tree part of the backward sweep, children before parents: I_to = J_to
+ * (the to-bus of branch k sits at position k + 1, and js there holds it),
+ * I_from from the branch, added into the from-bus's J.  js must already
+ * hold the loads' (and any loop-closing branches') currents. */
+void kl_sweep_tree_currents(kl_network *n)
 {
-    memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
-    kl_load_inject_at(n, scale, n->vs, n->js, n->pos);
     for (int k = n->nbranches - 1; k >= 0; k--) {
-        kl_complex *ito = n->i_to + 3 * k, *ifr = n->i_from + 3 * k;
-        const kl_complex *vto = n->vs + 3 * (k + 1), *jto = n->js + 3 * (k + 1);
-        kl_complex *jfr = n->js + 3 * n->br_from_pos[k];
-        memcpy(ito, jto, 3 * sizeof *ito);
+        kl_complex *ifr = n->i_from + 3 * (size_t)k;
+        const kl_complex *vto = n->vs + 3 * (size_t)(k + 1), *ito = n->js + 3 * (size_t)(k + 1);
+        kl_complex *jfr = n->js + 3 * (size_t)n->br_from_pos[k];
         if (n->br_kind[k] == KL_BR_LINE) {
-            line_backward(n->zser + 9 * k, n->ysh + 9 * k, n->br_phases[k], vto, ito, ifr);
+            line_backward(n->zy + n->zy_at[k], n->br_phases[k], vto, ito, ifr);
         } else if (is_masked_kind(n->br_kind[k])) {
             size_t s = 9 * (size_t)n->dev[k]; /* device slot (network.h) */
             ifr[0] = ifr[1] = ifr[2] = 0;
@@ -156,13 +152,21 @@ static void sweep_backward(kl_network *n, double scale)
     }
 }
 
+/* Backward sweep: currents from the present voltages. */
+static void sweep_backward(kl_network *n, double scale)
+{
+    memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
+    kl_load_inject(n, scale);
+    kl_sweep_tree_currents(n);
+}
+
 /* Sets the voltages at position i (bus `bus`), returning the largest change
  * in per unit (INFINITY on a non-finite value) and where it sits. */
-static inline double set_voltage(kl_network *n, int i, int bus, const kl_complex vnew[3],
+static inline double set_voltage(kl_network *n, int i, const kl_complex vnew[3],
                                  double worst, int *where)
 {
-    kl_complex *v = n->vs + 3 * i;
-    int mask = n->phases[bus];
+    kl_complex *v = n->vs + 3 * (size_t)i;
+    int mask = n->pos_phases[i];
     double big = 0;
     for (int p = 0; p < 3; p++) {
         kl_complex x = (mask & (1 << p)) ? vnew[p] : 0, dv = x - v[p];
@@ -171,15 +175,16 @@ static inline double set_voltage(kl_network *n, int i, int bus, const kl_complex
             big = isnan(d2) ? INFINITY : d2;
         v[p] = x;
     }
-    double dv = sqrt(big) / n->v_base_ln[bus];
+    double dv = sqrt(big) * n->pos_inv_base[i];
     if (dv > worst) {
-        *where = bus;
+        *where = i;
         return dv;
     }
     return worst;
 }
 
-/* Forward sweep: voltages from the currents; returns the largest change. */
+/* Forward sweep: voltages from the currents; returns the largest change
+ * and (*where) the position where it sits. */
 static double sweep_forward(kl_network *n, int *where)
 {
     kl_complex vs[3], t[3];
@@ -189,37 +194,23 @@ static double sweep_forward(kl_network *n, int *where)
         for (int p = 0; p < 3; p++)
             vs[p] -= t[p];
     }
-    double worst = set_voltage(n, 0, n->source, vs, 0.0, where);
+    double worst = set_voltage(n, 0, vs, 0.0, where);
     for (int k = 0; k < n->nbranches; k++) {
         kl_complex vnew[3] = {0, 0, 0};
-        const kl_complex *vf = n->vs + 3 * n->br_from_pos[k], *ito = n->i_to + 3 * k;
+        const kl_complex *vf = n->vs + 3 * (size_t)n->br_from_pos[k];
+        const kl_complex *ito = n->js + 3 * (size_t)(k + 1); /* I_to of branch k */
         if (n->br_kind[k] == KL_BR_LINE)
-            line_forward(n->zser + 9 * k, n->ysh + 9 * k, n->br_phases[k], vf, ito,
-                         n->vs + 3 * (k + 1), vnew);
+            line_forward(n->zy + n->zy_at[k], n->br_phases[k], vf, ito, n->vs + 3 * (k + 1),
+                         vnew);
         else if (is_masked_kind(n->br_kind[k]))
             mv2_masked(n->A + 9 * (size_t)n->dev[k], vf, n->B + 9 * (size_t)n->dev[k], ito,
                        -1.0, n->br_phases[k], vnew);
         else
             mv2_full(n->A + 9 * (size_t)n->dev[k], vf, n->B + 9 * (size_t)n->dev[k], ito,
                      -1.0, vnew);
-        worst = set_voltage(n, k + 1, n->br_to[k], vnew, worst, where);
+        worst = set_voltage(n, k + 1, vnew, worst, where);
     }
     return worst;
-}
-
-/* Between the network's bus-id arrays and the sweep's positions. */
-static void gather_voltages(kl_network *n)
-{
-    for (int i = 0; i < n->nbuses; i++)
-        memcpy(n->vs + 3 * i, n->v + 3 * n->order[i], 3 * sizeof n->vs[0]);
-}
-
-static void scatter_state(kl_network *n)
-{
-    for (int i = 0; i < n->nbuses; i++) {
-        memcpy(n->v + 3 * n->order[i], n->vs + 3 * i, 3 * sizeof n->v[0]);
-        memcpy(n->j + 3 * n->order[i], n->js + 3 * i, 3 * sizeof n->j[0]);
-    }
 }
 
 /* Lowest present-phase voltage in per unit, for the non-convergence message. */
@@ -230,7 +221,7 @@ static double lowest_voltage(const kl_network *n, int *bus)
         for (int p = 0; p < 3; p++) {
             if (!(n->phases[b] & (1 << p)))
                 continue;
-            double x = cabs(n->v[3 * b + p]) / n->v_base_ln[b];
+            double x = cabs(kl_network_bus_v(n, b)[p]) / n->v_base_ln[b];
             if (!isfinite(x))
                 return NAN; /* diverged: there is no meaningful lowest voltage */
             if (x < low) {
@@ -279,7 +270,6 @@ static void report_noconv(const kl_network *n, int it, double worst, int where, 
 static void flat_start(kl_network *n)
 {
     int where = -1;
-    memset(n->i_to, 0, 3 * (size_t)n->nbranches * sizeof n->i_to[0]);
     memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
     memset(n->vs, 0, 3 * (size_t)n->nbuses * sizeof n->vs[0]);
     sweep_forward(n, &where);
@@ -301,9 +291,7 @@ kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_resu
         return KL_ETOPO;
     }
     double scale = opt->load_scale;
-    if (n->v_valid)
-        gather_voltages(n);
-    else
+    if (!n->v_valid)
         flat_start(n);
     double worst = INFINITY;
     int where = -1, it = 0;
@@ -312,13 +300,13 @@ kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_resu
         sweep_backward(n, scale);
         where = -1;
         worst = sweep_forward(n, &where);
+        where = where >= 0 ? n->order[where] : -1;
         if (!isfinite(worst) || worst < opt->tol_pu)
             break;
     }
     /* final currents consistent with the final voltages (exact power balance) */
     if (isfinite(worst))
         sweep_backward(n, scale);
-    scatter_state(n);
     n->v_valid = 1;
     if (res) {
         res->iterations = it;

@@ -661,14 +661,15 @@ START_TEST(test_random_feeders)
             /* generalized form of the branch (lines: from Z and Y, network.h),
              * against the sweep's ladder-form solution */
             kl_network_branch_abcd(n, k, a, b, c, d, NULL, NULL);
-            kl_cm3_vec(a, n->v + 3 * n->br_to[k], vf);
-            kl_cm3_vec(b, n->i_to + 3 * k, t);
+            kl_cm3_vec(a, kl_network_bus_v(n, n->br_to[k]), vf);
+            kl_cm3_vec(b, kl_network_i_to(n, k), t);
             for (int p = 0; p < 3; p++)
                 ck_assert_msg(!(n->br_phases[k] & (1 << p)) ||
-                              cabs(vf[p] + t[p] - n->v[3 * n->br_from[k] + p]) < 1e-5 * 7200,
+                              cabs(vf[p] + t[p] - kl_network_bus_v(n, n->br_from[k])[p]) <
+                                  1e-5 * 7200,
                               "seed %u branch %d phase %d", seed, k, p);
-            kl_cm3_vec(c, n->v + 3 * n->br_to[k], t);
-            kl_cm3_vec(d, n->i_to + 3 * k, t2);
+            kl_cm3_vec(c, kl_network_bus_v(n, n->br_to[k]), t);
+            kl_cm3_vec(d, kl_network_i_to(n, k), t2);
             for (int p = 0; p < 3; p++)
                 ck_assert(cabs(t[p] + t2[p] - n->i_from[3 * k + p]) < 1e-9 * (1 + cabs(t2[p])));
         }

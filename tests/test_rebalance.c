@@ -495,36 +495,49 @@ START_TEST(test_rotation_restores)
     char *text = text_join(HEAD, MIXED);
     fixture_load_text(&x, text);
     kl_network *n = x.net;
-    /* lines keep zser and ysh, devices also a..B by slot (network.h); the
-     * copy holds each array at a stride of the longest */
-    size_t m = 9 * (size_t)(n->nbranches > n->ndev ? n->nbranches : n->ndev);
-    kl_complex *copy = calloc(8 * m, sizeof(kl_complex));
-    kl_complex *arr[8] = {n->a, n->b, n->c, n->d, n->A, n->B, n->zser, n->ysh};
-    size_t len[8];
-    for (int k = 0; k < 8; k++) {
-        len[k] = 9 * (size_t)(k < 6 ? n->ndev : n->nbranches);
+    /* lines keep Z and Y packed by phase count in zy, devices a..B by slot
+     * (network.h); the copy holds each array at a stride of the longest */
+    size_t nzy = 0;
+    for (int k = 0; k < n->nbranches + n->nlinks; k++) {
+        int c = n->br_phases[k], np = (c & 1) + ((c >> 1) & 1) + ((c >> 2) & 1);
+        if (n->zy_at[k] >= 0 && (size_t)n->zy_at[k] + 2 * (size_t)(np * np) > nzy)
+            nzy = (size_t)n->zy_at[k] + 2 * (size_t)(np * np);
+    }
+    size_t m = 9 * (size_t)n->ndev > nzy ? 9 * (size_t)n->ndev : nzy;
+    kl_complex *copy = calloc(7 * m, sizeof(kl_complex));
+    kl_complex *arr[7] = {n->a, n->b, n->c, n->d, n->A, n->B, n->zy};
+    size_t len[7];
+    for (int k = 0; k < 7; k++) {
+        len[k] = k < 6 ? 9 * (size_t)n->ndev : nzy;
         memcpy(copy + k * m, arr[k], len[k] * sizeof(kl_complex));
     }
     int *ph = malloc(sizeof(int) * (size_t)n->nbuses);
     memcpy(ph, n->phases, sizeof(int) * (size_t)n->nbuses);
+    size_t nbr = (size_t)(n->nbranches + n->nlinks);
+    int *brph = malloc(sizeof(int) * nbr);
+    memcpy(brph, n->br_phases, sizeof(int) * nbr);
     for (int i = 0; i < x.rp->nitems; i++) {
         kl_rephase_set(x.rp, i, 1);
         kl_rephase_set(x.rp, i, 2);
     }
     int moved = 0;
-    for (int k = 0; k < 8; k++)
+    for (int k = 0; k < 7; k++)
         moved |= memcmp(copy + k * m, arr[k], len[k] * sizeof(kl_complex)) != 0;
+    /* a single-phase line's packed Z, Y stay put: its phase moves */
+    moved |= memcmp(brph, n->br_phases, sizeof(int) * nbr) != 0;
     ck_assert(moved);
     for (int i = x.rp->nitems - 1; i >= 0; i--)
         kl_rephase_set(x.rp, i, 0);
-    for (int k = 0; k < 8; k++)
+    for (int k = 0; k < 7; k++)
         ck_assert(memcmp(copy + k * m, arr[k], len[k] * sizeof(kl_complex)) == 0);
     ck_assert(memcmp(ph, n->phases, sizeof(int) * (size_t)n->nbuses) == 0);
+    ck_assert(memcmp(brph, n->br_phases, sizeof(int) * nbr) == 0);
     for (int l = 0; l < x.f->nloads; l++)
         for (int k = 0; k < 3; k++)
             ck_assert_int_eq(n->ld_slot[3 * l + k], k);
     free(copy);
     free(ph);
+    free(brph);
     fixture_free(&x);
     free(text);
 }

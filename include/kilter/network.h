@@ -12,12 +12,18 @@
  * topology and write values, so repeated solves (regulator taps, load
  * levels, rebalancing candidates) allocate nothing.
  *
+ * Layout, chosen for the sweep's memory traffic: branch arrays are indexed
+ * by branch id, which is sweep order; bus quantities the solvers write
+ * (voltages vs, currents js) and the copies they read every iteration are
+ * indexed by sweep position, pos[bus]; topology and bases stay by bus id.
+ * Line Z and Y are packed by phase count; loads have a compact working form
+ * (kl_load_part) in position order.
+ *
  * Rephasing: which phase slot each entry of a load connects to is a value
- * (ld_slot), read by the load model at every iteration, not topology.  A
- * `kl_network_rephase_load(net, load, slots)` function can therefore be
- * added without rebuilding; moving a whole lateral needs its branch matrices
- * permuted the same way (rows/columns of a..B and the bus phase masks) and
- * can be written against these arrays as well. */
+ * (ld_slot), copied into the load parts and read by the load model at every
+ * iteration, not topology (kl_network_loads_moved after changing it); moving
+ * a whole lateral permutes its branch matrices and the bus phase masks
+ * (rephase.c: a line's packed Z, Y are unpacked, relabelled, packed). */
 #ifndef KILTER_NETWORK_H
 #define KILTER_NETWORK_H
 
@@ -37,6 +43,21 @@ typedef struct {
     int bus;               /* network bus id */
     double weight;         /* share of the feeder load's power (1 for spot loads) */
 } kl_net_load;
+
+/* One part of a load (or capacitor) entry in the load model's working form:
+ * I = k v (constant impedance), k v / |v| (constant current) or
+ * k v / |v|^2 (constant power), v the element's voltage: phase slot p to
+ * neutral (wye, q = 3) or slot p to slot q (delta).  k holds conj(S), the
+ * share of a distributed load, the nominal-voltage factor and the ZIP
+ * fraction, in SI (load_model.c). */
+typedef struct {
+    int pos;               /* sweep position of the bus */
+    int load;              /* feeder load id, -1 for a capacitor */
+    unsigned char entry;   /* entry of the load: 0..2 (phase a, b, c or ab, bc, ca) */
+    unsigned char p, q;    /* phase slots */
+    unsigned char model;   /* KL_LOAD_Z, KL_LOAD_I or KL_LOAD_PQ */
+    kl_complex k;
+} kl_load_part;
 
 typedef struct kl_network {
     const kl_feeder *feeder;  /* not owned; must outlive the network */
@@ -68,13 +89,17 @@ typedef struct kl_network {
     /* Branch matrices, stored compactly (a branch of a single-phase lateral
      * would otherwise carry eight complex 3x3 matrices, 1152 bytes, for one
      * or two nonzero entries):
-     *   - every branch keeps zser and ysh, indexed by branch id;
+     *   - a line keeps its series impedance Z (ohm) and total shunt
+     *     admittance Y (S, half at each end) packed by phase count: n x n
+     *     each (n = phases of br_phases[k], in the order a, b, c; 1, 4 or 9
+     *     complex numbers), Z at zy + zy_at[k] and Y right after it;
      *   - only device branches (switches, transformers, regulators) keep the
      *     generalized a, b, c, d, A, B, in slot dev[k] of the device arrays;
-     *     dev[k] is -1 for a line.
-     * A line's a..B follow from its Z and Y (the pi section: a = U + ZY/2,
-     * b = Z, c = Y + YZY/4, d = U + YZ/2, the transpose of a, A = a^-1,
-     * B = A Z on the present phases): kl_network_line_abcd computes them,
+     *     dev[k] is -1 for a line (and zy_at[k] is -1 for a device).
+     * kl_network_line_zy expands a line's Z and Y to 3x3.  A line's a..B
+     * follow from its Z and Y (the pi section: a = U + ZY/2, b = Z,
+     * c = Y + YZY/4, d = U + YZ/2, the transpose of a, A = a^-1, B = A Z on
+     * the present phases): kl_network_line_abcd computes them,
      * kl_network_branch_abcd gives any branch's. */
     int ndev;              /* device branches (tree and loop-closing) */
     int *dev;              /* [nbranches+nlinks] slot in the device matrices, -1 for lines */
@@ -82,11 +107,10 @@ typedef struct kl_network {
                             * transformers: c = 0, d = A^T, and a, b only where A is
                             * invertible (wye-wye, single-phase), zero otherwise: the
                             * sweep uses A, B, c, d only */
-    kl_complex *zser;      /* [9*nbranches] lines: series impedance (ohm); devices: B (load side) */
-    kl_complex *ysh;       /* [9*nbranches] lines: total shunt admittance (S), half at each end;
-                            * devices: zero */
-    /* The sweep reads only zser and ysh for KL_BR_LINE branches (ladder
-     * form, sweep.c) and the device slot's c, d, A, B for the others. */
+    int *zy_at;            /* [nbranches+nlinks] offset of a line's packed Z in zy, -1 for devices */
+    kl_complex *zy;        /* [2 * sum of n*n over the lines] packed Z, Y of every line, by branch */
+    /* The sweep reads only the packed Z and Y for KL_BR_LINE branches
+     * (ladder form, sweep.c) and the device slot's c, d, A, B for the others. */
 
     /* per feeder section [nsections]: branch carrying its sending end and its
      * receiving end (differ when a distributed load splits it); -1 when the
@@ -99,7 +123,16 @@ typedef struct kl_network {
     kl_net_load *loads;    /* [nloads] */
     int *ld_slot;          /* [3*feeder nloads] phase slot (0..2) of each load entry:
                             * wye entry k sits on phase slot s; delta entry k joins
-                            * phases s and (s+1)%3.  Identity (s = k) when built. */
+                            * phases s and (s+1)%3.  Identity (s = k) when built.
+                            * After changing it, call kl_network_loads_moved. */
+    /* The load model's working form (load_model.c): one record per energized
+     * entry of every network load (three for a ZIP entry: its Z, I and P
+     * parts), then one per capacitor entry, each in sweep-position order, so
+     * the load pass reads the records and the bus arrays front to back.  The
+     * slots p, q are copies of ld_slot, refreshed by kl_network_loads_moved. */
+    int nparts, ncap_parts;/* load parts, then capacitor parts after them */
+    kl_load_part *parts;   /* [nparts + ncap_parts] */
+    int parts_stale;       /* 1 when ld_slot changed since the parts were refreshed */
 
     /* regulators */
     int *reg_branch;       /* [nregulators] branch id */
@@ -110,19 +143,23 @@ typedef struct kl_network {
     int has_zsource;
     kl_complex zsource[9];
 
+    /* sweep layout: order[] lists the source, then the to-bus of each tree
+     * branch in branch order, so the to-bus of tree branch k sits at
+     * position k + 1.  Bus quantities below are stored by position (the
+     * sweep walks them front to back); kl_network_bus_v / _bus_j give a bus
+     * id's, kl_network_i_to a branch's receiving-end current. */
+    int *pos;              /* [nbuses] position of each bus in order[] */
+    int *br_from_pos;      /* [nbranches+nlinks] pos[br_from[k]] */
+    unsigned char *pos_phases; /* [nbuses] phases[order[i]] (kept in step by rephasing) */
+    double *pos_inv_base;  /* [nbuses] 1 / v_base_ln[order[i]] */
+
     /* workspace written by the solvers */
     int v_valid;           /* 1 once a solve has left voltages to start from */
-    kl_complex *v;         /* [3*nbuses] present voltages */
-    kl_complex *j;         /* [3*nbuses] current drawn at each bus (loads + children) */
-    kl_complex *i_from;    /* [3*nbranches] sending-end currents */
-    kl_complex *i_to;      /* [3*nbranches] receiving-end currents */
-
-    /* sweep layout (sweep.c): the sweep keeps bus quantities by position in
-     * order[] (the to-bus of tree branch k sits at position k + 1), so its
-     * loops walk memory in sequence; it fills v and j above when it ends. */
-    int *pos;              /* [nbuses] position of each bus in order[] */
-    int *br_from_pos;      /* [nbranches] pos[br_from[k]] */
-    kl_complex *vs, *js;   /* [3*nbuses] voltages and bus currents by position */
+    kl_complex *vs;        /* [3*nbuses] present voltages, by position */
+    kl_complex *js;        /* [3*nbuses] current drawn at each bus (loads + children), by
+                            * position; at position k + 1 it is tree branch k's I_to */
+    kl_complex *i_from;    /* [3*(nbranches+nlinks)] sending-end currents */
+    kl_complex *i_to_link; /* [3*nlinks] receiving-end currents of the loop-closing branches */
 
     /* nodal solver (nodal.c): its matrix, ordering and LU factors, built on
      * the first nodal solve and kept, so later solves only refactor when
@@ -154,6 +191,36 @@ kl_status kl_network_line_abcd(const kl_network *net, int k, kl_complex a[9], kl
 kl_status kl_network_branch_abcd(const kl_network *net, int k, kl_complex a[9],
                                  kl_complex b[9], kl_complex c[9], kl_complex d[9],
                                  kl_complex A[9], kl_complex B[9]);
+
+/* Line branch k's Z and Y as 3x3 matrices (zero outside its phases; zero
+ * for a device branch).  Either output may be NULL. */
+void kl_network_line_zy(const kl_network *net, int k, kl_complex Z[9], kl_complex Y[9]);
+
+/* Writes a line's Z and Y back into the packed storage (entries on its
+ * present phases, br_phases[k], are kept; the phase count must not change). */
+void kl_network_line_set_zy(kl_network *net, int k, const kl_complex Z[9],
+                            const kl_complex Y[9]);
+
+/* Bus b's present voltages and current drawn (3 phases each). */
+static inline kl_complex *kl_network_bus_v(const kl_network *net, int b)
+{
+    return net->vs + 3 * (size_t)net->pos[b];
+}
+static inline kl_complex *kl_network_bus_j(const kl_network *net, int b)
+{
+    return net->js + 3 * (size_t)net->pos[b];
+}
+/* Branch k's receiving-end currents: a tree branch's are its to-bus's
+ * current drawn (position k + 1), a loop-closing branch's its own. */
+static inline kl_complex *kl_network_i_to(const kl_network *net, int k)
+{
+    return k < net->nbranches ? net->js + 3 * (size_t)(k + 1)
+                              : net->i_to_link + 3 * (size_t)(k - net->nbranches);
+}
+
+/* Call after changing ld_slot: the load model's records follow before the
+ * next solve. */
+void kl_network_loads_moved(kl_network *net);
 
 /* Recomputes regulator r's branch matrices from net->tap (no allocation). */
 void kl_network_regulator_update(kl_network *net, int r);

@@ -74,8 +74,9 @@ int kl_rephaser_find(const kl_rephaser *rp, const char *name);
  * subtree, bus phase masks, load phase slots, and the present voltages (so
  * the next solve starts near the answer).  No allocation. */
 void kl_rephase_set(kl_rephaser *rp, int i, int r);
-/* Relabels a bus vector v[3*nbuses] the way kl_rephase_set(rp, i, r) would
- * (for voltage snapshots kept outside the network). */
+/* Relabels a bus vector v[3*nbuses], in the network's layout (by sweep
+ * position, like net->vs), the way kl_rephase_set(rp, i, r) would (for
+ * voltage snapshots kept outside the network). */
 void kl_rephase_shift_vector(const kl_rephaser *rp, int i, int dr, kl_complex *v);
 /* Rotation of item i counting every enclosing item (the physical one). */
 int kl_rephase_total(const kl_rephaser *rp, const int *rot, int i);

@@ -51,6 +51,8 @@ typedef struct {
     const int *ld_bus;           /* [nloads] network bus id */
     const double *ld_weight;     /* [nloads] share of the feeder load (1 for spot loads) */
     const int *ld_slot;          /* [3*feeder nloads] phase slot of each entry; NULL: identity */
+    const int *v_pos;            /* [nbuses] where bus m's three sit in v (3 v_pos[m]);
+                                    NULL: at 3 m */
 } kl_study_paths;
 
 typedef struct {

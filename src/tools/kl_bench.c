@@ -156,7 +156,7 @@ int main(int argc, char **argv)
         vs = malloc(nv * sizeof *vs);
         if (!vs)
             goto done;
-        memcpy(vs, net->v, nv * sizeof *vs);
+        memcpy(vs, net->vs, nv * sizeof *vs);
         /* first solve: numbering, assembly, ordering, factorisation, iterations;
          * later ones reuse the factors kept in the network (iterations only) */
         if ((t_nodal_first = time_solve(kl_nodal_solve, net, res, 1, "nodal", &err)) < 0)
@@ -166,7 +166,7 @@ int main(int argc, char **argv)
             goto done;
         it_nodal = res->iterations;
         for (size_t k = 0; k < nv; k++) {
-            double d = cabs(vs[k] - net->v[k]) / net->v_base_ln[k / 3];
+            double d = cabs(vs[k] - net->vs[k]) * net->pos_inv_base[k / 3]; /* by position */
             dv = d > dv ? d : dv;
         }
     }
