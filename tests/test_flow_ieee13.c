@@ -13,6 +13,7 @@
 #include <check.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 #include "flow_fixture.h"
 #include "kilter/flow.h"
 #include "kilter/lines.h"
@@ -330,6 +331,81 @@ START_TEST(test_ieee13_file)
 }
 END_TEST
 
+
+/* Line branches keep Z and Y packed by phase count (network.h); expanded
+ * again they are the published per-mile matrices times the section length
+ * (data sheet, configurations 601, 604 (phases a, c) and 605 (phase c),
+ * ohm/mile and uS/mile), zero on absent phases; the distributed load's
+ * section splits at a quarter of its length (the lumped model, Kersting
+ * ch. 3, from memory).  Then the write-back a rephasing uses: 604 moved one
+ * phase on (a -> b, c -> a) holds its published a-a entry at b-b and its
+ * c-c entry at a-a. */
+static int section_id(const kl_feeder *f, const char *name)
+{
+    for (int s = 0; s < f->nsections; s++)
+        if (strcmp(f->sections[s].name, name) == 0)
+            return s;
+    ck_abort_msg("no section %s", name);
+    return -1;
+}
+
+static void check_packed(const kl_network *n, int k, double miles, double complex zaa,
+                         int pa, double baa_us, int mask)
+{
+    kl_complex Z[9], Y[9];
+    kl_network_line_zy(n, k, Z, Y);
+    ck_assert_int_eq(n->br_phases[k], mask);
+    ck_assert_msg(cabs(Z[4 * pa] - zaa * miles) <= 1e-12 * cabs(zaa * miles), "branch %d", k);
+    ck_assert(fabs(cimag(Y[4 * pa]) - baa_us * 1e-6 * miles) <= 1e-12 * baa_us * 1e-6 * miles);
+    for (int i = 0; i < 9; i++)
+        if (!(mask & (1 << (i / 3))) || !(mask & (1 << (i % 3))))
+            ck_assert(Z[i] == 0 && Y[i] == 0);
+}
+
+START_TEST(test_ieee13_packed_lines)
+{
+    kl_network *net = NULL;
+    kl_errors err;
+    kl_errors_init(&err);
+    build13(&H);
+    ck_assert_int_eq(kl_network_build(&H.f, &net, &err), KL_OK);
+    const double mi = 1609.344 / 0.3048; /* feet per mile */
+    int k601 = net->sec_first[section_id(&H.f, "671-680")];
+    check_packed(net, k601, 1000 / mi, 0.3465 + 1.0179 * I, 0, 6.2998, KL_PH_ABC);
+    kl_complex Z[9];
+    kl_network_line_zy(net, k601, Z, NULL);
+    ck_assert(cabs(Z[5] - (0.1535 + 0.3849 * I) * (1000 / mi)) <= 1e-12); /* Zbc */
+    ck_assert(cabs(Z[7] - Z[5]) == 0);
+    int k605 = net->sec_first[section_id(&H.f, "684-611")];
+    check_packed(net, k605, 300 / mi, 1.3292 + 1.3475 * I, 2, 4.5193, KL_PH_C);
+    int s671 = section_id(&H.f, "632-671");
+    ck_assert_int_ne(net->sec_first[s671], net->sec_last[s671]);
+    check_packed(net, net->sec_first[s671], 0.25 * 2000 / mi, 0.3465 + 1.0179 * I, 0, 6.2998,
+                 KL_PH_ABC);
+    check_packed(net, net->sec_last[s671], 0.75 * 2000 / mi, 0.3465 + 1.0179 * I, 0, 6.2998,
+                 KL_PH_ABC);
+    int k604 = net->sec_first[section_id(&H.f, "671-684")];
+    check_packed(net, k604, 300 / mi, 1.3238 + 1.3569 * I, 0, 4.6658, KL_PH_A | KL_PH_C);
+    check_packed(net, k604, 300 / mi, 1.3294 + 1.3471 * I, 2, 4.7097, KL_PH_A | KL_PH_C);
+    /* moved one phase on: slot p -> p + 1 */
+    kl_complex Y[9], Z2[9], Y2[9];
+    kl_network_line_zy(net, k604, Z, Y);
+    for (int i = 0; i < 9; i++) {
+        int r = (i / 3 + 1) % 3, c = (i % 3 + 1) % 3;
+        Z2[3 * r + c] = Z[i];
+        Y2[3 * r + c] = Y[i];
+    }
+    net->br_phases[k604] = KL_PH_A | KL_PH_B;
+    kl_network_line_set_zy(net, k604, Z2, Y2);
+    check_packed(net, k604, 300 / mi, 1.3238 + 1.3569 * I, 1, 4.6658, KL_PH_A | KL_PH_B);
+    check_packed(net, k604, 300 / mi, 1.3294 + 1.3471 * I, 0, 4.7097, KL_PH_A | KL_PH_B);
+    kl_network_line_zy(net, k604, Z, NULL);
+    ck_assert(cabs(Z[1] - (0.2066 + 0.4591 * I) * (300 / mi)) <= 1e-12); /* published Zac */
+    kl_network_free(net);
+    kl_errors_free(&err);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("flow_ieee13");
@@ -337,6 +413,7 @@ int main(void)
     tcase_add_test(tc, test_ieee13_published_matrices);
     tcase_add_test(tc, test_ieee13_fixed_taps);
     tcase_add_test(tc, test_ieee13_file);
+    tcase_add_test(tc, test_ieee13_packed_lines);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
