@@ -6,6 +6,7 @@
  * source, and derived fields are filled.  Every problem goes into the caller's
  * error record; the feeder is returned only when there was none. */
 #include <errno.h>
+#include <stddef.h>
 #include <stdio.h>
 #include <string.h>
 #include <sys/stat.h>
@@ -197,7 +198,38 @@ static void read_stream(kl_loader *L)
     top_required(L, seen);
 }
 
-static void loader_free(kl_loader *L)
+/* Each table names the elements of one array of the feeder, through the
+ * elements' first member (names.c). */
+#define NAME_FIRST(T) _Static_assert(offsetof(T, name) == 0, #T ": name must be the first member")
+NAME_FIRST(kl_bus);
+NAME_FIRST(kl_conductor);
+NAME_FIRST(kl_cable);
+NAME_FIRST(kl_layout);
+NAME_FIRST(kl_construction);
+NAME_FIRST(kl_section);
+NAME_FIRST(kl_transformer);
+NAME_FIRST(kl_regulator);
+NAME_FIRST(kl_load);
+NAME_FIRST(kl_capacitor);
+
+static void loader_tables(kl_loader *L)
+{
+    kl_feeder *f = L->f;
+    kl_names_init(&L->h_bus, (void *const *)&f->buses, sizeof *f->buses);
+    kl_names_init(&L->h_cond, (void *const *)&f->conductors, sizeof *f->conductors);
+    kl_names_init(&L->h_cable, (void *const *)&f->cables, sizeof *f->cables);
+    kl_names_init(&L->h_layout, (void *const *)&f->layouts, sizeof *f->layouts);
+    kl_names_init(&L->h_cons, (void *const *)&f->constructions, sizeof *f->constructions);
+    kl_names_init(&L->h_sec, (void *const *)&f->sections, sizeof *f->sections);
+    kl_names_init(&L->h_xf, (void *const *)&f->transformers, sizeof *f->transformers);
+    kl_names_init(&L->h_reg, (void *const *)&f->regulators, sizeof *f->regulators);
+    kl_names_init(&L->h_load, (void *const *)&f->loads, sizeof *f->loads);
+    kl_names_init(&L->h_cap, (void *const *)&f->capacitors, sizeof *f->capacitors);
+}
+
+/* What only reading and resolving need, released before the topology walk
+ * allocates its own arrays, so that the two are not held at once. */
+static void loader_release_tables(kl_loader *L)
 {
     kl_names *t[] = {&L->h_bus, &L->h_cond, &L->h_cable, &L->h_layout, &L->h_cons, &L->h_sec,
                      &L->h_xf, &L->h_reg, &L->h_load, &L->h_cap};
@@ -206,8 +238,17 @@ static void loader_free(kl_loader *L)
         kl_names_free(t[i]);
     kl_free(L->bus_declared);
     kl_free(L->sec_phases_given);
-    kl_free(L->cons_pos);
     kl_free(L->pending);
+    L->bus_declared = NULL;
+    L->sec_phases_given = NULL;
+    L->pending = NULL;
+    L->npending = L->cap_pending = L->cap_declared = L->cap_secph = 0;
+}
+
+static void loader_free(kl_loader *L)
+{
+    loader_release_tables(L);
+    kl_free(L->cons_pos);
     kl_yreader_free(L->r);
 }
 
@@ -239,6 +280,7 @@ static kl_status load(kl_loader *L, kl_feeder **out)
     read_stream(L);
     if (!L->nomem && !kl_yreader_failed(L->r)) {
         kl_ld_resolve(L);
+        loader_release_tables(L);
         if (!L->nomem && L->has_source)
             kl_ld_topology(L);
     }
@@ -268,6 +310,7 @@ kl_status kl_feeder_load_buffer(const char *text, size_t len, const char *name,
     if (!L.f)
         return KL_ENOMEM;
     L.file = L.f->path;
+    loader_tables(&L);
     L.r = kl_yreader_new_buffer(text, len, L.file, err);
     if (!L.r) {
         kl_feeder_free(L.f);
@@ -319,6 +362,7 @@ kl_status kl_feeder_load_limit(const char *path, size_t max_bytes, kl_feeder **o
         return KL_ENOMEM;
     }
     L.file = L.f->path;
+    loader_tables(&L);
     s = load(&L, out);
     if (ferror(fp) && s == KL_OK) {
         kl_errors_add(err, path, 0, 0, NULL, "read error: %s", strerror(errno));

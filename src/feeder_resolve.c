@@ -67,7 +67,7 @@ static const char *closest(const kl_names *t, const char *name)
     if (t->count > 2000)
         return NULL;
     for (i = 0; i < t->cap; i++) {
-        const char *cand[2] = {t->slots[i].name, NULL};
+        const char *cand[2] = {kl_names_slot_name(t, i), NULL};
         if (cand[0] && kl_ld_suggest(name, cand, 1) == 0)
             if (!best || strlen(cand[0]) < strlen(best))
                 best = cand[0];

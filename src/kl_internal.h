@@ -131,24 +131,30 @@ size_t kl_arena_bytes(const kl_arena *a);
 void kl_prefault(void *p, size_t n);
 
 typedef struct {
-    const char *name; /* NULL: empty slot; points into an arena */
-    unsigned hash;
-    int index;
+    unsigned hash; /* FNV-1a of the name */
+    int ref;       /* element index + 1; 0: empty slot */
 } kl_name_slot;
 
+/* The names themselves are not copied: entry `index` is the name of element
+ * `index` of the array *elems (elements `stride` bytes apart, the name their
+ * first member), so the table follows the array when it is reallocated. */
 typedef struct {
     kl_name_slot *slots; /* [cap], cap a power of two, at most half full */
     unsigned cap;
     int count;
+    void *const *elems;  /* address of the element array's pointer */
+    size_t stride;       /* sizeof one element */
 } kl_names;
 
-void kl_names_init(kl_names *t);
-void kl_names_free(kl_names *t);
+void kl_names_init(kl_names *t, void *const *elems, size_t stride);
+void kl_names_free(kl_names *t); /* the slots only: the table can be used again */
 /* Index stored for s[0..len), or -1. */
 int kl_names_find(const kl_names *t, const char *s, size_t len);
-/* Adds name -> index; `name` must outlive the table (arena string).  The
- * caller checks for duplicates with kl_names_find first. */
+/* Adds name -> index; `name` must be element index's name (an arena
+ * string).  The caller checks for duplicates with kl_names_find first. */
 kl_status kl_names_add(kl_names *t, const char *name, int index);
+/* The name held in slot i (0 <= i < cap), NULL for an empty slot. */
+const char *kl_names_slot_name(const kl_names *t, unsigned i);
 
 /* ---- feeder_yaml.c (loader): libyaml's event stream, read one element at a
  * time into a small reusable tree of nodes.  Memory is bounded by the largest

@@ -111,31 +111,35 @@ typedef enum {
     KL_SEC_REGULATOR = 4
 } kl_section_kind;
 
-/* A section joins two buses: a line, a switch, a transformer or a regulator. */
+/* A section joins two buses: a line, a switch, a transformer or a regulator.
+ * (Members ordered, and the flags kept in bytes, so that the struct has no
+ * padding: 48 bytes; a million-bus feeder holds a million sections.) */
 typedef struct {
     const char *name;
     kl_section_kind kind;
     int from, to;        /* bus ids */
-    int phases;          /* mask */
-    double length_m;     /* lines; 0 for devices */
     int construction;    /* lines: index into constructions */
     int device;          /* transformer / regulator: index into those arrays; -1 otherwise */
-    int closed;          /* switches: 1 closed, 0 open; 1 for every other kind */
-    int reversed;        /* lines and switches: 1 when written with `to` on the source side
+    uint8_t phases;      /* mask */
+    uint8_t closed;      /* switches: 1 closed, 0 open; 1 for every other kind */
+    uint8_t reversed;    /* lines and switches: 1 when written with `to` on the source side
                             (from/to stay as written; the loader's topology pass sets this) */
+    double length_m;     /* lines; 0 for devices */
     kl_loc loc;
 } kl_section;
 
+/* (Members ordered, and the flags kept in bytes, so that the struct has no
+ * padding: 56 bytes.) */
 typedef struct {
     const char *name;
-    int phases;          /* mask: phases present, filled by the loader from the sections */
     double base_kv_ll;   /* nominal line-to-line kV, filled by the loader from the source and transformers */
     double x, y;         /* coordinates in the file's own plot units */
-    int has_xy;
     const char *description; /* NULL when none */
     int parent;          /* section feeding this bus (towards the source); -1 for the source
                             bus and for buses not reached */
-    int energized;       /* 1: reached from the source through closed sections; 0 beyond an
+    uint8_t phases;      /* mask: phases present, filled by the loader from the sections */
+    uint8_t has_xy;
+    uint8_t energized;   /* 1: reached from the source through closed sections; 0 beyond an
                             open switch (de-energized, phases still filled) or not reached */
     kl_loc loc;
 } kl_bus;
@@ -145,20 +149,21 @@ typedef enum { KL_LOAD_PQ = 1, KL_LOAD_I = 2, KL_LOAD_Z = 3, KL_LOAD_ZIP = 4 } k
 
 /* A spot load at a bus, or a distributed load along a section (bus = -1,
  * section >= 0).  Powers are per phase at nominal voltage: wye a, b, c;
- * delta ab, bc, ca (index 0, 1, 2). */
+ * delta ab, bc, ca (index 0, 1, 2).  (Members ordered, and the flags kept in
+ * bytes, so that the struct has no padding: 136 bytes.) */
 typedef struct {
     const char *name;
     int bus;             /* spot load: bus id; -1 for a distributed load */
     int section;         /* distributed load: section id; -1 for a spot load */
     kl_connection conn;
     kl_load_model model;
-    int phases;          /* mask of the entries of s_va that are used (delta: bit 0 ab, 1 bc, 2 ca) */
+    uint8_t phases;      /* mask of the entries of s_va that are used (delta: bit 0 ab, 1 bc, 2 ca) */
+    uint8_t motor;       /* 1: three-phase motor load (for the derating check) */
+    uint8_t pinned;      /* rebalancing: 1 = may not be moved */
+    uint8_t forbidden;   /* rebalancing: mask of phases it may not move to */
     kl_complex s_va[3];  /* P + jQ per phase, W + j var */
     double zip[3];       /* ZIP fractions of P and Q: constant Z, I, P (sum 1) */
-    int motor;           /* 1: three-phase motor load (for the derating check) */
     double third_harmonic; /* third-harmonic current as a share of fundamental, 0..1 */
-    int pinned;          /* rebalancing: 1 = may not be moved */
-    int forbidden;       /* rebalancing: mask of phases it may not move to */
     double move_cost;    /* rebalancing: cost of one move (file's own unit, default 1) */
     const char *description;
     kl_loc loc;
