@@ -153,44 +153,62 @@ static int cap_parts_of(const kl_network *n, int c, kl_load_part out[3])
     return cnt;
 }
 
-/* Counting sort of the parts by position, without a second copy of them:
- * one pass counts, the next places (start[] is the only scratch). */
-static void parts_place(const kl_network *n, kl_load_part *dst, int *start, int caps)
+/* How many parts load_parts_of gives network load m (no coefficients). */
+static int load_nparts(const kl_network *n, int m)
 {
-    kl_load_part tmp[9];
+    const kl_load *ld = &n->feeder->loads[n->loads[m].load];
+    int entries = (ld->phases & 1) + ((ld->phases >> 1) & 1) + ((ld->phases >> 2) & 1);
+    if (ld->model != KL_LOAD_ZIP)
+        return entries;
+    return entries * ((ld->zip[0] != 0) + (ld->zip[1] != 0) + (ld->zip[2] != 0));
+}
+
+static int cap_nparts(const kl_network *n, int c)
+{
+    int ph = n->feeder->capacitors[c].phases;
+    return (ph & 1) + ((ph >> 1) & 1) + ((ph >> 2) & 1);
+}
+
+/* Counting sort by position, straight into dst (every part of one load or
+ * capacitor sits at its bus): count, prefix sums, place.  start[] is the
+ * only scratch; returns the number of parts. */
+static size_t parts_place(const kl_network *n, kl_load_part *dst, int *start, int caps)
+{
     int nitems = caps ? n->feeder->ncapacitors : n->nloads;
     memset(start, 0, sizeof(int) * ((size_t)n->nbuses + 1));
-    for (int pass = 0; pass < 2; pass++) {
-        for (int m = 0; m < nitems; m++) {
-            int c = caps ? cap_parts_of(n, m, tmp) : load_parts_of(n, m, tmp);
-            for (int q = 0; q < c; q++) {
-                if (pass == 0)
-                    start[tmp[q].pos + 1]++;
-                else
-                    dst[start[tmp[q].pos]++] = tmp[q];
-            }
-        }
-        for (int i = 0; pass == 0 && i < n->nbuses; i++)
-            start[i + 1] += start[i];
+    for (int m = 0; m < nitems; m++) {
+        int b = caps ? n->feeder->capacitors[m].bus : n->loads[m].bus;
+        start[n->pos[b] + 1] += caps ? cap_nparts(n, m) : load_nparts(n, m);
     }
+    for (int i = 0; i < n->nbuses; i++)
+        start[i + 1] += start[i];
+    size_t total = (size_t)start[n->nbuses];
+    if (!dst)
+        return total;
+    for (int m = 0; m < nitems; m++) {
+        int b = caps ? n->feeder->capacitors[m].bus : n->loads[m].bus;
+        int *at = &start[n->pos[b]];
+        *at += caps ? cap_parts_of(n, m, dst + *at) : load_parts_of(n, m, dst + *at);
+    }
+    return total;
 }
 
 kl_status kl_load_parts_build(kl_network *n)
 {
-    kl_load_part tmp[9];
-    size_t np = 0, nc = 0;
-    for (int m = 0; m < n->nloads; m++)
-        np += (size_t)load_parts_of(n, m, tmp);
-    for (int c = 0; c < n->feeder->ncapacitors; c++)
-        nc += (size_t)cap_parts_of(n, c, tmp);
-    if (np + nc > INT_MAX)
+    /* positions in start[] are ints: at most 9 parts per network load, 3
+     * per capacitor */
+    if (9 * (size_t)n->nloads + 3 * (size_t)n->feeder->ncapacitors > INT_MAX)
         return KL_ENOMEM;
     int *start = kl_malloc(sizeof(int) * ((size_t)n->nbuses + 1));
+    if (!start)
+        return KL_ENOMEM;
+    size_t np = parts_place(n, NULL, start, 0), nc = parts_place(n, NULL, start, 1);
     n->parts = kl_malloc((np + nc + 1) * sizeof *n->parts);
-    if (!start || !n->parts) {
+    if (!n->parts) {
         kl_free(start);
         return KL_ENOMEM;
     }
+    kl_prefault(n->parts, (np + nc) * sizeof *n->parts); /* one call, not a fault a page */
     n->nparts = (int)np;
     n->ncap_parts = (int)nc;
     parts_place(n, n->parts, start, 0);

@@ -231,8 +231,7 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     int ok = n->order && n->phases && n->v_base_ln && n->split_phase && n->parent && n->br_from && n->br_to &&
              n->br_kind && n->br_phases && n->br_section && n->dev && n->zy_at;
     for (size_t k = 0; k < sizeof m / sizeof m[0]; k++) {
-        /* a..B by device slot (network.h); the lines' packed Z, Y come
-         * once every branch's phases are known (pack_lines) */
+        /* a..B by device slot (network.h); the lines' packed Z, Y: zy_alloc */
         *m[k] = kl_calloc(9 * nd, sizeof(kl_complex));
         ok = ok && *m[k];
     }
@@ -255,7 +254,26 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     ok = ok && n->sec_first && n->sec_last && n->loads && n->ld_slot && n->reg_branch &&
          n->tap && n->i_from && n->i_to_link && n->pos && n->br_from_pos && n->pos_phases &&
          n->pos_inv_base && n->vs && n->js;
-    return ok ? KL_OK : KL_ENOMEM;
+    if (!ok)
+        return KL_ENOMEM;
+    /* every array here is written by the build or the first solve: map the
+     * large ones in one call each instead of a page fault per 4 KiB page
+     * (prefault.c; about 16 us a page on the machines measured) */
+    struct { void *p; size_t len; } big[] = {
+        {n->order, nb * sizeof(int)}, {n->phases, nb * sizeof(int)},
+        {n->v_base_ln, nb * sizeof(double)}, {n->split_phase, nb}, {n->parent, nb * sizeof(int)},
+        {n->br_from, nr * sizeof(int)}, {n->br_to, nr * sizeof(int)},
+        {n->br_kind, nr * sizeof(int)}, {n->br_phases, nr * sizeof(int)},
+        {n->br_section, nr * sizeof(int)}, {n->dev, nr * sizeof(int)},
+        {n->zy_at, nr * sizeof(int)}, {n->sec_first, (size_t)f->nsections * sizeof(int)},
+        {n->sec_last, (size_t)f->nsections * sizeof(int)}, {n->loads, (size_t)nld * sizeof(kl_net_load)},
+        {n->ld_slot, 3 * (size_t)f->nloads * sizeof(int)}, {n->pos, nb * sizeof(int)},
+        {n->br_from_pos, nr * sizeof(int)}, {n->pos_phases, nb},
+        {n->pos_inv_base, nb * sizeof(double)}, {n->vs, 3 * nb * sizeof(kl_complex)},
+        {n->js, 3 * nb * sizeof(kl_complex)}, {n->i_from, 3 * nr * sizeof(kl_complex)}};
+    for (size_t k = 0; k < sizeof big / sizeof big[0]; k++)
+        kl_prefault(big[k].p, big[k].len);
+    return KL_OK;
 }
 
 void kl_network_free(kl_network *n)
@@ -324,31 +342,23 @@ void kl_network_line_set_zy(kl_network *n, int k, const kl_complex Z[9], const k
         }
 }
 
-/* Share of its section's length that line branch k carries (network.h:
- * a distributed load splits a section at DIST_AT). */
-static double line_share(const kl_network *n, int k)
-{
-    int s = n->br_section[k];
-    if (n->sec_first[s] == n->sec_last[s])
-        return 1.0;
-    return k == n->sec_first[s] ? DIST_AT : 1.0 - DIST_AT;
-}
-
 /* 1 when a = U + Z Y / 2 of the packed m x m Z, Y is singular: the test
  * kl_cm3_inverse applies (|det| against the largest entry cubed, identity
  * rows standing in for absent phases), on the present phases only. */
 static int line_a_singular(const kl_complex *Z, const kl_complex *Y, int m)
 {
     kl_complex a[9];
-    double big = m < 3 ? 1.0 : 0.0;
+    double big2 = m < 3 ? 1.0 : 0.0; /* largest |entry|^2: one square root, not m^2 */
     for (int i = 0; i < m; i++)
         for (int j = 0; j < m; j++) {
             kl_complex acc = i == j ? 1.0 : 0.0;
             for (int q = 0; q < m; q++)
                 acc += 0.5 * Z[m * i + q] * Y[m * q + j];
             a[m * i + j] = acc;
-            big = fmax(big, cabs(acc));
+            double e2 = creal(acc) * creal(acc) + cimag(acc) * cimag(acc);
+            big2 = e2 > big2 ? e2 : big2;
         }
+    double big = sqrt(big2);
     kl_complex det = m == 1 ? a[0]
                    : m == 2 ? a[0] * a[3] - a[1] * a[2]
                    : a[0] * (a[4] * a[8] - a[5] * a[7]) - a[1] * (a[3] * a[8] - a[5] * a[6]) +
@@ -356,18 +366,27 @@ static int line_a_singular(const kl_complex *Z, const kl_complex *Y, int m)
     return big == 0 || !(cabs(det) > 1e-300 * big * big * big);
 }
 
-/* Line branch k's Z and Y: its construction's per-metre matrices on the
- * branch's phases times its length (Carson and Kron reduction were done
- * once per construction by kl_lines_derive). */
-static kl_status line_fill(kl_network *n, int k, kl_errors *err)
+/* Line branch k's Z and Y, appended to zy: its construction's per-metre
+ * matrices on the branch's phases times `share` of the section's length
+ * (Carson and Kron reduction were done once per construction by
+ * kl_lines_derive).  Called while the section is at hand (emit_section), so
+ * the feeder's section record is read once. */
+static kl_status line_fill(kl_network *n, int k, const kl_section *sc, double share,
+                           kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
-    const kl_section *sc = &f->sections[n->br_section[k]];
     const kl_construction *cn = &f->constructions[sc->construction];
     int mask = n->br_phases[k], m = PH_N[mask];
     const int *l = PH_L[mask];
-    double len = sc->length_m * line_share(n, k);
-    kl_complex *Z = n->zy + n->zy_at[k], *Y = Z + m * m;
+    double len = sc->length_m * share;
+    if (n->nzy + 2 * (size_t)(m * m) > n->zy_cap) { /* zy_count and emission disagree */
+        net_err(err, f, sc->loc, "section", sc->name, "internal error: line storage "
+                "miscounted (please report this feeder)");
+        return KL_EINPUT;
+    }
+    n->zy_at[k] = (int)n->nzy;
+    kl_complex *Z = n->zy + n->nzy, *Y = Z + m * m;
+    n->nzy += 2 * (size_t)(m * m);
     for (int i = 0; i < m; i++)
         for (int j = 0; j < m; j++) {
             int p = l[i], q = l[j];
@@ -383,29 +402,21 @@ static kl_status line_fill(kl_network *n, int k, kl_errors *err)
     return KL_OK;
 }
 
-/* Packs every line's Z and Y by phase count (network.h), once all branch
- * phases are known. */
-static kl_status pack_lines(kl_network *n, kl_errors *err)
+/* Entries zy needs: 2 m^2 per closed line section (twice when a
+ * distributed load splits it), m its phase count as check_line takes it.
+ * One pass over the sections in file order, before the search. */
+static size_t zy_count(const kl_feeder *f, const int *has_dist)
 {
     size_t total = 0;
-    int nr = n->nbranches + n->nlinks;
-    for (int k = 0; k < nr; k++) {
-        if (n->br_kind[k] != KL_BR_LINE)
+    for (int s = 0; s < f->nsections; s++) {
+        const kl_section *sc = &f->sections[s];
+        if (!sc->closed || sc->kind != KL_SEC_LINE || sc->construction < 0 ||
+            sc->construction >= f->nconstructions)
             continue;
-        int m = PH_N[n->br_phases[k]];
-        if (total > (size_t)INT_MAX - 18)
-            return KL_ENOMEM; /* offsets are ints: over 100 million lines */
-        n->zy_at[k] = (int)total;
-        total += 2 * (size_t)(m * m);
+        int mask = (sc->phases ? sc->phases : f->constructions[sc->construction].phases) & 7;
+        total += 2 * (size_t)(PH_N[mask] * PH_N[mask]) * (has_dist[s] ? 2 : 1);
     }
-    n->zy = kl_malloc((total ? total : 1) * sizeof(kl_complex));
-    if (!n->zy)
-        return KL_ENOMEM;
-    kl_status st = KL_OK;
-    for (int k = 0; k < nr; k++)
-        if (n->zy_at[k] >= 0 && line_fill(n, k, err))
-            st = KL_EINPUT;
-    return st;
+    return total;
 }
 
 kl_status kl_network_line_abcd(const kl_network *n, int k, kl_complex a[9], kl_complex b[9],
@@ -617,8 +628,8 @@ static kl_status emit_section(kl_network *n, int s, int reversed, int split, int
     n->v_base_ln[n->br_to[k]] = n->v_base_ln[from];
     n->split_phase[n->br_to[k]] = n->split_phase[from];
     n->parent[n->br_to[k]] = k;
-    if (!split)
-        return KL_OK;
+    if ((st = line_fill(n, k, sc, split ? DIST_AT : 1.0, err)) || !split)
+        return st;
     int mid = (*nbus)++;
     int k2 = (*nbr)++;
     n->br_from[k2] = mid;
@@ -631,7 +642,7 @@ static kl_status emit_section(kl_network *n, int s, int reversed, int split, int
     n->v_base_ln[to] = n->v_base_ln[from];
     n->split_phase[to] = n->split_phase[from];
     n->parent[to] = k2;
-    return KL_OK;
+    return line_fill(n, k2, sc, 1.0 - DIST_AT, err);
 }
 
 /* A loop-closing line or closed switch between two buses already placed
@@ -664,7 +675,7 @@ static kl_status emit_link(kl_network *n, int s, int *nbr, kl_errors *err)
     n->sec_first[s] = n->sec_last[s] = k;
     if (sc->kind == KL_SEC_LINE) {
         n->br_kind[k] = KL_BR_LINE;
-        return KL_OK;
+        return line_fill(n, k, sc, 1.0, err);
     }
     n->br_kind[k] = KL_BR_SWITCH;
     size_t q = 9 * (size_t)(n->dev[k] = n->ndev++);
@@ -816,6 +827,12 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     if ((st = alloc_arrays(n, f, n->nbuses, n->nbranches + nlinks, f->nloads + ndist,
                            ndev_max)))
         goto done;
+    n->zy_cap = zy_count(f, has_dist);
+    if (n->zy_cap > (size_t)INT_MAX || !(n->zy = kl_malloc((n->zy_cap + 1) * sizeof(kl_complex)))) {
+        st = KL_ENOMEM; /* offsets are ints: over 100 million lines */
+        goto done;
+    }
+    kl_prefault(n->zy, n->zy_cap * sizeof(kl_complex));
     for (int s = 0; s < f->nsections; s++)
         n->sec_first[s] = n->sec_last[s] = -1;
     for (int r = 0; r < f->nregulators; r++) {
@@ -851,8 +868,6 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         st = place_loads(n, mid_of, seen, err);
     if (!st)
         st = check_capacitors(n, seen, err);
-    if (!st)
-        st = pack_lines(n, err);
     if (!st)
         st = sweep_layout(n);
     if (!st)

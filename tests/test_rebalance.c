@@ -497,12 +497,7 @@ START_TEST(test_rotation_restores)
     kl_network *n = x.net;
     /* lines keep Z and Y packed by phase count in zy, devices a..B by slot
      * (network.h); the copy holds each array at a stride of the longest */
-    size_t nzy = 0;
-    for (int k = 0; k < n->nbranches + n->nlinks; k++) {
-        int c = n->br_phases[k], np = (c & 1) + ((c >> 1) & 1) + ((c >> 2) & 1);
-        if (n->zy_at[k] >= 0 && (size_t)n->zy_at[k] + 2 * (size_t)(np * np) > nzy)
-            nzy = (size_t)n->zy_at[k] + 2 * (size_t)(np * np);
-    }
+    size_t nzy = n->nzy;
     size_t m = 9 * (size_t)n->ndev > nzy ? 9 * (size_t)n->ndev : nzy;
     kl_complex *copy = calloc(7 * m, sizeof(kl_complex));
     kl_complex *arr[7] = {n->a, n->b, n->c, n->d, n->A, n->B, n->zy};

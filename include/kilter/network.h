@@ -108,7 +108,9 @@ typedef struct kl_network {
                             * invertible (wye-wye, single-phase), zero otherwise: the
                             * sweep uses A, B, c, d only */
     int *zy_at;            /* [nbranches+nlinks] offset of a line's packed Z in zy, -1 for devices */
-    kl_complex *zy;        /* [2 * sum of n*n over the lines] packed Z, Y of every line, by branch */
+    kl_complex *zy;        /* [nzy] packed Z, Y of every line, by branch */
+    size_t nzy;            /* entries of zy in use: 2 n^2 per line branch */
+    size_t zy_cap;         /* entries allocated (= nzy once built) */
     /* The sweep reads only the packed Z and Y for KL_BR_LINE branches
      * (ladder form, sweep.c) and the device slot's c, d, A, B for the others. */
 
