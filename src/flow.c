@@ -99,8 +99,8 @@ static void section_results(const kl_network *n, kl_flow_result *r)
             continue;
         const kl_complex *vf1 = kl_network_bus_v(n, n->br_from[k1]);
         const kl_complex *it2 = kl_network_i_to(n, k2);
+        kl_network_i_from(n, k1, i);
         for (int p = 0; p < 3; p++) {
-            i[p] = n->i_from[3 * k1 + p];
             ir[p] = it2[p];
             sin[p] = vf1[p] * conj(i[p]);
         }
@@ -109,8 +109,10 @@ static void section_results(const kl_network *n, kl_flow_result *r)
         for (int k = k1;; k = k2) {
             const kl_complex *vf = kl_network_bus_v(n, n->br_from[k]);
             const kl_complex *vt = kl_network_bus_v(n, n->br_to[k]), *it = kl_network_i_to(n, k);
+            kl_complex ifr[3];
+            kl_network_i_from(n, k, ifr);
             for (int p = 0; p < 3; p++) {
-                kl_complex in = vf[p] * conj(n->i_from[3 * k + p]);
+                kl_complex in = vf[p] * conj(ifr[p]);
                 kl_complex outp = vt[p] * conj(it[p]);
                 sl[p] += in - outp;
             }

@@ -344,7 +344,8 @@ void kl_regulator_relay_voltage(const struct kl_network *net, int r, double vr[3
 void kl_load_inject(struct kl_network *net, double scale);
 /* sweep.c: the tree part of a backward sweep at the present voltages, from
  * the bus currents already in net->js (loads, loop-closing branches): fills
- * i_from and accumulates js toward the source (nodal.c uses it too). */
+ * the branches' sending-end currents into js toward the source (nodal.c
+ * uses it too). */
 void kl_sweep_tree_currents(struct kl_network *net);
 /* Builds net->parts from the network loads and capacitors (kl_network_build). */
 kl_status kl_load_parts_build(struct kl_network *net);

@@ -243,7 +243,7 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->ld_slot = kl_calloc(3 * (size_t)f->nloads, sizeof(int));
     n->reg_branch = kl_calloc((size_t)f->nregulators, sizeof(int));
     n->tap = kl_calloc(3 * (size_t)f->nregulators, sizeof(int));
-    n->i_from = kl_calloc(3 * nr, sizeof(kl_complex));
+    n->i_from_link = kl_calloc(3 * (nr - (size_t)n->nbranches) + 3, sizeof(kl_complex));
     n->i_to_link = kl_calloc(3 * (nr - (size_t)n->nbranches) + 3, sizeof(kl_complex));
     n->pos = kl_calloc(nb, sizeof(int));
     n->br_from_pos = kl_calloc(nr, sizeof(int));
@@ -252,7 +252,7 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->vs = kl_calloc(3 * nb, sizeof(kl_complex));
     n->js = kl_calloc(3 * nb, sizeof(kl_complex));
     ok = ok && n->sec_first && n->sec_last && n->loads && n->ld_slot && n->reg_branch &&
-         n->tap && n->i_from && n->i_to_link && n->pos && n->br_from_pos && n->pos_phases &&
+         n->tap && n->i_from_link && n->i_to_link && n->pos && n->br_from_pos && n->pos_phases &&
          n->pos_inv_base && n->vs && n->js;
     if (!ok)
         return KL_ENOMEM;
@@ -270,7 +270,7 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
         {n->ld_slot, 3 * (size_t)f->nloads * sizeof(int)}, {n->pos, nb * sizeof(int)},
         {n->br_from_pos, nr * sizeof(int)}, {n->pos_phases, nb},
         {n->pos_inv_base, nb * sizeof(double)}, {n->vs, 3 * nb * sizeof(kl_complex)},
-        {n->js, 3 * nb * sizeof(kl_complex)}, {n->i_from, 3 * nr * sizeof(kl_complex)}};
+        {n->js, 3 * nb * sizeof(kl_complex)}};
     for (size_t k = 0; k < sizeof big / sizeof big[0]; k++)
         kl_prefault(big[k].p, big[k].len);
     return KL_OK;
@@ -284,7 +284,7 @@ void kl_network_free(kl_network *n)
     void *p[] = {n->order, n->phases, n->v_base_ln, n->split_phase, n->parent, n->br_from, n->br_to,
                  n->br_kind, n->br_phases, n->br_section, n->dev, n->a, n->b, n->c, n->d, n->A,
                  n->B, n->zy_at, n->zy, n->sec_first, n->sec_last, n->loads, n->ld_slot,
-                 n->parts, n->reg_branch, n->tap, n->i_from, n->i_to_link, n->pos,
+                 n->parts, n->reg_branch, n->tap, n->i_from_link, n->i_to_link, n->pos,
                  n->br_from_pos, n->pos_phases, n->pos_inv_base, n->vs, n->js};
     for (size_t k = 0; k < sizeof p / sizeof p[0]; k++)
         kl_free(p[k]);

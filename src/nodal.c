@@ -524,7 +524,8 @@ static void link_currents(kl_network *n, int k)
 {
     const kl_complex *vf = kl_network_bus_v(n, n->br_from[k]);
     const kl_complex *vt = kl_network_bus_v(n, n->br_to[k]);
-    kl_complex *ifr = n->i_from + 3 * k, *ito = kl_network_i_to(n, k), Y[9], dv[3], tf[3],
+    kl_complex *ifr = n->i_from_link + 3 * (size_t)(k - n->nbranches);
+    kl_complex *ito = kl_network_i_to(n, k), Y[9], dv[3], tf[3],
                tt[3], ysh[9];
     if (!is_line(n, k)) {
         kl_cm3_vec(n->d + 9 * (size_t)n->dev[k], ito, ifr);
@@ -563,7 +564,7 @@ static void branch_currents(kl_network *n, double scale)
         kl_complex *jf = kl_network_bus_j(n, n->br_from[k]), *jt = kl_network_bus_j(n, n->br_to[k]);
         const kl_complex *ito = kl_network_i_to(n, k);
         for (int p = 0; p < 3; p++) {
-            jf[p] += n->i_from[3 * k + p];
+            jf[p] += n->i_from_link[3 * (size_t)(k - n->nbranches) + p];
             jt[p] -= ito[p];
         }
     }

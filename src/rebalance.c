@@ -356,7 +356,7 @@ static void item_current(const engine *e, int i, double scale, kl_complex cur[3]
     const kl_rephase_item *it = &e->rp->items[i];
     cur[0] = cur[1] = cur[2] = 0;
     if (it->kind == KL_ITEM_LATERAL) {
-        memcpy(cur, n->i_from + 3 * e->rp->br[it->first_br], 3 * sizeof(kl_complex));
+        kl_network_i_from(n, e->rp->br[it->first_br], cur);
         return;
     }
     const kl_load *ld = &n->feeder->loads[it->load];

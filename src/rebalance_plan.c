@@ -90,7 +90,9 @@ static double network_losses(const kl_network *n)
     for (int k = 0; k < n->nbranches; k++) {
         const kl_complex *vf = kl_network_bus_v(n, n->br_from[k]);
         const kl_complex *vt = kl_network_bus_v(n, n->br_to[k]);
-        const kl_complex *jf = n->i_from + 3 * k, *jt = kl_network_i_to(n, k);
+        const kl_complex *jt = kl_network_i_to(n, k);
+        kl_complex jf[3];
+        kl_network_i_from(n, k, jf);
         for (int p = 0; p < 3; p++)
             w += creal(vf[p] * conj(jf[p]) - vt[p] * conj(jt[p]));
     }
@@ -112,7 +114,9 @@ void kl_rebalance_summarize(const kl_network *n, int converged, int neutral_sect
     s->i_residual_at = s->i_residual;
     if (neutral_section >= 0 && neutral_section < n->feeder->nsections) {
         int k = n->sec_first[neutral_section];
-        const kl_complex *i = n->i_from + 3 * (k >= 0 ? k : 0);
+        kl_complex i[3] = {0, 0, 0};
+        if (k >= 0)
+            kl_network_i_from(n, k, i);
         s->i_residual_at = k >= 0 ? cabs(i[0] + i[1] + i[2]) : 0;
     }
     s->losses_w = network_losses(n);

@@ -127,29 +127,46 @@ static inline void line_forward(const kl_complex *Z, int mask, const kl_complex 
     }
 }
 
-/* Tree part of the backward sweep, children before parents: I_to = J_to
- * (the to-bus of branch k sits at position k + 1, and js there holds it),
- * I_from from the branch, added into the from-bus's J.  js must already
- * hold the loads' (and any loop-closing branches') currents. */
+/* Tree branch k's sending-end currents from its receiving-end voltages
+ * and currents (the to-bus of branch k sits at position k + 1, and js there
+ * holds its I_to). */
+static inline void branch_i_from(const kl_network *n, int k, kl_complex ifr[3])
+{
+    const kl_complex *vto = n->vs + 3 * (size_t)(k + 1), *ito = n->js + 3 * (size_t)(k + 1);
+    if (n->br_kind[k] == KL_BR_LINE) {
+        line_backward(n->zy + n->zy_at[k], n->br_phases[k], vto, ito, ifr);
+    } else if (is_masked_kind(n->br_kind[k])) {
+        size_t s = 9 * (size_t)n->dev[k]; /* device slot (network.h) */
+        ifr[0] = ifr[1] = ifr[2] = 0;
+        mv2_masked(n->c + s, vto, n->d + s, ito, 1.0, n->br_phases[k], ifr);
+    } else {
+        size_t s = 9 * (size_t)n->dev[k];
+        mv2_full(n->c + s, vto, n->d + s, ito, 1.0, ifr);
+    }
+}
+
+/* Tree part of the backward sweep, children before parents: I_from of
+ * each branch added into its from-bus's J (I_to = J_to is complete by then:
+ * the branch's children come after it).  js must already hold the loads'
+ * (and any loop-closing branches') currents. */
 void kl_sweep_tree_currents(kl_network *n)
 {
     for (int k = n->nbranches - 1; k >= 0; k--) {
-        kl_complex *ifr = n->i_from + 3 * (size_t)k;
-        const kl_complex *vto = n->vs + 3 * (size_t)(k + 1), *ito = n->js + 3 * (size_t)(k + 1);
+        kl_complex ifr[3];
+        branch_i_from(n, k, ifr);
         kl_complex *jfr = n->js + 3 * (size_t)n->br_from_pos[k];
-        if (n->br_kind[k] == KL_BR_LINE) {
-            line_backward(n->zy + n->zy_at[k], n->br_phases[k], vto, ito, ifr);
-        } else if (is_masked_kind(n->br_kind[k])) {
-            size_t s = 9 * (size_t)n->dev[k]; /* device slot (network.h) */
-            ifr[0] = ifr[1] = ifr[2] = 0;
-            mv2_masked(n->c + s, vto, n->d + s, ito, 1.0, n->br_phases[k], ifr);
-        } else {
-            size_t s = 9 * (size_t)n->dev[k];
-            mv2_full(n->c + s, vto, n->d + s, ito, 1.0, ifr);
-        }
         for (int p = 0; p < 3; p++)
             jfr[p] += ifr[p];
     }
+}
+
+void kl_network_i_from(const kl_network *n, int k, kl_complex out[3])
+{
+    if (k >= n->nbranches) {
+        memcpy(out, n->i_from_link + 3 * (size_t)(k - n->nbranches), 3 * sizeof out[0]);
+        return;
+    }
+    branch_i_from(n, k, out);
 }
 
 /* Backward sweep: currents from the present voltages. */
