@@ -1,10 +1,19 @@
-/* kilter: the loader's view of libyaml's event parser.
+/* kilter: the loader's view of the YAML event stream.
  *
  * The feeder file is never held as a document tree: the loader walks the
  * top-level mapping event by event and reads one element (one list item) at a
  * time into a node pool that is reused for the next element.  Anchors and
  * aliases are refused outright: they are never needed in a feeder file and
- * they are how a small file expands into a huge one. */
+ * they are how a small file expands into a huge one.
+ *
+ * Events come from the fast scanner for the feeder subset (yaml_fast.c) while
+ * it is sure of them, and from libyaml's parser otherwise.  When the scanner
+ * declines, libyaml is started on the input from the beginning and the events
+ * already handed out are parsed again and skipped, so the loader sees
+ * exactly libyaml's stream, errors included.  A running hash of the handed-out
+ * events is checked against libyaml's on the way; a difference is reported as
+ * an internal error rather than loading what libyaml would not. */
+#include <stdint.h>
 #include <stdio.h>
 #include <string.h>
 #include <yaml.h>
@@ -13,14 +22,25 @@
 #define MAX_DEPTH 32             /* deeper than any feeder element needs */
 #define MAX_NODES (1 << 20)      /* per element */
 #define MAX_TEXT (64u << 20)     /* bytes of scalar text per element */
+#define HASH_SEED 0x243f6a8885a308d3ull /* any constant: pi's first fraction bits */
 
 struct kl_yreader {
     kl_ypool pool;          /* first: kl_ynode_at reads it through the header */
     yaml_parser_t parser;
-    yaml_event_t ev;
+    yaml_event_t ev;        /* libyaml's current event */
+    kl_yfast *fast;         /* the fast scanner, until it declines */
+    kl_yfast_event fev;     /* its current event */
     int have_ev;
     int failed;
     int nomem;
+    int declined;
+    void *fp;               /* input, to give libyaml from the start on a decline */
+    long fp_start;
+    const char *text;
+    size_t len;
+    uint64_t hash;          /* of the events the fast scanner handed out */
+    size_t nfast;           /* how many */
+    int last_line, last_col;
     const char *file;
     kl_errors *err;
     int nnodes, capnodes;
@@ -38,22 +58,48 @@ static kl_yreader *reader_alloc(const char *file, kl_errors *err)
     }
     r->file = file;
     r->err = err;
+    r->hash = HASH_SEED;
+    return r;
+}
+
+kl_yreader *kl_yreader_new_file_window(void *fp, const char *file, kl_errors *err, size_t window)
+{
+    kl_yreader *r = reader_alloc(file, err);
+    if (!r)
+        return NULL;
+    r->fp = fp;
+    r->fp_start = ftell(fp);
+    /* Only input that can be read again from the start (not a pipe) gets the
+     * fast scanner: a decline has to give libyaml the whole input. */
+    if (r->fp_start < 0 || fseek(fp, r->fp_start, SEEK_SET) != 0) {
+        yaml_parser_set_input_file(&r->parser, fp);
+        return r;
+    }
+    r->fast = kl_yfast_new(fp, NULL, 0, window);
+    if (!r->fast) {
+        kl_yreader_free(r);
+        return NULL;
+    }
     return r;
 }
 
 kl_yreader *kl_yreader_new_file(void *fp, const char *file, kl_errors *err)
 {
-    kl_yreader *r = reader_alloc(file, err);
-    if (r)
-        yaml_parser_set_input_file(&r->parser, fp);
-    return r;
+    return kl_yreader_new_file_window(fp, file, err, KL_YFAST_WINDOW);
 }
 
 kl_yreader *kl_yreader_new_buffer(const char *text, size_t len, const char *file, kl_errors *err)
 {
     kl_yreader *r = reader_alloc(file, err);
-    if (r)
-        yaml_parser_set_input_string(&r->parser, (const unsigned char *)text, len);
+    if (!r)
+        return NULL;
+    r->text = text;
+    r->len = len;
+    r->fast = kl_yfast_new(NULL, text, len, 0);
+    if (!r->fast) {
+        kl_yreader_free(r);
+        return NULL;
+    }
     return r;
 }
 
@@ -61,8 +107,9 @@ void kl_yreader_free(kl_yreader *r)
 {
     if (!r)
         return;
-    if (r->have_ev)
+    if (r->have_ev && !r->fast)
         yaml_event_delete(&r->ev);
+    kl_yfast_free(r->fast);
     yaml_parser_delete(&r->parser);
     kl_free(r->pool.nodes);
     kl_free(r->pool.text);
@@ -116,11 +163,115 @@ static kl_yev event_kind(const yaml_event_t *e)
     }
 }
 
+/* A running hash of the events (not cryptographic: it catches a scanner
+ * that disagrees with libyaml, it does not resist a crafted file). */
+static uint64_t mix(uint64_t h, uint64_t w)
+{
+    h = (h ^ w) * 0x9e3779b97f4a7c15ull; /* 2^64 / golden ratio (Knuth, TAOCP 6.4) */
+    return h ^ (h >> 29);
+}
+
+static uint64_t hash_event(uint64_t h, int kind, size_t line, size_t col, const char *text, size_t len)
+{
+    uint64_t w;
+    h = mix(h, (uint64_t)line);
+    h = mix(h, ((uint64_t)col << 8) | (uint64_t)kind);
+    h = mix(h, (uint64_t)len);
+    for (; len >= 8; len -= 8, text += 8) {
+        memcpy(&w, text, 8);
+        h = mix(h, w);
+    }
+    if (len) {
+        w = 0;
+        memcpy(&w, text, len);
+        h = mix(h, w);
+    }
+    return h;
+}
+
+static void mismatch(kl_yreader *r)
+{
+    fail(r, r->last_line, r->last_col,
+         "internal error: kilter's fast YAML reader and libyaml read this file differently "
+         "before this point%s%s; please report it with the file", "", "");
+}
+
+/* The fast scanner declined: libyaml from the start of the input, skipping
+ * (and checking) the events already handed out. */
+static int switch_to_libyaml(kl_yreader *r)
+{
+    uint64_t h = HASH_SEED;
+    size_t n = 0;
+    kl_yfast_free(r->fast);
+    r->fast = NULL;
+    r->declined = 1;
+    if (r->fp) {
+        if (fseek(r->fp, r->fp_start, SEEK_SET) != 0) {
+            fail(r, 0, 0, "cannot read the file again from its start%s%s", "", "");
+            return 0;
+        }
+        clearerr(r->fp);
+        yaml_parser_set_input_file(&r->parser, r->fp);
+    } else {
+        yaml_parser_set_input_string(&r->parser, (const unsigned char *)r->text, r->len);
+    }
+    while (n < r->nfast) {
+        if (!yaml_parser_parse(&r->parser, &r->ev)) {
+            if (r->parser.error == YAML_MEMORY_ERROR)
+                r->nomem = r->failed = 1;
+            else
+                mismatch(r);
+            return 0;
+        }
+        if (r->ev.type != YAML_STREAM_START_EVENT) {
+            const yaml_mark_t *m = &r->ev.start_mark;
+            int scalar = r->ev.type == YAML_SCALAR_EVENT;
+            h = hash_event(h, event_kind(&r->ev), m->line, m->column,
+                           scalar ? (const char *)r->ev.data.scalar.value : "",
+                           scalar ? r->ev.data.scalar.length : 0);
+            n++;
+        }
+        yaml_event_delete(&r->ev);
+    }
+    if (h != r->hash) {
+        mismatch(r);
+        return 0;
+    }
+    return 1;
+}
+
+/* The next event from the fast scanner; 0 when it declined (or failed). */
+static int fast_next(kl_yreader *r)
+{
+    kl_yfast_event *e = &r->fev;
+    int k = kl_yfast_next(r->fast, e);
+    if (k < 0) {
+        r->nomem = r->failed = 1;
+        return 0;
+    }
+    if (k == 0)
+        return 0;
+    r->have_ev = 1;
+    r->hash = hash_event(r->hash, e->kind, e->line, e->col, e->text, e->len);
+    r->nfast++;
+    r->last_line = (int)e->line + 1;
+    r->last_col = (int)e->col + 1;
+    return 1;
+}
+
 kl_yev kl_yreader_peek(kl_yreader *r)
 {
     for (;;) {
         if (r->failed)
             return KL_YEV_ERROR;
+        if (!r->have_ev && r->fast) {
+            if (fast_next(r))
+                return (kl_yev)r->fev.kind;
+            if (r->failed || !switch_to_libyaml(r))
+                return KL_YEV_ERROR;
+        }
+        if (r->have_ev && r->fast)
+            return (kl_yev)r->fev.kind;
         if (!r->have_ev) {
             if (!yaml_parser_parse(&r->parser, &r->ev)) {
                 syntax_error(r);
@@ -143,20 +294,47 @@ kl_yev kl_yreader_peek(kl_yreader *r)
 void kl_yreader_consume(kl_yreader *r)
 {
     if (r->have_ev) {
-        yaml_event_delete(&r->ev);
+        if (!r->fast)
+            yaml_event_delete(&r->ev);
         r->have_ev = 0;
     }
 }
 
 void kl_yreader_mark(const kl_yreader *r, int *line, int *col)
 {
-    if (r->have_ev) {
+    if (r->have_ev && r->fast) {
+        *line = (int)r->fev.line + 1;
+        *col = (int)r->fev.col + 1;
+    } else if (r->have_ev) {
         *line = (int)r->ev.start_mark.line + 1;
         *col = (int)r->ev.start_mark.column + 1;
+    } else if (r->fast) {
+        *line = r->last_line;
+        *col = r->last_col;
     } else {
         *line = (int)r->parser.mark.line + 1;
         *col = (int)r->parser.mark.column + 1;
     }
+}
+
+const char *kl_yreader_text(const kl_yreader *r, size_t *len)
+{
+    *len = 0;
+    if (!r->have_ev)
+        return "";
+    if (r->fast) {
+        *len = r->fev.kind == KL_YEV_SCALAR ? r->fev.len : 0;
+        return *len ? r->fev.text : "";
+    }
+    if (r->ev.type != YAML_SCALAR_EVENT)
+        return "";
+    *len = r->ev.data.scalar.length;
+    return (const char *)r->ev.data.scalar.value;
+}
+
+int kl_yreader_declined(const kl_yreader *r)
+{
+    return r->declined;
 }
 
 int kl_yreader_nomem(const kl_yreader *r)
@@ -204,7 +382,8 @@ static int new_node(kl_yreader *r, int kind)
 
 static int store_text(kl_yreader *r, int node)
 {
-    size_t len = r->ev.data.scalar.length;
+    size_t len;
+    const char *text = kl_yreader_text(r, &len);
     if (len >= MAX_TEXT || r->ntext + len + 1 > MAX_TEXT) {
         fail(r, r->pool.nodes[node].line, r->pool.nodes[node].col,
              "scalar text too long (over 64 MiB in one element)%s%s", "", "");
@@ -223,7 +402,7 @@ static int store_text(kl_yreader *r, int node)
         r->pool.text = p;
         r->captext = cap;
     }
-    memcpy(r->pool.text + r->ntext, r->ev.data.scalar.value, len);
+    memcpy(r->pool.text + r->ntext, text, len);
     r->pool.text[r->ntext + len] = '\0';
     r->pool.nodes[node].text = (int)r->ntext;
     r->pool.nodes[node].len = (int)len;

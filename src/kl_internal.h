@@ -192,6 +192,31 @@ int kl_yreader_tree(kl_yreader *r);
 /* Consumes the next complete value without storing it; -1 on error. */
 int kl_yreader_skip(kl_yreader *r);
 void kl_yreader_reset(kl_yreader *r); /* empties the node pool */
+/* The peeked event's scalar bytes (len set; "" for other events).  For
+ * tests of the reader: the loader reads values through the node pool. */
+const char *kl_yreader_text(const kl_yreader *r, size_t *len);
+/* 1 once the reader has handed the input over to libyaml (see yaml_fast.c). */
+int kl_yreader_declined(const kl_yreader *r);
+/* kl_yreader_new_file with a given window for the fast scanner (tests use a
+ * small one to exercise the window's moves). */
+kl_yreader *kl_yreader_new_file_window(void *fp, const char *file, kl_errors *err, size_t window);
+
+/* yaml_fast.c: the scanner for the YAML subset of feeder files.  It yields
+ * the events libyaml would, or declines (returns 0) from some point on, and
+ * never reports an error itself. */
+typedef struct kl_yfast kl_yfast;
+typedef struct {
+    int kind;          /* kl_yev */
+    size_t line, col;  /* 0-based start mark, as libyaml's */
+    const char *text;  /* scalar bytes, valid until the next call */
+    size_t len;
+} kl_yfast_event;
+#define KL_YFAST_WINDOW ((size_t)1 << 20) /* bytes of file input held at once */
+/* Reads from fp (a FILE *, with a window of `window` bytes) or, when fp is
+ * NULL, from text[0 .. len).  NULL when out of memory. */
+kl_yfast *kl_yfast_new(void *fp, const char *text, size_t len, size_t window);
+int kl_yfast_next(kl_yfast *s, kl_yfast_event *ev); /* 1: an event; 0: declined; -1: out of memory */
+void kl_yfast_free(kl_yfast *s);
 /* The node pool is the reader's first member, so that these two, called for
  * every key and value the loader reads, are inlined (C11 6.7.2.1p15: a
  * pointer to a structure points to its first member). */
