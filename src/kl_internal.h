@@ -153,6 +153,8 @@ int kl_names_find(const kl_names *t, const char *s, size_t len);
 /* Adds name -> index; `name` must be element index's name (an arena
  * string).  The caller checks for duplicates with kl_names_find first. */
 kl_status kl_names_add(kl_names *t, const char *name, int index);
+/* A hint: the slot of s[0..len) is about to be looked up. */
+void kl_names_prefetch(const kl_names *t, const char *s, size_t len);
 /* The name held in slot i (0 <= i < cap), NULL for an empty slot. */
 const char *kl_names_slot_name(const kl_names *t, unsigned i);
 
@@ -309,6 +311,7 @@ int kl_ld_enum(kl_loader *L, const kl_fields *fl, int k, const char *const *name
 int kl_ld_phases(kl_loader *L, int node, const char *key);
 int kl_ld_node(kl_loader *L, const kl_fields *fl, int k, int kind, int flags);
 int kl_ld_suggest(const char *word, const char *const *names, int n);
+void kl_ld_prefetch(kl_loader *L, const kl_fields *fl, int k, const kl_names *t);
 void kl_ld_ref(kl_loader *L, int what, int elem, const char *name, int node, int *target,
                const kl_names *table);
 

@@ -69,6 +69,14 @@ int kl_names_find(const kl_names *t, const char *s, size_t len)
     return -1;
 }
 
+/* Starts reading the slot where s[0..len) would be, so that the cache misses
+ * of an element's several look-ups overlap instead of following each other. */
+void kl_names_prefetch(const kl_names *t, const char *s, size_t len)
+{
+    if (t->cap)
+        __builtin_prefetch(&t->slots[name_hash(s, len) & (t->cap - 1)]);
+}
+
 static void put(kl_name_slot *slots, unsigned cap, kl_name_slot v)
 {
     unsigned i = v.hash & (cap - 1);
