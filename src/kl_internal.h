@@ -129,6 +129,9 @@ size_t kl_arena_bytes(const kl_arena *a);
 /* prefault.c: maps the whole pages of [p, p + n) for writing in one call
  * (a hint: ignored where the system does not offer it). */
 void kl_prefault(void *p, size_t n);
+/* Asks for transparent huge pages on the 2 MiB pages inside [p, p + n)
+ * (a hint, for large arrays read in random order). */
+void kl_hugepage(void *p, size_t n);
 
 typedef struct {
     unsigned hash; /* FNV-1a of the name */

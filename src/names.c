@@ -93,6 +93,7 @@ static kl_status rehash(kl_names *t)
         return KL_ENOMEM;
     /* re-inserting the old entries fills a quarter of the new table, which
      * writes to every page of it: map them in one call (prefault.c) */
+    kl_hugepage(s, (size_t)cap * sizeof *s);
     kl_prefault(s, (size_t)cap * sizeof *s);
     for (i = 0; i < t->cap; i++)
         if (t->slots[i].ref)
