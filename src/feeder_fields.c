@@ -173,17 +173,24 @@ static void unknown_key(kl_loader *L, int key, const char *const *keys, const ch
     kl_ld_error(L, key, "unknown key '%s' in %s: the keys known here are %s", k, what, list);
 }
 
-/* Position of the key text t (len bytes) in keys, or -1.  The first byte is
- * compared before strcmp: key dispatch runs for every key of every element,
- * and most candidates differ there. */
+/* Position of the key text t (len bytes) in keys, or -1: strcmp's equality,
+ * written out, since key dispatch runs for every key of every element and
+ * most candidates differ in the first byte (a call to strcmp for the few
+ * that do not cost more than the comparison of a short key). */
 static int key_index(const char *const *keys, const char *t, int len)
 {
-    int i;
+    int i, j;
     if (len == 0)
         return -1;
-    for (i = 0; keys[i]; i++)
-        if (keys[i][0] == t[0] && strcmp(keys[i], t) == 0)
+    for (i = 0; keys[i]; i++) {
+        const char *k = keys[i];
+        if (k[0] != t[0])
+            continue;
+        for (j = 1; k[j] && k[j] == t[j]; j++)
+            ;
+        if (k[j] == t[j])
             return i;
+    }
     return -1;
 }
 
