@@ -59,16 +59,20 @@ static int *ref_target(kl_loader *L, const kl_pending_ref *p, const kl_names **t
     }
 }
 
-/* The closest known name, when the table is small enough to scan. */
-static const char *closest(const kl_names *t, const char *name)
+/* The closest known name, when the table is small enough to scan; the
+ * shortest of equally close ones, the first in kl_names_scan_order's order. */
+static const char *closest(kl_loader *L, const kl_names *t, const char *name)
 {
     const char *best = NULL;
-    unsigned i;
+    int order[2000], n, i;
     if (t->count > 2000)
         return NULL;
-    for (i = 0; i < t->cap; i++) {
-        const char *cand[2] = {kl_names_slot_name(t, i), NULL};
-        if (cand[0] && kl_ld_suggest(name, cand, 1) == 0)
+    n = kl_names_scan_order(t, order);
+    if (n < 0)
+        L->nomem = 1;
+    for (i = 0; i < n; i++) {
+        const char *cand[2] = {kl_names_name(t, order[i]), NULL};
+        if (kl_ld_suggest(name, cand, 1) == 0)
             if (!best || strlen(cand[0]) < strlen(best))
                 best = cand[0];
     }
@@ -86,7 +90,7 @@ static void resolve_one(kl_loader *L, const kl_pending_ref *p)
     *target = i;
     if (i >= 0)
         return;
-    near = closest(t, p->name);
+    near = closest(L, t, p->name);
     if (near)
         kl_ld_error_at(L, p->loc.line, p->loc.col, "unknown %s '%s': did you mean '%s'?",
                        infos[p->what].kind, p->name, near);

@@ -158,6 +158,11 @@ int kl_names_find(const kl_names *t, const char *s, size_t len);
 kl_status kl_names_add(kl_names *t, const char *name, int index);
 /* A hint: the slot of s[0..len) is about to be looked up. */
 void kl_names_prefetch(const kl_names *t, const char *s, size_t len);
+/* The element indices of the table's count names into order[count], in a
+ * fixed order independent of the hash (names.c); count, or -1 when out of
+ * memory. */
+int kl_names_scan_order(const kl_names *t, int *order);
+const char *kl_names_name(const kl_names *t, int index); /* element index's name */
 /* The name held in slot i (0 <= i < cap), NULL for an empty slot. */
 const char *kl_names_slot_name(const kl_names *t, unsigned i);
 

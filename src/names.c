@@ -1,4 +1,5 @@
-/* kilter: name -> index table (open addressing, linear probing, FNV-1a hash).
+/* kilter: name -> index table (open addressing, linear probing; FNV-1a hash,
+ * numbered names kept together, see name_hash).
  *
  * Looking a bus up by name is the loader's hot path on a million-bus file,
  * and at that size every probe of a random slot is a cache miss.  A slot is
@@ -7,18 +8,54 @@
  * always stops at the hash, and the name itself is read (from the element,
  * whose first member it is) only to confirm a hash that matches.  The table
  * stays at most half full so that a probe sequence stays short. */
+#include <stdlib.h>
 #include <string.h>
 #include "kl_internal.h"
 
-static unsigned name_hash(const char *s, size_t len)
+static unsigned fnv1a(const char *s, size_t len)
 {
-    unsigned h = 2166136261u; /* FNV-1a, 32 bit */
+    unsigned h = 2166136261u; /* FNV-1a, 32 bit (Fowler, Noll, Vo) */
     size_t i;
     for (i = 0; i < len; i++) {
         h ^= (unsigned char)s[i];
         h *= 16777619u;
     }
     return h;
+}
+
+/* MurmurHash3's 32-bit finalizer (Appleby, public domain): every input bit
+ * moves every output bit. */
+static unsigned fmix32(unsigned h)
+{
+    h ^= h >> 16;
+    h *= 0x85ebca6bu;
+    h ^= h >> 13;
+    h *= 0xc2b2ae35u;
+    h ^= h >> 16;
+    return h;
+}
+
+/* Names are mostly a stem and a number ("b1041", "ld17", "n_2203"), and files
+ * mostly name their elements in runs of consecutive numbers.  Hashed whole,
+ * each of those names lands on a random slot: a cache and TLB miss per
+ * look-up at a million names.  So a trailing number n (up to 9 digits) keeps
+ * its low 4 bits as the low bits of the hash: names n = 16k .. 16k + 15 of a
+ * stem sit in 16 neighbouring slots (two cache lines), and the runs of 16
+ * are scattered by fmix32 over the stem's hash and k.  Names without a
+ * trailing number are hashed with FNV-1a alone.  ("b1" and "b01" share a
+ * hash; the look-up compares the names.) */
+static unsigned name_hash(const char *s, size_t len)
+{
+    size_t stem = len, i;
+    unsigned n = 0, h;
+    while (stem > 0 && len - stem < 9 && s[stem - 1] >= '0' && s[stem - 1] <= '9')
+        stem--;
+    h = fnv1a(s, stem);
+    if (stem == len)
+        return h;
+    for (i = stem; i < len; i++)
+        n = n * 10 + (unsigned)(s[i] - '0');
+    return (fmix32(h + (n >> 4)) & ~15u) | (n & 15u);
 }
 
 void kl_names_init(kl_names *t, void *const *elems, size_t stride)
@@ -44,6 +81,11 @@ static const char *name_of(const kl_names *t, int index)
     const char *const *p = (const char *const *)(const void *)((const char *)*t->elems +
                                                                (size_t)index * t->stride);
     return *p;
+}
+
+const char *kl_names_name(const kl_names *t, int index)
+{
+    return name_of(t, index);
 }
 
 const char *kl_names_slot_name(const kl_names *t, unsigned i)
@@ -114,4 +156,63 @@ kl_status kl_names_add(kl_names *t, const char *name, int index)
     put(t->slots, t->cap, v);
     t->count++;
     return KL_OK;
+}
+
+static int cmp_int(const void *a, const void *b)
+{
+    int x = *(const int *)a, y = *(const int *)b;
+    return (x > y) - (x < y);
+}
+
+/* Slot order of a table keyed by FNV-1a of the whole name and filled in
+ * index order, the layout the table had before numbered names were kept
+ * together: a caller that scans the names and keeps the first of equally
+ * good candidates (the suggestion for a misspelt name) gives the answer it
+ * always gave.  Small tables only (the caller scans them whole). */
+int kl_names_scan_order(const kl_names *t, int *order)
+{
+    unsigned cap = 0, i, k, n = 0, *hash = NULL;
+    int *ref = NULL, m = 0;
+    for (i = 0; i < t->cap; i++)
+        if (t->slots[i].ref)
+            order[m++] = t->slots[i].ref - 1;
+    qsort(order, (size_t)m, sizeof *order, cmp_int);
+    for (k = 0; k < (unsigned)m; k++, n++) {
+        const char *name = name_of(t, order[k]);
+        unsigned h = fnv1a(name, strlen(name));
+        if ((n + 1) * 2 > cap) {
+            unsigned nc = cap ? cap * 2 : 64, *nh = kl_calloc(nc, sizeof *nh);
+            int *nr = kl_calloc(nc, sizeof *nr);
+            if (!nh || !nr) {
+                kl_free(nh);
+                kl_free(nr);
+                m = -1;
+                goto done;
+            }
+            for (i = 0; i < cap; i++) /* re-inserted in slot order, as rehash does */
+                if (ref[i]) {
+                    unsigned j = hash[i] & (nc - 1);
+                    while (nr[j])
+                        j = (j + 1) & (nc - 1);
+                    nr[j] = ref[i];
+                    nh[j] = hash[i];
+                }
+            kl_free(hash);
+            kl_free(ref);
+            hash = nh;
+            ref = nr;
+            cap = nc;
+        }
+        for (i = h & (cap - 1); ref[i]; i = (i + 1) & (cap - 1))
+            ;
+        ref[i] = order[k] + 1;
+        hash[i] = h;
+    }
+    for (i = 0, k = 0; i < cap; i++)
+        if (ref[i])
+            order[k++] = ref[i] - 1;
+done:
+    kl_free(hash);
+    kl_free(ref);
+    return m;
 }

@@ -99,26 +99,77 @@ START_TEST(names_at_scale)
 }
 END_TEST
 
-/* "n12" and "n12oy6i58" have the same 32-bit FNV-1a hash, 0xd2c9a2b6 (FNV-1a
- * as published by Fowler, Noll and Vo: offset basis 2166136261, prime
- * 16777619; the pair was found by a meet-in-the-middle search over the
- * inverse of the byte step).  A look-up must still tell a name from a longer
- * one it begins, and from another of the same hash. */
+/* Names of the same hash.  "nq" and "nqvihvwbf" have the same 32-bit FNV-1a
+ * hash, 0x443640c0 (FNV-1a as published by Fowler, Noll and Vo: offset basis
+ * 2166136261, prime 16777619; the pair was found by a meet-in-the-middle
+ * search over the inverse of the byte step), and names.c hashes a name
+ * without a trailing number with FNV-1a.  "b1", "b01" and "b001" share a hash
+ * by design (stem "b", number 1).  A look-up must still tell a name from a
+ * longer one it begins, and from another of the same hash. */
 START_TEST(names_same_hash)
 {
-    elem e[3] = {{"n12oy6i58", {0}}, {"n12", {0}}, {"n12oy6i5", {0}}};
+    elem e[6] = {{"nqvihvwbf", {0}}, {"nq", {0}}, {"nqvihvwb", {0}},
+                 {"b01", {0}}, {"b1", {0}}, {"b001", {0}}};
     elem *p = e;
     kl_names t;
     kl_names_init(&t, (void *const *)&p, sizeof *p);
     ck_assert_int_eq(kl_names_add(&t, e[0].name, 0), KL_OK);
-    ck_assert_int_eq(kl_names_find(&t, "n12", 3), -1);
-    ck_assert_int_eq(kl_names_find(&t, "n12oy6i58x", 9), 0); /* len bytes only */
+    ck_assert_int_eq(kl_names_find(&t, "nq", 2), -1);
+    ck_assert_int_eq(kl_names_find(&t, "nqvihvwbfx", 9), 0); /* len bytes only */
     ck_assert_int_eq(kl_names_add(&t, e[1].name, 1), KL_OK);
-    ck_assert_int_eq(kl_names_find(&t, "n12", 3), 1);
-    ck_assert_int_eq(kl_names_find(&t, "n12oy6i58", 9), 0);
-    ck_assert_int_eq(kl_names_find(&t, "n12oy6i5", 8), -1);
+    ck_assert_int_eq(kl_names_find(&t, "nq", 2), 1);
+    ck_assert_int_eq(kl_names_find(&t, "nqvihvwbf", 9), 0);
+    ck_assert_int_eq(kl_names_find(&t, "nqvihvwb", 8), -1);
     ck_assert_int_eq(kl_names_add(&t, e[2].name, 2), KL_OK);
-    ck_assert_int_eq(kl_names_find(&t, "n12oy6i5", 8), 2);
+    ck_assert_int_eq(kl_names_find(&t, "nqvihvwb", 8), 2);
+    ck_assert_int_eq(kl_names_add(&t, e[3].name, 3), KL_OK);
+    ck_assert_int_eq(kl_names_find(&t, "b1", 2), -1);
+    ck_assert_int_eq(kl_names_find(&t, "b01", 3), 3);
+    ck_assert_int_eq(kl_names_add(&t, e[4].name, 4), KL_OK);
+    ck_assert_int_eq(kl_names_find(&t, "b001", 4), -1);
+    ck_assert_int_eq(kl_names_add(&t, e[5].name, 5), KL_OK);
+    ck_assert_int_eq(kl_names_find(&t, "b1", 2), 4);
+    ck_assert_int_eq(kl_names_find(&t, "b01", 3), 3);
+    ck_assert_int_eq(kl_names_find(&t, "b001", 4), 5);
+    ck_assert_int_eq(kl_names_find(&t, "b0001", 5), -1);
+    kl_names_free(&t);
+}
+END_TEST
+
+/* Numbered names 16k .. 16k + 15 of one stem take 16 neighbouring slots
+ * (what makes look-ups of consecutive names hit the cache), and a scan in
+ * kl_names_scan_order's order visits every name once. */
+START_TEST(names_numbered_runs)
+{
+    enum { N = 64 };
+    elem e[N];
+    char text[N][16];
+    int order[N], seen[N] = {0}, i, k, n;
+    elem *p = e;
+    kl_names t;
+    unsigned s, first = 0;
+    kl_names_init(&t, (void *const *)&p, sizeof *p);
+    for (i = 0; i < 16; i++) {
+        snprintf(text[i], sizeof text[i], "lat%d", 32 + i);
+        e[i].name = text[i];
+        ck_assert_int_eq(kl_names_add(&t, e[i].name, i), KL_OK);
+    }
+    for (s = 0; s < t.cap; s++)
+        if (kl_names_slot_name(&t, s) && strcmp(kl_names_slot_name(&t, s), "lat32") == 0)
+            first = s;
+    for (i = 0; i < 16; i++)
+        ck_assert_str_eq(kl_names_slot_name(&t, (first + (unsigned)i) & (t.cap - 1)), text[i]);
+    for (; i < N; i++) {
+        snprintf(text[i], sizeof text[i], i % 2 ? "x%dq" : "%d", i * 37);
+        e[i].name = text[i];
+        ck_assert_int_eq(kl_names_add(&t, e[i].name, i), KL_OK);
+    }
+    n = kl_names_scan_order(&t, order);
+    ck_assert_int_eq(n, N);
+    for (k = 0; k < n; k++) {
+        ck_assert(order[k] >= 0 && order[k] < N);
+        ck_assert_int_eq(seen[order[k]]++, 0);
+    }
     kl_names_free(&t);
 }
 END_TEST
@@ -261,6 +312,7 @@ int main(void)
     int nf;
     tcase_set_timeout(tc, 120);
     tcase_add_test(tc, names_same_hash);
+    tcase_add_test(tc, names_numbered_runs);
     tcase_add_test(tc, names_at_scale);
     tcase_add_test(tc, feeder_at_scale);
     suite_add_tcase(s, tc);
