@@ -421,18 +421,6 @@ int kl_ld_phases(kl_loader *L, int node, const char *key)
     return mask;
 }
 
-/* A hint before an element's look-ups: the table slot of the name in field
- * k starts loading (names.c), so that the element's misses overlap. */
-void kl_ld_prefetch(kl_loader *L, const kl_fields *fl, int k, const kl_names *t)
-{
-    const kl_ynode *n;
-    if (fl->val[k] < 0)
-        return;
-    n = kl_ynode_at(L->r, fl->val[k]);
-    if (n->kind == KL_YSCALAR)
-        kl_names_prefetch(t, kl_ynode_text(L->r, fl->val[k]), (size_t)n->len);
-}
-
 /* Looks name up now; when it is not (yet) known, remembers it for the end of
  * the file, since elements may refer to others written further down. */
 void kl_ld_ref(kl_loader *L, int what, int elem, const char *name, int node, int *target,

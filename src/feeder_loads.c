@@ -146,8 +146,6 @@ void kl_ld_load(kl_loader *L, int map)
     kl_ld_label(L, "load", NULL, i);
     if (kl_ld_fields(L, map, load_keys, &fl, "a load") < 0)
         return;
-    kl_ld_prefetch(L, &fl, LO_NAME, &L->h_load);
-    kl_ld_prefetch(L, &fl, LO_BUS, &L->h_bus);
     d->name = elem_name(L, &fl, "load", i, &L->h_load);
     load_place(L, d, &fl, i);
     d->conn = (kl_connection)(kl_ld_enum(L, &fl, LO_CONN, connections, 0) + 1);

@@ -295,9 +295,6 @@ void kl_ld_section(kl_loader *L, int map)
     kl_ld_label(L, "section", NULL, i);
     if (kl_ld_fields(L, map, section_keys, &fl, "a section") < 0)
         return;
-    kl_ld_prefetch(L, &fl, SE_NAME, &L->h_sec);
-    kl_ld_prefetch(L, &fl, SE_FROM, &L->h_bus);
-    kl_ld_prefetch(L, &fl, SE_TO, &L->h_bus);
     s->name = section_name(L, &fl, i);
     if (kl_ld_node(L, &fl, SE_FROM, 0, KL_F_REQ) >= 0)
         s->from = kl_ld_bus_ref(L, fl.val[SE_FROM], "from");

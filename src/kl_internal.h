@@ -156,8 +156,6 @@ int kl_names_find(const kl_names *t, const char *s, size_t len);
 /* Adds name -> index; `name` must be element index's name (an arena
  * string).  The caller checks for duplicates with kl_names_find first. */
 kl_status kl_names_add(kl_names *t, const char *name, int index);
-/* A hint: the slot of s[0..len) is about to be looked up. */
-void kl_names_prefetch(const kl_names *t, const char *s, size_t len);
 /* The element indices of the table's count names into order[count], in a
  * fixed order independent of the hash (names.c); count, or -1 when out of
  * memory. */
@@ -319,7 +317,6 @@ int kl_ld_enum(kl_loader *L, const kl_fields *fl, int k, const char *const *name
 int kl_ld_phases(kl_loader *L, int node, const char *key);
 int kl_ld_node(kl_loader *L, const kl_fields *fl, int k, int kind, int flags);
 int kl_ld_suggest(const char *word, const char *const *names, int n);
-void kl_ld_prefetch(kl_loader *L, const kl_fields *fl, int k, const kl_names *t);
 void kl_ld_ref(kl_loader *L, int what, int elem, const char *name, int node, int *target,
                const kl_names *table);
 

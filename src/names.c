@@ -38,24 +38,33 @@ static unsigned fmix32(unsigned h)
 /* Names are mostly a stem and a number ("b1041", "ld17", "n_2203"), and files
  * mostly name their elements in runs of consecutive numbers.  Hashed whole,
  * each of those names lands on a random slot: a cache and TLB miss per
- * look-up at a million names.  So a trailing number n (up to 9 digits) keeps
+ * look-up at a million names.  So a trailing number n of 1 to 9 digits keeps
  * its low 4 bits as the low bits of the hash: names n = 16k .. 16k + 15 of a
  * stem sit in 16 neighbouring slots (two cache lines), and the runs of 16
- * are scattered by fmix32 over the stem's hash and k.  Names without a
- * trailing number are hashed with FNV-1a alone.  ("b1" and "b01" share a
- * hash; the look-up compares the names.) */
+ * are scattered by fmix32 over the stem's FNV-1a hash and k.  Other names
+ * are hashed with FNV-1a alone.  ("b1" and "b01" share a hash; the look-up
+ * compares the names.)  One pass: h is FNV-1a of the text so far, hs of the
+ * text before the current run of digits. */
 static unsigned name_hash(const char *s, size_t len)
 {
-    size_t stem = len, i;
-    unsigned n = 0, h;
-    while (stem > 0 && len - stem < 9 && s[stem - 1] >= '0' && s[stem - 1] <= '9')
-        stem--;
-    h = fnv1a(s, stem);
-    if (stem == len)
+    unsigned h = 2166136261u, hs = h, n = 0, nd = 0;
+    size_t i;
+    for (i = 0; i < len; i++) {
+        unsigned c = (unsigned char)s[i], d = c - '0';
+        if (d <= 9) {
+            if (!nd)
+                hs = h;
+            n = n * 10 + d;
+            nd++;
+        } else {
+            nd = 0;
+            n = 0;
+        }
+        h = (h ^ c) * 16777619u;
+    }
+    if (nd == 0 || nd > 9)
         return h;
-    for (i = stem; i < len; i++)
-        n = n * 10 + (unsigned)(s[i] - '0');
-    return (fmix32(h + (n >> 4)) & ~15u) | (n & 15u);
+    return (fmix32(hs + (n >> 4)) & ~15u) | (n & 15u);
 }
 
 void kl_names_init(kl_names *t, void *const *elems, size_t stride)
@@ -109,14 +118,6 @@ int kl_names_find(const kl_names *t, const char *s, size_t len)
             return sl->ref - 1;
     }
     return -1;
-}
-
-/* Starts reading the slot where s[0..len) would be, so that the cache misses
- * of an element's several look-ups overlap instead of following each other. */
-void kl_names_prefetch(const kl_names *t, const char *s, size_t len)
-{
-    if (t->cap)
-        __builtin_prefetch(&t->slots[name_hash(s, len) & (t->cap - 1)]);
 }
 
 static void put(kl_name_slot *slots, unsigned cap, kl_name_slot v)
