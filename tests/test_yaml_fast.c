@@ -363,10 +363,14 @@ END_TEST
  * replayed through libyaml and the stream carries on as libyaml's. */
 START_TEST(late_decline)
 {
-    static const char *const tails[] = {"extra: &a 1\n", "extra: [1, 2\n", "extra: |+\n  x\n\n", "extra: \xc3\xa9\n"};
+    /* an anchor, a syntax error, a block scalar outside the subset,
+     * non-ASCII text, and bytes libyaml's reader refuses (a control
+     * character, a broken UTF-8 sequence) that it sees up to 16 KiB early */
+    static const char *const tails[] = {"extra: &a 1\n", "extra: [1, 2\n", "extra: |+\n  x\n\n",
+                                        "extra: \xc3\xa9\n", "# \x01\n", "extra: \xc3(\n"};
     size_t len, i;
     char *t = synth(2000, &len);
-    for (i = 0; i < 4; i++) {
+    for (i = 0; i < sizeof tails / sizeof tails[0]; i++) {
         size_t k = strlen(tails[i]);
         char *u = malloc(len + k);
         ck_assert_ptr_nonnull(u);
@@ -377,6 +381,34 @@ START_TEST(late_decline)
         free(u);
     }
     free(t);
+}
+END_TEST
+
+/* Limits of the subset, where the scanner must decline or agree exactly:
+ * libyaml forgets a possible simple key 1024 characters after its start
+ * (scanner.c, yaml_parser_stale_simple_keys), in block and flow context;
+ * lines near and over the scanner's window. */
+START_TEST(edges_as_libyaml)
+{
+    static const int lengths[] = {990, 999, 1000, 1001, 1010, 1022, 1023, 1024, 1025, 1030, 5000};
+    char *buf = malloc(300000);
+    size_t i, n;
+    ck_assert_ptr_nonnull(buf);
+    for (i = 0; i < sizeof lengths / sizeof lengths[0]; i++) {
+        int k = lengths[i];
+        n = (size_t)sprintf(buf, "a: 1\n%0*d: 2\nb: {%0*d: 3, c: 4}\n", k, 7, k, 8);
+        check_text(buf, n, 0, "long keys");
+        n = (size_t)sprintf(buf, "a: 1\nb: [x, %0*d]\n\"%0*d\": 5\n", k, 9, k, 6);
+        check_text(buf, n, 0, "long flow item and quoted key");
+    }
+    /* one line longer than the small window, between ordinary ones */
+    n = (size_t)sprintf(buf, "a: 1\nb: ");
+    memset(buf + n, 'x', 200000);
+    n += 200000;
+    n += (size_t)sprintf(buf + n, "\nc: 2\n");
+    ck_assert(check_text(buf, n, SMALL_WINDOW, "long line, small window"));
+    ck_assert(!check_text(buf, n, KL_YFAST_WINDOW, "long line"));
+    free(buf);
 }
 END_TEST
 
@@ -568,6 +600,7 @@ static Suite *suite(void)
     tcase_add_test(tc, fast_path_on_feeders);
     tcase_add_test(tc, declines_outside_the_subset);
     tcase_add_test(tc, late_decline);
+    tcase_add_test(tc, edges_as_libyaml);
     tcase_add_test(tc, mutations_as_libyaml);
     tcase_add_test(tc, mutations_in_a_moving_window);
     tcase_add_test(tc, allocation_failures_fast_path);
