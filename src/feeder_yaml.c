@@ -73,6 +73,7 @@ kl_yreader *kl_yreader_new_file_window(void *fp, const char *file, kl_errors *er
      * fast scanner: a decline has to give libyaml the whole input. */
     if (r->fp_start < 0 || fseek(fp, r->fp_start, SEEK_SET) != 0) {
         yaml_parser_set_input_file(&r->parser, fp);
+        r->declined = 1;
         return r;
     }
     r->fast = kl_yfast_new(fp, NULL, 0, window);
@@ -171,22 +172,39 @@ static uint64_t mix(uint64_t h, uint64_t w)
     return h ^ (h >> 29);
 }
 
-static uint64_t hash_event(uint64_t h, int kind, size_t line, size_t col, const char *text, size_t len)
+/* Leading bytes kept by each mask, in memory order (so the hash does not
+ * depend on the byte order of the machine). */
+static const unsigned char TAIL_MASK[8][8] = {
+    {0}, {0xff}, {0xff, 0xff}, {0xff, 0xff, 0xff}, {0xff, 0xff, 0xff, 0xff},
+    {0xff, 0xff, 0xff, 0xff, 0xff}, {0xff, 0xff, 0xff, 0xff, 0xff, 0xff},
+    {0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff}};
+
+/* The event's kind, mark and length in one word (overlapping bits only make
+ * very large values weaker checks), then its text 8 bytes at a time; the
+ * last word holds the remaining bytes and zeros.  `padded`: text may be
+ * read up to 8 bytes past its end (the fast scanner's store guarantees it),
+ * so the last word is one load and a mask, not a copy of variable length. */
+static uint64_t hash_event(uint64_t h, int kind, size_t line, size_t col, const char *text, size_t len,
+                           int padded)
 {
-    uint64_t w;
-    h = mix(h, (uint64_t)line);
-    h = mix(h, ((uint64_t)col << 8) | (uint64_t)kind);
-    h = mix(h, (uint64_t)len);
+    uint64_t w, m;
+    h = mix(h, (uint64_t)line ^ ((uint64_t)col << 32) ^ ((uint64_t)len << 44) ^ ((uint64_t)kind << 60));
     for (; len >= 8; len -= 8, text += 8) {
         memcpy(&w, text, 8);
         h = mix(h, w);
     }
-    if (len) {
-        w = 0;
-        memcpy(&w, text, len);
-        h = mix(h, w);
+    if (!len)
+        return h;
+    if (padded) {
+        memcpy(&w, text, 8);
+        memcpy(&m, TAIL_MASK[len], 8);
+        w &= m;
+    } else {
+        unsigned char tail[8] = {0};
+        memcpy(tail, text, len);
+        memcpy(&w, tail, 8);
     }
-    return h;
+    return mix(h, w);
 }
 
 static void mismatch(kl_yreader *r)
@@ -228,7 +246,7 @@ static int switch_to_libyaml(kl_yreader *r)
             int scalar = r->ev.type == YAML_SCALAR_EVENT;
             h = hash_event(h, event_kind(&r->ev), m->line, m->column,
                            scalar ? (const char *)r->ev.data.scalar.value : "",
-                           scalar ? r->ev.data.scalar.length : 0);
+                           scalar ? r->ev.data.scalar.length : 0, 0);
             n++;
         }
         yaml_event_delete(&r->ev);
@@ -252,7 +270,7 @@ static int fast_next(kl_yreader *r)
     if (k == 0)
         return 0;
     r->have_ev = 1;
-    r->hash = hash_event(r->hash, e->kind, e->line, e->col, e->text, e->len);
+    r->hash = hash_event(r->hash, e->kind, e->line, e->col, e->text, e->len, 1);
     r->nfast++;
     r->last_line = (int)e->line + 1;
     r->last_col = (int)e->col + 1;

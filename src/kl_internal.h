@@ -203,7 +203,8 @@ void kl_yreader_reset(kl_yreader *r); /* empties the node pool */
 /* The peeked event's scalar bytes (len set; "" for other events).  For
  * tests of the reader: the loader reads values through the node pool. */
 const char *kl_yreader_text(const kl_yreader *r, size_t *len);
-/* 1 once the reader has handed the input over to libyaml (see yaml_fast.c). */
+/* 1 once libyaml reads the input: the fast scanner declined (see
+ * yaml_fast.c), or the input cannot be read again from its start. */
 int kl_yreader_declined(const kl_yreader *r);
 /* kl_yreader_new_file with a given window for the fast scanner (tests use a
  * small one to exercise the window's moves). */
@@ -216,7 +217,7 @@ typedef struct kl_yfast kl_yfast;
 typedef struct {
     int kind;          /* kl_yev */
     size_t line, col;  /* 0-based start mark, as libyaml's */
-    const char *text;  /* scalar bytes, valid until the next call */
+    const char *text;  /* scalar bytes, valid until the next call; 8 more may be read */
     size_t len;
 } kl_yfast_event;
 #define KL_YFAST_WINDOW ((size_t)1 << 20) /* bytes of file input held at once */

@@ -220,10 +220,10 @@ static int reserve(kl_yfast *s, size_t len)
         s->q = q;
         s->qcap = cap;
     }
-    if (s->tlen + len > s->tcap) {
+    if (s->tlen + len + 8 > s->tcap) {
         size_t cap = s->tcap ? s->tcap : 4096;
         char *t;
-        while (cap < s->tlen + len)
+        while (cap < s->tlen + len + 8) /* 8: texts may be read a word at a time */
             cap *= 2;
         t = kl_realloc(s->txt, cap);
         if (!t) {

@@ -412,6 +412,35 @@ START_TEST(edges_as_libyaml)
 }
 END_TEST
 
+/* A pipe cannot be read again from its start: libyaml reads it directly. */
+START_TEST(pipe_goes_to_libyaml)
+{
+    char cmd[1024];
+    size_t len;
+    char *t = slurp(KILTER_SOURCE_DIR "/feeders/reference/ieee-13-node.yaml", &len);
+    tstream want = {0}, got = {0};
+    kl_errors err;
+    kl_yreader *r;
+    FILE *fp;
+    snprintf(cmd, sizeof cmd, "cat '%s/feeders/reference/ieee-13-node.yaml'", KILTER_SOURCE_DIR);
+    fp = popen(cmd, "r");
+    ck_assert_ptr_nonnull(fp);
+    kl_errors_init(&err);
+    r = kl_yreader_new_file(fp, "pipe", &err);
+    ck_assert_ptr_nonnull(r);
+    ck_assert_msg(kl_yreader_declined(r), "a pipe was given to the fast scanner");
+    ref_stream(t, len, &want);
+    got_stream(r, &err, &got);
+    compare(&want, &got, "pipe");
+    kl_yreader_free(r);
+    pclose(fp);
+    kl_errors_free(&err);
+    ts_free(&want);
+    ts_free(&got);
+    free(t);
+}
+END_TEST
+
 /* ---- seeded mutations */
 
 static unsigned long rnd(unsigned long long *st)
@@ -601,6 +630,7 @@ static Suite *suite(void)
     tcase_add_test(tc, declines_outside_the_subset);
     tcase_add_test(tc, late_decline);
     tcase_add_test(tc, edges_as_libyaml);
+    tcase_add_test(tc, pipe_goes_to_libyaml);
     tcase_add_test(tc, mutations_as_libyaml);
     tcase_add_test(tc, mutations_in_a_moving_window);
     tcase_add_test(tc, allocation_failures_fast_path);
