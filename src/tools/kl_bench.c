@@ -2,8 +2,8 @@
  *
  *   kl_bench [--no-nodal] [--repeat R] FILE
  *
- * Stages: load (kl_feeder_load), derive (kl_lines_derive) + build
- * (kl_network_build), sweep solve (kl_sweep_solve at the file's taps, from
+ * Stages: load (kl_feeder_load), derive (kl_lines_derive), build
+ * (kl_network_build), result (kl_flow_result_alloc), sweep solve (kl_sweep_solve at the file's taps, from
  * a flat start), first nodal solve (kl_nodal_solve: numbering, assembly,
  * ordering, factorisation and iterations, from a flat start) and later nodal
  * solves (flat start again, the factors kept: iterations only).  With --repeat R the
@@ -11,7 +11,7 @@
  * page faults; sweep_first_s is that first run's time, what a user waits
  * for after the build).  Prints one line of key=value pairs for scripts/bench.sh,
  * with peak resident memory from getrusage (ru_maxrss, KiB on Linux), the
- * minor page faults of the build (with the result record) and the sweeps, and
+ * minor page faults of the build and the sweeps, and
  * the largest difference between the two solvers' voltages.
  *
  * Stage times are process CPU seconds (single-threaded: kilter and KLU use
@@ -152,11 +152,17 @@ int main(int argc, char **argv)
     double t_derive = now() - t0;
     t0 = now();
     long flt_load = minor_faults();
-    if (kl_network_build(f, &net, &err) || kl_flow_result_alloc(net, &res, &err)) {
+    if (kl_network_build(f, &net, &err)) {
         print_errors("network", &err);
         goto done;
     }
     double t_build = now() - t0;
+    t0 = now();
+    if (kl_flow_result_alloc(net, &res, &err)) {
+        print_errors("result", &err);
+        goto done;
+    }
+    double t_result = now() - t0;
     long rss_build = peak_kib();
     long flt_build = minor_faults();
     double t_sweep_first = 0;
@@ -189,12 +195,12 @@ int main(int argc, char **argv)
         }
     }
     long rss = peak_kib();
-    printf("buses=%d sections=%d file_bytes=%lld load_s=%.4f derive_s=%.4f build_s=%.4f "
+    printf("buses=%d sections=%d file_bytes=%lld load_s=%.4f derive_s=%.4f build_s=%.4f result_s=%.4f "
            "sweep_s=%.4f sweep_first_s=%.4f sweep_iter=%d nodal_first_s=%.4f nodal_s=%.4f nodal_iter=%d "
            "nodal_dv_pu=%.2e rss_load_kib=%ld rss_build_kib=%ld rss_sweep_kib=%ld "
            "rss_nodal_kib=%ld rss_peak_kib=%ld "
            "bytes_per_bus=%.0f faults_build=%ld faults_sweep=%ld wall_s=%.3f cpu_s=%.3f\n",
-           f->nbuses, f->nsections, (long long)sb.st_size, t_load, t_derive, t_build, t_sweep,
+           f->nbuses, f->nsections, (long long)sb.st_size, t_load, t_derive, t_build, t_result, t_sweep,
            t_sweep_first, it_sweep, t_nodal_first, t_nodal, it_nodal, dv, rss_load, rss_build, rss_sweep,
            rss_nodal, rss,
            1024.0 * (double)rss / f->nbuses, flt_build - flt_load, flt_sweep, wall() - w0,
