@@ -422,7 +422,7 @@ static void mat_relabel(kl_complex *m, int rr, int cc)
 
 static void branch_relabel(kl_network *n, int k, int rf, int rt)
 {
-    if (n->dev[k] >= 0) { /* a line keeps only zser and ysh (network.h) */
+    if (n->dev[k] >= 0) { /* a line keeps only its packed Z and Y (network.h) */
         size_t s = 9 * (size_t)n->dev[k];
         kl_complex *src_load[] = {n->a, n->b, n->c, n->d};
         for (int q = 0; q < 4; q++)

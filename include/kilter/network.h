@@ -128,8 +128,8 @@ typedef struct kl_network {
                             * phases s and (s+1)%3.  Identity (s = k) when built.
                             * After changing it, call kl_network_loads_moved. */
     /* The load model's working form (load_model.c): one record per energized
-     * entry of every network load (three for a ZIP entry: its Z, I and P
-     * parts), then one per capacitor entry, each in sweep-position order, so
+     * entry of every network load (a ZIP entry gives one per nonzero share
+     * of its Z, I and P parts), then one per capacitor entry, each in sweep-position order, so
      * the load pass reads the records and the bus arrays front to back.  The
      * slots p, q are copies of ld_slot, refreshed by kl_network_loads_moved. */
     int nparts, ncap_parts;/* load parts, then capacitor parts after them */
@@ -184,7 +184,7 @@ void kl_network_free(kl_network *net);
 /* Frees the nodal solver's matrix and factors (rebuilt on the next nodal solve). */
 void kl_network_nodal_reset(kl_network *net);
 
-/* Line branch k's generalized matrices from its zser and ysh (see the
+/* Line branch k's generalized matrices from its packed Z and Y (see the
  * layout above); any output may be NULL.  A and B need a^-1 on the present
  * phases: KL_EINPUT when a is singular (the other outputs are still filled).
  * No allocation. */
