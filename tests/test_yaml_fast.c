@@ -412,6 +412,36 @@ START_TEST(edges_as_libyaml)
 }
 END_TEST
 
+/* Small inputs at the edges of the subset, each compared with libyaml
+ * (taken or declined, the stream must be libyaml's). */
+START_TEST(small_cases_as_libyaml)
+{
+    static const char *const cases[] = {
+        "--- \na: 1\n", "---\n- a\n- b\n", "# c\n---  # x\na: 1\n", "  a: 1\n  b: 2\n",
+        "  a: 1\nb: 2\n", "a: 1\n  # comment\nb: 2\n", "a:\n  - x\n  - y\nb: 1", "a:\n- x\n",
+        "a: 'it''s'\n", "a: ''\n", "a: \"\"\n", "{a: 1}\n", "a: {}\nb: []\n", "a: [[1, 2], [3]]\n",
+        "a: {b: {c: d}}\n", "a: x #c\n", "a: x#c\n", "a: -1\n", "a: - 1\n", "a: .5\n", "- a\n-  b\n",
+        "-   x: 1\n    y: 2\n", "a: >\n  x\n  y\n\n\nb: 1\n", "a: |\n  x\n  y\n", "a: |-\n  x\n",
+        "a: |\n  x", "a: >-\n  x\n   y\n", "a: |\n\n  x\n", "a: b\n...\n", "a: b\n---\n", "a: 1 \n",
+        "a:   \n  b: 1\n", "a : 1\n", "? a\n: b\n", "a: !!str x\n", "a: b\n\n\n", "\n\na: b", "a: b\r\n",
+        "a:\n", "a:", "a: b\n  c\n", "a: b\n  # c\n", "a: [1, 2]\n  b: 3\n", "a: 1\n b: 2\n",
+        "- a: 1\n  b: 2\n- c: 3\n", "- a: 1\n   b: 2\n", "- - a\n", "-\n  a: 1\n", "a: {b: 1, }\n",
+        "a: [1, , 2]\n", "a: {b}\n", "a: [b: 1]\n", "a: {b: 1}}\n", "a: x: y\n", "a: 'x\n  y'\n",
+        "a: \"x\n  y\"\n", "a: 12:30\n", "a: http://x.y/z\n", "a: {b: c:d}\n", "a: {b: c #d}\n",
+        "- {a: 1}\n- [b]\n- 'c'\n- d\n", "a:\n  b:\n    c: 1\n  d: 2\ne: 3\n", "a: |\n   x\n  y\n",
+        "a:\n  - |\n    x\n", "a: >\n  x\n  # not a comment\n# a comment\nb: 1\n", "a: b\n   ",
+        "a: b\n# c", "a:\n  - b\n   ", "'a': 1\n\"b\": 2\n", "a: \"\\u00e9\"\n", "-a: 1\n", "a: [-1, -.5]\n",
+        "", "# only\n", "---\n", "a: 1\n%x\n", "a: &x 1\n", "a: *x\n", "a: @x\n", "a: `x\n", NULL};
+    int i;
+    for (i = 0; cases[i]; i++) {
+        char what[64];
+        snprintf(what, sizeof what, "small case %d", i);
+        check_text(cases[i], strlen(cases[i]), 0, what);
+        check_text(cases[i], strlen(cases[i]), KL_YFAST_WINDOW, what);
+    }
+}
+END_TEST
+
 /* A pipe cannot be read again from its start: libyaml reads it directly. */
 START_TEST(pipe_goes_to_libyaml)
 {
@@ -630,6 +660,7 @@ static Suite *suite(void)
     tcase_add_test(tc, declines_outside_the_subset);
     tcase_add_test(tc, late_decline);
     tcase_add_test(tc, edges_as_libyaml);
+    tcase_add_test(tc, small_cases_as_libyaml);
     tcase_add_test(tc, pipe_goes_to_libyaml);
     tcase_add_test(tc, mutations_as_libyaml);
     tcase_add_test(tc, mutations_in_a_moving_window);
