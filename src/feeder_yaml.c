@@ -277,19 +277,12 @@ static int fast_next(kl_yreader *r)
     return 1;
 }
 
-kl_yev kl_yreader_peek(kl_yreader *r)
+/* libyaml's next event (after the fast scanner declined, or without it). */
+static kl_yev libyaml_peek(kl_yreader *r)
 {
     for (;;) {
         if (r->failed)
             return KL_YEV_ERROR;
-        if (!r->have_ev && r->fast) {
-            if (fast_next(r))
-                return (kl_yev)r->fev.kind;
-            if (r->failed || !switch_to_libyaml(r))
-                return KL_YEV_ERROR;
-        }
-        if (r->have_ev && r->fast)
-            return (kl_yev)r->fev.kind;
         if (!r->have_ev) {
             if (!yaml_parser_parse(&r->parser, &r->ev)) {
                 syntax_error(r);
@@ -307,6 +300,26 @@ kl_yev kl_yreader_peek(kl_yreader *r)
             return event_kind(&r->ev);
         kl_yreader_consume(r);
     }
+}
+
+/* The fast scanner declined: libyaml from here on. */
+static kl_yev declined_peek(kl_yreader *r)
+{
+    if (r->failed || !switch_to_libyaml(r))
+        return KL_YEV_ERROR;
+    return libyaml_peek(r);
+}
+
+/* Called for every event, most often with the event already peeked: that
+ * case and the fast scanner's next event come first. */
+kl_yev kl_yreader_peek(kl_yreader *r)
+{
+    if (r->fast && !r->failed) {
+        if (r->have_ev || fast_next(r))
+            return (kl_yev)r->fev.kind;
+        return declined_peek(r);
+    }
+    return libyaml_peek(r);
 }
 
 void kl_yreader_consume(kl_yreader *r)

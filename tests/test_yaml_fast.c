@@ -442,6 +442,45 @@ START_TEST(small_cases_as_libyaml)
 }
 END_TEST
 
+/* If libyaml's replay does not reproduce the events already handed out (here
+ * the caller's buffer changes under the reader, the one way to provoke it
+ * from outside), the reader reports an internal error at the last event
+ * given, and no event after it. */
+START_TEST(replay_mismatch_is_reported)
+{
+    static const char *const edits[] = {"b: 2y", "b: 2:"}; /* another value; a syntax error */
+    int i;
+    for (i = 0; i < 2; i++) {
+        char text[] = "a: 1\nb: 22\nc: [3, 4]\nd: 5\ne: &x 6\n";
+        kl_errors err;
+        kl_yreader *r;
+        int k, n = 0;
+        kl_errors_init(&err);
+        r = kl_yreader_new_buffer(text, strlen(text), "t.yaml", &err);
+        ck_assert_ptr_nonnull(r);
+        for (; n < 4; n++) { /* document, mapping, a, 1 */
+            ck_assert_int_ne(kl_yreader_peek(r), KL_YEV_ERROR);
+            kl_yreader_consume(r);
+        }
+        memcpy(text + 5, edits[i], 5);
+        while ((k = kl_yreader_peek(r)) != KL_YEV_ERROR && k != KL_YEV_STREAM_END && n < 100) {
+            kl_yreader_consume(r);
+            n++;
+        }
+        ck_assert_int_eq(k, KL_YEV_ERROR);
+        ck_assert(kl_yreader_declined(r));
+        ck_assert_int_eq(err.count, 1);
+        ck_assert_msg(strstr(err.items[0].message, "internal error"), "message: %s", err.items[0].message);
+        /* the last event handed out: ']' on line 3 (line 4's events wait for
+         * line 5, where the anchor makes the scanner decline) */
+        ck_assert_int_eq(err.items[0].line, 3);
+        ck_assert_int_eq(err.items[0].col, 9);
+        kl_yreader_free(r);
+        kl_errors_free(&err);
+    }
+}
+END_TEST
+
 /* A pipe cannot be read again from its start: libyaml reads it directly. */
 START_TEST(pipe_goes_to_libyaml)
 {
@@ -661,6 +700,7 @@ static Suite *suite(void)
     tcase_add_test(tc, late_decline);
     tcase_add_test(tc, edges_as_libyaml);
     tcase_add_test(tc, small_cases_as_libyaml);
+    tcase_add_test(tc, replay_mismatch_is_reported);
     tcase_add_test(tc, pipe_goes_to_libyaml);
     tcase_add_test(tc, mutations_as_libyaml);
     tcase_add_test(tc, mutations_in_a_moving_window);
