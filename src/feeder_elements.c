@@ -282,6 +282,7 @@ int kl_ld_bus_ref(kl_loader *L, int node, const char *key)
 {
     kl_feeder *f = L->f;
     const kl_ynode *n = kl_ynode_at(L->r, node);
+    kl_name_hint hint;
     const char *t;
     int i;
     if (n->kind != KL_YSCALAR || n->len == 0) {
@@ -289,7 +290,7 @@ int kl_ld_bus_ref(kl_loader *L, int node, const char *key)
         return -1;
     }
     t = kl_ynode_text(L->r, node);
-    i = kl_names_find(&L->h_bus, t, (size_t)n->len);
+    i = kl_names_find_hint(&L->h_bus, t, (size_t)n->len, &hint);
     if (i >= 0)
         return i;
     i = append(L, (void **)&f->buses, &f->nbuses, &L->cap_buses, sizeof *f->buses);
@@ -301,7 +302,8 @@ int kl_ld_bus_ref(kl_loader *L, int node, const char *key)
     f->buses[i].loc.line = n->line;
     f->buses[i].loc.col = n->col;
     f->buses[i].parent = -1;
-    name_add(L, &L->h_bus, f->buses[i].name, i);
+    if (f->buses[i].name && kl_names_add_hint(&L->h_bus, f->buses[i].name, i, &hint) != KL_OK)
+        L->nomem = 1;
     return f->buses[i].name ? i : -1;
 }
 

@@ -23,6 +23,7 @@ static const char *elem_name(kl_loader *L, const kl_fields *fl, const char *kind
 {
     char buf[64];
     const char *n = NULL;
+    kl_name_hint hint;
     kl_ld_label(L, kind, NULL, i);
     if (fl->val[0] >= 0) {
         n = kl_ld_str(L, fl, 0, 0);
@@ -33,14 +34,14 @@ static const char *elem_name(kl_loader *L, const kl_fields *fl, const char *kind
         n = buf;
     }
     kl_ld_label(L, kind, n, i);
-    if (kl_names_find(t, n, strlen(n)) >= 0) {
+    if (kl_names_find_hint(t, n, strlen(n), &hint) >= 0) {
         kl_ld_error(L, fl->val[0] >= 0 ? fl->val[0] : fl->map,
                     "duplicate name: another %s is already called '%s': give each a different name", kind, n);
         return NULL;
     }
     n = kl_ld_strdup(L, n);
     kl_ld_label(L, kind, n, i); /* buf goes out of scope */
-    if (n && kl_names_add(t, n, i) != KL_OK)
+    if (n && kl_names_add_hint(t, n, i, &hint) != KL_OK)
         L->nomem = 1;
     return n;
 }

@@ -21,7 +21,7 @@ static const char *named(kl_loader *L, const kl_fields *fl, int k, const char *k
     if (!n)
         return NULL;
     kl_ld_label(L, kind, n, i);
-    if (kl_names_find(t, n, strlen(n)) >= 0) {
+    if (kl_names_find_hint(t, n, strlen(n), &L->name_hint) >= 0) {
         kl_ld_error(L, fl->val[k], "duplicate name: another %s is already called '%s': give each a different name",
                     kind, n);
         return NULL;
@@ -31,7 +31,7 @@ static const char *named(kl_loader *L, const kl_fields *fl, int k, const char *k
 
 static void add_name(kl_loader *L, kl_names *t, const char *name, int i)
 {
-    if (name && kl_names_add(t, name, i) != KL_OK)
+    if (name && kl_names_add_hint(t, name, i, &L->name_hint) != KL_OK)
         L->nomem = 1;
 }
 
@@ -239,7 +239,7 @@ static const char *section_name(kl_loader *L, const kl_fields *fl, int i)
     snprintf(buf, sizeof buf, "%.140s-%.140s", kl_ynode_text(L->r, fl->val[SE_FROM]),
              kl_ynode_text(L->r, fl->val[SE_TO]));
     kl_ld_label(L, "section", buf, i);
-    if (kl_names_find(&L->h_sec, buf, strlen(buf)) >= 0) {
+    if (kl_names_find_hint(&L->h_sec, buf, strlen(buf), &L->name_hint) >= 0) {
         kl_ld_error(L, fl->map, "duplicate name: a section called '%s' exists already: give this one a 'name'", buf);
         return NULL;
     }

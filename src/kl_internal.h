@@ -153,6 +153,18 @@ void kl_names_init(kl_names *t, void *const *elems, size_t stride);
 void kl_names_free(kl_names *t); /* the slots only: the table can be used again */
 /* Index stored for s[0..len), or -1. */
 int kl_names_find(const kl_names *t, const char *s, size_t len);
+/* Where a look-up that missed stopped, for adding the same name after it
+ * without probing again (kl_names_add_hint). */
+typedef struct {
+    const kl_names *table; /* the table looked in */
+    unsigned hash, slot, cap;
+    int count;
+    size_t len;
+} kl_name_hint;
+int kl_names_find_hint(const kl_names *t, const char *s, size_t len, kl_name_hint *hint);
+/* kl_names_add, straight into the hinted slot when the table is unchanged
+ * since the look-up (and `name` is its s[0..len)). */
+kl_status kl_names_add_hint(kl_names *t, const char *name, int index, const kl_name_hint *hint);
 /* Adds name -> index; `name` must be element index's name (an arena
  * string).  The caller checks for duplicates with kl_names_find first. */
 kl_status kl_names_add(kl_names *t, const char *name, int index);
@@ -278,6 +290,7 @@ typedef struct {
     const char *elem_kind;  /* the element being read, for messages (kl_ld_label) */
     const char *elem_name;
     int elem_index;
+    kl_name_hint name_hint;  /* the element's own name, looked up and not found */
     char elem[160];         /* its label, formatted when a problem is reported */
     kl_names h_bus, h_cond, h_cable, h_layout, h_cons, h_sec, h_xf, h_reg, h_load, h_cap;
     int cap_conductors, cap_cables, cap_layouts, cap_constructions, cap_buses,

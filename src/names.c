@@ -102,9 +102,10 @@ const char *kl_names_slot_name(const kl_names *t, unsigned i)
     return i < t->cap && t->slots[i].ref ? name_of(t, t->slots[i].ref - 1) : NULL;
 }
 
-int kl_names_find(const kl_names *t, const char *s, size_t len)
+int kl_names_find_hint(const kl_names *t, const char *s, size_t len, kl_name_hint *hint)
 {
     unsigned h, i;
+    hint->cap = 0;
     if (!t->cap)
         return -1;
     h = name_hash(s, len);
@@ -117,7 +118,19 @@ int kl_names_find(const kl_names *t, const char *s, size_t len)
         if (strncmp(n, s, len) == 0 && n[len] == '\0')
             return sl->ref - 1;
     }
+    hint->table = t;
+    hint->hash = h;
+    hint->slot = i;
+    hint->cap = t->cap;
+    hint->count = t->count;
+    hint->len = len;
     return -1;
+}
+
+int kl_names_find(const kl_names *t, const char *s, size_t len)
+{
+    kl_name_hint hint;
+    return kl_names_find_hint(t, s, len, &hint);
 }
 
 static void put(kl_name_slot *slots, unsigned cap, kl_name_slot v)
@@ -216,4 +229,19 @@ done:
     kl_free(hash);
     kl_free(ref);
     return m;
+}
+
+/* The probe of the look-up that missed ended at the slot the name goes to,
+ * as long as nothing was added since and the table need not grow. */
+kl_status kl_names_add_hint(kl_names *t, const char *name, int index, const kl_name_hint *hint)
+{
+    if (hint->table == t && hint->cap && hint->cap == t->cap && hint->count == t->count &&
+        (unsigned)(t->count + 1) * 2 <= t->cap && !t->slots[hint->slot].ref &&
+        strlen(name) == hint->len) {
+        t->slots[hint->slot].hash = hint->hash;
+        t->slots[hint->slot].ref = index + 1;
+        t->count++;
+        return KL_OK;
+    }
+    return kl_names_add(t, name, index);
 }

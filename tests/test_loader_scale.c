@@ -174,6 +174,54 @@ START_TEST(names_numbered_runs)
 }
 END_TEST
 
+/* A look-up that misses leaves where the name goes (kl_name_hint); adding
+ * with a hint that no longer holds (the table grew or changed, or the hint is
+ * another table's) must fall back to a plain add: every name is then found,
+ * as the plain table finds them (names_at_scale). */
+START_TEST(names_hints)
+{
+    enum { N = 5000 };
+    elem *e = malloc(N * sizeof *e), *e2 = malloc(N * sizeof *e2);
+    char *text = malloc((size_t)N * 32), *text2 = malloc((size_t)N * 32);
+    kl_names t, u;
+    kl_name_hint h, stale, other;
+    int i;
+    ck_assert(e && e2 && text && text2);
+    kl_names_init(&t, (void *const *)&e, sizeof *e);
+    kl_names_init(&u, (void *const *)&e2, sizeof *e2);
+    CHECK_EQ(kl_names_find_hint(&t, "x", 1, &stale), -1);
+    for (i = 0; i < N; i++) {
+        make_name(text + (size_t)i * 32, 32, i);
+        snprintf(text2 + (size_t)i * 32, 32, "u%d", (i * 7919) % N);
+        e[i].name = text + (size_t)i * 32;
+        e2[i].name = text2 + (size_t)i * 32;
+        CHECK_EQ(kl_names_find_hint(&t, e[i].name, strlen(e[i].name), &h), -1);
+        /* the same name looked up in a table of other names, as full */
+        CHECK_EQ(kl_names_find_hint(&u, e[i].name, strlen(e[i].name), &other), -1);
+        if (i % 3 == 0) /* another table's hint */
+            CHECK_EQ(kl_names_add_hint(&t, e[i].name, i, &other), KL_OK);
+        else if (i % 3 == 1) /* the hint of a look-up before several adds */
+            CHECK_EQ(kl_names_add_hint(&t, e[i].name, i, &stale), KL_OK);
+        else
+            CHECK_EQ(kl_names_add_hint(&t, e[i].name, i, &h), KL_OK);
+        CHECK_EQ(kl_names_add(&u, e2[i].name, i), KL_OK);
+        if (i % 7 == 0)
+            stale = h;
+    }
+    for (i = 0; i < N; i++) {
+        CHECK_EQ(kl_names_find(&t, e[i].name, strlen(e[i].name)), i);
+        CHECK_EQ(kl_names_find(&u, e2[i].name, strlen(e2[i].name)), i);
+    }
+    CHECK_EQ(t.count, N);
+    kl_names_free(&t);
+    kl_names_free(&u);
+    free(e);
+    free(e2);
+    free(text);
+    free(text2);
+}
+END_TEST
+
 /* A random tree of nb buses: bus k (k >= 1) hangs from a random earlier bus
  * parent[k]; bus names are a random permutation of numbers, and sections are
  * written in a random order, some with `to` on the source side. */
@@ -313,6 +361,7 @@ int main(void)
     tcase_set_timeout(tc, 120);
     tcase_add_test(tc, names_same_hash);
     tcase_add_test(tc, names_numbered_runs);
+    tcase_add_test(tc, names_hints);
     tcase_add_test(tc, names_at_scale);
     tcase_add_test(tc, feeder_at_scale);
     suite_add_tcase(s, tc);
