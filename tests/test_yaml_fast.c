@@ -14,6 +14,7 @@
 #include <yaml.h>
 #include "kilter/error.h"
 #include "kilter/feeder.h"
+#include "kilter/rebalance.h"
 #include "kl_internal.h"
 
 #define MAX_EVENTS 200000
@@ -304,8 +305,9 @@ END_TEST
 
 /* The fast scanner takes ordinary feeder files whole: the demo feeder, the
  * IEEE 13-node test feeder (IEEE PES Distribution System Analysis
- * Subcommittee data) and kl_synth output, read from a buffer, as a file, and
- * as a file through a window smaller than the file (the window moves). */
+ * Subcommittee data), the demo as kilter writes it back, and kl_synth output,
+ * read from a buffer, as a file, and as a file through a window smaller than
+ * the file (the window moves). */
 START_TEST(fast_path_on_feeders)
 {
     static const char *const files[] = {"/feeders/demo/quillmere-f3.yaml",
@@ -318,6 +320,21 @@ START_TEST(fast_path_on_feeders)
         t = slurp(path, &len);
         ck_assert_msg(!check_text(t, len, 0, files[i]), "%s: declined from a buffer", files[i]);
         ck_assert_msg(!check_text(t, len, KL_YFAST_WINDOW, files[i]), "%s: declined as a file", files[i]);
+        free(t);
+    }
+    { /* the demo feeder as kilter writes it back (kl_feeder_write: quoted names, SI units) */
+        char path[1024];
+        kl_feeder *f = NULL;
+        kl_errors e;
+        kl_errors_init(&e);
+        ck_assert_int_eq(kl_feeder_load(KILTER_SOURCE_DIR "/feeders/demo/quillmere-f3.yaml", &f, &e), KL_OK);
+        snprintf(path, sizeof path, "%s/test_yaml_fast_written.yaml", KILTER_BINARY_DIR);
+        ck_assert_int_eq(kl_feeder_write(f, NULL, NULL, path, &e), KL_OK);
+        kl_feeder_free(f);
+        kl_errors_free(&e);
+        t = slurp(path, &len);
+        remove(path);
+        ck_assert_msg(!check_text(t, len, 0, "written demo"), "written demo feeder: declined");
         free(t);
     }
     t = synth(2000, &len);
