@@ -49,7 +49,8 @@ typedef struct kl_nodal {
     int *Ai;               /* [nnz] row indices, sorted within each column */
     kl_complex *Ax;        /* [nnz] values */
     int *vidx;             /* [3*nbuses] unknown of V(bus, phase), -1 when absent */
-    int *iidx;             /* [3*(nbranches+nlinks)] unknown of I_to(branch, phase), -1 for lines */
+    int *iidx;             /* [3*ndev] unknown of I_to(device branch, phase) by device slot
+                            * (dev[k], network.h): lines have no current unknowns */
     kl_complex *x;         /* [n] right-hand side in, solution out */
     int *fill;             /* [n] pattern build: entries placed per column */
     int ideal_source;      /* 1: the source bus rows hold V = E */
@@ -81,7 +82,7 @@ static void number_currents(const kl_network *n, kl_nodal *w, int k, int *u)
 {
     for (int p = 0; p < 3; p++)
         if (to_mask(n, k) & (1 << p))
-            w->iidx[3 * k + p] = (*u)++;
+            w->iidx[3 * n->dev[k] + p] = (*u)++;
 }
 
 /* Leaves first: buses in reverse sweep order, each preceded by the current
@@ -95,7 +96,7 @@ static void number_unknowns(const kl_network *n, kl_nodal *w)
     int u = 0, nbr = n->nbranches + n->nlinks;
     for (int i = 0; i < 3 * n->nbuses; i++)
         w->vidx[i] = -1;
-    for (int i = 0; i < 3 * nbr; i++)
+    for (int i = 0; i < 3 * n->ndev; i++)
         w->iidx[i] = -1;
     for (int o = n->nbuses - 1; o >= 0; o--) {
         int b = n->order[o], k = n->parent[b];
@@ -192,7 +193,7 @@ static void stamp_device(kl_nodal *w, const kl_network *n, int k)
     size_t s = 9 * (size_t)n->dev[k]; /* device slot (network.h) */
     const kl_complex *A = n->A + s, *B = n->B + s, *d = n->d + s;
     const int *vf = w->vidx + 3 * n->br_from[k], *vt = w->vidx + 3 * n->br_to[k];
-    const int *ik = w->iidx + 3 * k;
+    const int *ik = w->iidx + 3 * (size_t)n->dev[k];
     int mf = n->br_phases[k], mt = to_mask(n, k);
     for (int p = 0; p < 3; p++) {
         if (!(mt & (1 << p)))
@@ -366,12 +367,13 @@ static void describe_unknown(const kl_network *n, const kl_nodal *w, int u, char
             snprintf(buf, len, "bus %s phase %c", bus_label(n, i / 3), 'a' + i % 3);
             return;
         }
-    for (int i = 0; i < 3 * (n->nbranches + n->nlinks); i++)
-        if (w->iidx[i] == u) {
-            snprintf(buf, len, "the current of section %s phase %c",
-                     n->feeder->sections[n->br_section[i / 3]].name, 'a' + i % 3);
-            return;
-        }
+    for (int k = 0; k < n->nbranches + n->nlinks; k++)
+        for (int p = 0; n->dev[k] >= 0 && p < 3; p++)
+            if (w->iidx[3 * n->dev[k] + p] == u) {
+                snprintf(buf, len, "the current of section %s phase %c",
+                         n->feeder->sections[n->br_section[k]].name, 'a' + p);
+                return;
+            }
 }
 
 static kl_status klu_failure(const kl_network *n, const kl_nodal *w, kl_errors *err)
@@ -398,7 +400,7 @@ static kl_status nodal_alloc(const kl_network *n, kl_nodal **out, kl_errors *err
     if (!w)
         return KL_ENOMEM;
     w->vidx = kl_malloc(sizeof(int) * 3 * (size_t)n->nbuses);
-    w->iidx = kl_malloc(sizeof(int) * (3 * (size_t)(n->nbranches + n->nlinks) + 1));
+    w->iidx = kl_malloc(sizeof(int) * (3 * (size_t)n->ndev + 1));
     w->taps = kl_calloc(3 * (size_t)n->feeder->nregulators + 1, sizeof(int));
     kl_status st = KL_ENOMEM;
     if (!w->vidx || !w->iidx || !w->taps)
@@ -495,9 +497,12 @@ static double take_solution(const kl_nodal *w, kl_network *n, int *where)
             v[p] = x;
         }
     }
-    for (int i = 3 * n->nbranches; i < 3 * (n->nbranches + n->nlinks); i++)
-        if (w->iidx[i] >= 0)
-            n->i_to_link[i - 3 * n->nbranches] = w->x[w->iidx[i]];
+    for (int k = n->nbranches; k < n->nbranches + n->nlinks; k++)
+        for (int p = 0; n->dev[k] >= 0 && p < 3; p++) {
+            int u = w->iidx[3 * n->dev[k] + p];
+            if (u >= 0)
+                n->i_to_link[3 * (k - n->nbranches) + p] = w->x[u];
+        }
     return sqrt(worst2);
 }
 
