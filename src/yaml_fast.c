@@ -324,12 +324,26 @@ typedef struct {
     int squote;         /* single-quoted with '' inside */
 } scalar;
 
+/* A plain scalar ends at q: its text is the bytes before q less trailing
+ * spaces (in YAML a plain scalar's trailing white space is not content). */
+static int plain_take(cursor *c, scalar *sc, const char *q)
+{
+    const char *end = q;
+    while (end > c->p && end[-1] == ' ')
+        end--;
+    sc->at = sc->v = c->p;
+    sc->n = (size_t)(end - c->p);
+    sc->squote = 0;
+    c->p = q;
+    return 1;
+}
+
 /* A plain scalar in block context: up to ': ', ':' at the end of the line,
  * ' #' or the end of the line.  A ':' before anything else is left to
  * libyaml. */
 static int plain_block(cursor *c, scalar *sc)
 {
-    const char *q = c->p, *end;
+    const char *q = c->p;
     for (;;) {
         while (q < c->e && !(cclass[(unsigned char)*q] & C_BLOCK))
             q++;
@@ -344,20 +358,13 @@ static int plain_block(cursor *c, scalar *sc)
             break; /* ' #': a comment */
         q++;
     }
-    end = q;
-    while (end > c->p && end[-1] == ' ')
-        end--;
-    sc->at = sc->v = c->p;
-    sc->n = (size_t)(end - c->p);
-    sc->squote = 0;
-    c->p = q;
-    return 1;
+    return plain_take(c, sc, q);
 }
 
 /* A plain scalar inside a flow collection: up to ',', a bracket or ': '. */
 static int plain_flow(cursor *c, scalar *sc)
 {
-    const char *q = c->p, *end;
+    const char *q = c->p;
     for (;;) {
         while (q < c->e && !(cclass[(unsigned char)*q] & C_FLOW))
             q++;
@@ -374,14 +381,7 @@ static int plain_flow(cursor *c, scalar *sc)
             return 0;
         q++;
     }
-    end = q;
-    while (end > c->p && end[-1] == ' ')
-        end--;
-    sc->at = sc->v = c->p;
-    sc->n = (size_t)(end - c->p);
-    sc->squote = 0;
-    c->p = q;
-    return 1;
+    return plain_take(c, sc, q);
 }
 
 /* A quoted scalar closed on the same line; escapes are left to libyaml. */
