@@ -46,17 +46,17 @@ typedef struct {
 int kl_cli_parse(kl_cli_args *a, int argc, char **argv, const char *summary,
                  const kl_cli_opt *opts, int nopts);
 
-/* Output built in memory, then written whole: to standard output, or to
- * FILE.tmp.PID renamed to FILE.  Nothing is left behind on failure. */
+/* Command output: to standard output (path NULL), or to FILE.tmp.PID renamed
+ * to FILE when complete, so that FILE is written whole or not at all. */
 typedef struct {
-    FILE *f;       /* write the report here */
-    char *buf;
-    size_t len;
+    FILE *f;         /* write the report here */
+    const char *path;
+    char tmp[4096];
 } kl_cli_out;
 
-int kl_cli_out_open(kl_cli_out *o);                  /* 0, or an exit code */
-int kl_cli_out_close(kl_cli_out *o, const char *path); /* 0, or an exit code; always frees */
-int kl_cli_write_file(const char *path, const char *data, size_t len); /* atomic; 0 or exit code */
+int kl_cli_out_open(kl_cli_out *o, const char *path); /* 0, or an exit code */
+int kl_cli_out_close(kl_cli_out *o);    /* finishes (renames); 0, or an exit code */
+void kl_cli_out_abandon(kl_cli_out *o); /* drops a file being written */
 
 /* Prints every item as `kilter: file:line:col: element: message` on stderr. */
 void kl_cli_print_errors(const kl_errors *e);

@@ -146,60 +146,66 @@ int kl_cli_parse(kl_cli_args *a, int argc, char **argv, const char *summary,
     return -1;
 }
 
-int kl_cli_out_open(kl_cli_out *o)
+/* Output is streamed, not built in memory: a million-bus table is tens of
+ * megabytes (hundreds as JSON), which would count against the memory the
+ * load flow itself is allowed.  A named file is written as FILE.tmp.PID and
+ * renamed to FILE only once it is complete, so FILE is whole or untouched. */
+int kl_cli_out_open(kl_cli_out *o, const char *path)
 {
-    o->buf = NULL;
-    o->len = 0;
-    o->f = open_memstream(&o->buf, &o->len);
+    o->path = path;
+    o->tmp[0] = '\0';
+    if (!path) {
+        o->f = stdout;
+        return 0;
+    }
+    if (snprintf(o->tmp, sizeof o->tmp, "%s.tmp.%ld", path, (long)getpid()) >=
+        (int)sizeof o->tmp) {
+        kl_cli_error("%s: output file name too long", path);
+        o->f = NULL;
+        return KL_EXIT_IO;
+    }
+    o->f = fopen(o->tmp, "wb");
     if (!o->f) {
-        kl_cli_error("cannot allocate the output buffer: %s", strerror(errno));
-        return KL_EXIT_NOMEM;
+        kl_cli_error("%s: cannot write: %s", path, strerror(errno));
+        return KL_EXIT_IO;
     }
     return 0;
 }
 
-int kl_cli_write_file(const char *path, const char *data, size_t len)
+void kl_cli_out_abandon(kl_cli_out *o)
 {
-    char tmp[4096];
-    FILE *f;
+    if (o->f && o->path) {
+        fclose(o->f);
+        remove(o->tmp);
+    } else if (o->f) {
+        fflush(o->f);
+    }
+    o->f = NULL;
+}
+
+int kl_cli_out_close(kl_cli_out *o)
+{
+    FILE *f = o->f;
     int ok;
-    if (snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid()) >= (int)sizeof tmp) {
-        kl_cli_error("%s: output file name too long", path);
+    o->f = NULL;
+    if (!f)
         return KL_EXIT_IO;
+    if (!o->path) {
+        if (fflush(f) != 0 || ferror(f)) {
+            kl_cli_error("cannot write to standard output: %s", strerror(errno));
+            return KL_EXIT_IO;
+        }
+        return 0;
     }
-    f = fopen(tmp, "wb");
-    if (!f) {
-        kl_cli_error("%s: cannot write: %s", path, strerror(errno));
-        return KL_EXIT_IO;
-    }
-    ok = fwrite(data, 1, len, f) == len;
-    ok = (fflush(f) == 0) && ok;
+    ok = fflush(f) == 0 && !ferror(f);
     ok = (fsync(fileno(f)) == 0 || errno == EINVAL) && ok;
     ok = (fclose(f) == 0) && ok;
-    if (!ok || rename(tmp, path) != 0) {
-        kl_cli_error("%s: cannot write: %s", path, strerror(errno));
-        remove(tmp);
+    if (!ok || rename(o->tmp, o->path) != 0) {
+        kl_cli_error("%s: cannot write: %s", o->path, strerror(errno));
+        remove(o->tmp);
         return KL_EXIT_IO;
     }
     return 0;
-}
-
-int kl_cli_out_close(kl_cli_out *o, const char *path)
-{
-    int rc = 0;
-    if (fclose(o->f) != 0) {
-        kl_cli_error("cannot finish the output: %s", strerror(errno));
-        rc = KL_EXIT_NOMEM;
-    } else if (path) {
-        rc = kl_cli_write_file(path, o->buf, o->len);
-    } else if (fwrite(o->buf, 1, o->len, stdout) != o->len || fflush(stdout) != 0) {
-        kl_cli_error("cannot write to standard output: %s", strerror(errno));
-        rc = KL_EXIT_IO;
-    }
-    free(o->buf);
-    o->buf = NULL;
-    o->f = NULL;
-    return rc;
 }
 
 void kl_cli_print_errors(const kl_errors *e)

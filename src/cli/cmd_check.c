@@ -184,7 +184,7 @@ int kl_cmd_check(int argc, char **argv)
         return rc;
     memset(&u, 0, sizeof u);
     summarise(f, &u);
-    rc = kl_cli_out_open(&out);
+    rc = kl_cli_out_open(&out, a.output);
     if (!rc) {
         if (a.format == KL_FMT_CSV)
             print_csv(out.f, f, &u);
@@ -192,7 +192,7 @@ int kl_cmd_check(int argc, char **argv)
             print_json(out.f, f, &u);
         else
             print_table(out.f, f, &u);
-        rc = kl_cli_out_close(&out, a.output);
+        rc = kl_cli_out_close(&out);
     }
     kl_feeder_free(f);
     return rc;

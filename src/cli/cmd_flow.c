@@ -304,7 +304,7 @@ static int read_options(const kl_cli_args *a, kl_flow_options *o, kl_carson_form
 static int emit(const kl_cli_args *a, const view *w, int sections)
 {
     kl_cli_out out;
-    int rc = kl_cli_out_open(&out);
+    int rc = kl_cli_out_open(&out, a->output);
     if (rc)
         return rc;
     if (a->format == KL_FMT_JSON)
@@ -315,7 +315,7 @@ static int emit(const kl_cli_args *a, const view *w, int sections)
         csv_buses(out.f, w);
     else
         print_table(out.f, w, sections);
-    return kl_cli_out_close(&out, a->output);
+    return kl_cli_out_close(&out);
 }
 
 int kl_cmd_flow(int argc, char **argv)

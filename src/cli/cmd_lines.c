@@ -277,9 +277,9 @@ int kl_cmd_lines(int argc, char **argv)
         goto done;
     }
     mark_used(f, used);
-    if ((rc = kl_cli_out_open(&out)) == 0) {
+    if ((rc = kl_cli_out_open(&out, a.output)) == 0) {
         print_all(out.f, &a, f, used, form);
-        rc = kl_cli_out_close(&out, a.output);
+        rc = kl_cli_out_close(&out);
     }
 done:
     free(used);

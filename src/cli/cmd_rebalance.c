@@ -487,7 +487,7 @@ static void print_items(FILE *o, const view *w)
 static int emit(const kl_cli_args *a, const view *w, int items)
 {
     kl_cli_out out;
-    int rc = kl_cli_out_open(&out);
+    int rc = kl_cli_out_open(&out, a->output);
     if (rc)
         return rc;
     if (items)
@@ -498,7 +498,7 @@ static int emit(const kl_cli_args *a, const view *w, int items)
         print_csv(out.f, w);
     else
         print_table(out.f, w);
-    return kl_cli_out_close(&out, a->output);
+    return kl_cli_out_close(&out);
 }
 
 /* ------------------------------------------------------------- driver */
@@ -547,17 +547,16 @@ static int write_html(const char *path, const kl_feeder *f, kl_network *net,
         st = kl_study_view_init(&w, net, res, e);
     if (!st)
         st = kl_study_run(f, &w.ph, &w.paths, &so, &s, e);
-    if (!st && !(rc = kl_cli_out_open(&out))) {
+    if (!st && !(rc = kl_cli_out_open(&out, path))) {
         kl_report_input in = {.feeder = f, .ph = kl_report_phases_of(res), .study = s,
                               .plan = plan, .rephaser = rp};
         kl_report_options_default(&in.opt);
         in.opt.load_scale = fo.load_scale;
         st = kl_report_html_write(out.f, &in, e);
         if (st) {
-            fclose(out.f); /* nothing written: the report is dropped whole */
-            free(out.buf);
+            kl_cli_out_abandon(&out); /* nothing written: the report is dropped whole */
         } else {
-            rc = kl_cli_out_close(&out, path);
+            rc = kl_cli_out_close(&out);
         }
     }
     if (st)

@@ -211,7 +211,7 @@ static int write_html(const char *path, const kl_feeder *f, const kl_flow_result
     in.opt.map_index = (kl_map_index)x->map_index;
     if (x->ci.bus >= 0)
         in.opt.phasor_bus = x->ci.bus;
-    if ((rc = kl_cli_out_open(&out)))
+    if ((rc = kl_cli_out_open(&out, path)))
         return rc;
     kl_errors_init(&e);
     kl_status st = kl_report_html_write(out.f, &in, &e);
@@ -219,17 +219,16 @@ static int write_html(const char *path, const kl_feeder *f, const kl_flow_result
     kl_cli_print_errors(&e);
     kl_errors_free(&e);
     if (st != KL_OK) {
-        fclose(out.f); /* nothing written: the report is dropped whole */
-        free(out.buf);
+        kl_cli_out_abandon(&out); /* nothing written: the report is dropped whole */
         return kl_cli_exit_code(st);
     }
-    return kl_cli_out_close(&out, path);
+    return kl_cli_out_close(&out);
 }
 
 static int emit(const kl_cli_args *a, const kl_study_print *p, const study_args *x)
 {
     kl_cli_out out;
-    int rc = kl_cli_out_open(&out);
+    int rc = kl_cli_out_open(&out, a->output);
     if (rc)
         return rc;
     if (a->format == KL_FMT_JSON)
@@ -240,7 +239,7 @@ static int emit(const kl_cli_args *a, const kl_study_print *p, const study_args 
         kl_study_print_at(out.f, p);
     else
         kl_study_print_table(out.f, p);
-    return kl_cli_out_close(&out, a->output);
+    return kl_cli_out_close(&out);
 }
 
 typedef struct {
