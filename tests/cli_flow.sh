@@ -71,6 +71,13 @@ cmp -s "$work/o.csv" "$work/buses.csv" || fail "-o output differs from standard 
 "$kilter" flow "$ieee13" --carson approx -o "$work/nodir/x.csv" >/dev/null 2>&1
 [ $? -eq 4 ] || fail "unwritable -o should exit 4"
 [ -e "$work/nodir" ] && fail "unwritable -o left something behind"
+# the output is streamed to FILE.tmp.PID and renamed: when the rename fails (FILE
+# is a directory) the command fails and no temporary file is left
+mkdir "$work/adir"
+"$kilter" flow "$ieee13" --carson approx --format csv -o "$work/adir" >/dev/null 2>&1
+[ $? -eq 4 ] || fail "-o onto a directory should exit 4"
+[ -d "$work/adir" ] || fail "-o onto a directory replaced it"
+ls "$work" | grep -q '\.tmp\.' && fail "a failed -o left its temporary file"
 
 # 6. Bad usage exits 64 with a message.
 "$kilter" flow "$ieee13" --carson approx --solver magic >/dev/null 2>"$work/err"
