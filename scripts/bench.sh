@@ -42,7 +42,7 @@ done
 
 build=build-bench
 cmake -S . -B "$build" -DCMAKE_BUILD_TYPE=Release -DKILTER_TESTS=OFF >/dev/null
-cmake --build "$build" -j2 --target kl_synth kl_bench >/dev/null
+cmake --build "$build" -j2 --target kl_synth kl_bench kilter-cli >/dev/null
 
 if [ -n "$keep" ]; then
   dir="$keep"; mkdir -p "$dir"
@@ -77,7 +77,23 @@ for n in $sizes; do
     "$(field "$line" nodal_iter)" "$(field "$line" nodal_dv_pu)" "$peak" "$bpeak" \
     "$(field "$line" bytes_per_bus)"
   echo "  $line" >> "$dir/bench.log"
+  # the whole program as a user runs it: load, lines, network, load flow with
+  # its result record, CSV bus table streamed out (GNU time's %e %U %M: wall
+  # seconds, user CPU seconds, peak resident KiB)
+  if [ -x /usr/bin/time ]; then
+    /usr/bin/time -f "%e %U %M" -o "$dir/time.txt" "$build/kilter" flow "$f" --format csv >/dev/null
+    read -r fw fu fm < "$dir/time.txt"
+    echo "  $n buses: $fw s wall, $fu s user CPU, peak $((fm / 1024)) MB" \
+         "($(( fm * 1024 / n )) bytes/bus)" >> "$dir/flow.log"
+  fi
 done
 echo
 echo "raw kl_bench lines:"
 cat "$dir/bench.log"
+if [ -s "$dir/flow.log" ]; then
+  echo
+  echo "the program end to end (kilter flow FILE --format csv > /dev/null):"
+  cat "$dir/flow.log"
+else
+  echo "(install GNU time, Debian package 'time', for the end-to-end kilter flow figures)"
+fi
