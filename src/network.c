@@ -98,12 +98,27 @@ static kl_status check_ids(const kl_feeder *f, kl_errors *err)
     return st;
 }
 
-/* Breadth-first search over closed sections.  Fills sec_order (sections in
- * visiting order), rev[s] (1 when reached from its `to` bus) and seen[bus].
- * A section that reaches a bus fed already closes a loop: an error for a
- * radial feeder, a link (links[], *nlinks) when the feeder says radial: false. */
-static kl_status search(const kl_feeder *f, const incidence *g, int *sec_order, int *nsec,
-                        unsigned char *rev, unsigned char *seen, int *queue, unsigned char *used,
+/* One tree section as the search reaches it, in search (queue) order: the
+ * fields the emission needs, copied while the search has the section record
+ * at hand, so the emission reads them front to back instead of the 48-byte
+ * records in file order (one cache miss each at a million sections).  The
+ * record itself is read again only to report an error or build a device. */
+typedef struct {
+    int s;               /* section id */
+    int from, to;        /* bus ids, source side first */
+    int from_q;          /* queue index of the from-bus (0 = the source) */
+    int construction;
+    double length_m;
+    unsigned char phases, kind, rev;
+} walk_step;
+
+/* Breadth-first search over closed sections.  Fills steps[] (tree sections
+ * in visiting order; the to-bus of steps[q] is queue entry q + 1) and
+ * seen[bus].  A section that reaches a bus fed already closes a loop: an
+ * error for a radial feeder, a link (links[], *nlinks) when the feeder says
+ * radial: false. */
+static kl_status search(const kl_feeder *f, const incidence *g, walk_step *steps, int *nsec,
+                        unsigned char *seen, int *queue, unsigned char *used,
                         int *links, int *nlinks,
                         kl_errors *err)
 {
@@ -112,7 +127,7 @@ static kl_status search(const kl_feeder *f, const incidence *g, int *sec_order, 
     queue[tail++] = f->source.bus;
     seen[f->source.bus] = 1;
     while (head < tail) {
-        int u = queue[head++];
+        int uq = head, u = queue[head++];
         for (int k = g->start[u]; k < g->start[u + 1]; k++) {
             int s = g->sec[k];
             if (used[s])
@@ -135,8 +150,8 @@ static kl_status search(const kl_feeder *f, const incidence *g, int *sec_order, 
                 continue;
             }
             seen[w] = 1;
-            rev[s] = sc->from != u;
-            sec_order[n++] = s;
+            steps[n++] = (walk_step){s, u, w, uq, sc->construction, sc->length_m, sc->phases,
+                                     (unsigned char)sc->kind, sc->from != u};
             queue[tail++] = w;
         }
     }
@@ -371,16 +386,15 @@ static int line_a_singular(const kl_complex *Z, const kl_complex *Y, int m)
 /* Line branch k's Z and Y, appended to zy: its construction's per-metre
  * matrices on the branch's phases times `share` of the section's length
  * (Carson and Kron reduction were done once per construction by
- * kl_lines_derive).  Called while the section is at hand (emit_section), so
- * the feeder's section record is read once. */
-static kl_status line_fill(kl_network *n, int k, const kl_section *sc, double share,
-                           kl_errors *err)
+ * kl_lines_derive).  len is the branch's share of the section's length; sc
+ * is read only to name the section in an error. */
+static kl_status line_fill(kl_network *n, int k, const kl_section *sc, int construction,
+                           double len, kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
-    const kl_construction *cn = &f->constructions[sc->construction];
+    const kl_construction *cn = &f->constructions[construction];
     int mask = n->br_phases[k], m = PH_N[mask];
     const int *l = PH_L[mask];
-    double len = sc->length_m * share;
     if (n->nzy + 2 * (size_t)(m * m) > n->zy_cap) { /* zy_count and emission disagree */
         net_err(err, f, sc->loc, "section", sc->name, "internal error: line storage "
                 "miscounted (please report this feeder)");
@@ -482,26 +496,29 @@ kl_status kl_network_branch_abcd(const kl_network *n, int k, kl_complex a[9],
     return KL_OK;
 }
 
-static kl_status check_line(const kl_network *n, const kl_section *sc, int *mask, kl_errors *err)
+/* The section's construction, phases and length as the caller read them
+ * (sc is read only to name it in an error). */
+static kl_status check_line(const kl_network *n, const kl_section *sc, int construction,
+                            int phases, double length_m, int *mask, kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
-    if (sc->construction < 0 || sc->construction >= f->nconstructions) {
+    if (construction < 0 || construction >= f->nconstructions) {
         net_err(err, f, sc->loc, "section", sc->name, "has no construction");
         return KL_EINPUT;
     }
-    const kl_construction *cn = &f->constructions[sc->construction];
+    const kl_construction *cn = &f->constructions[construction];
     if (!cn->derived && cn->kind != KL_CONS_MATRIX) {
         net_err(err, f, cn->loc, "construction", cn->name, "has no impedance yet: derive line "
                 "constants (kl_lines_derive) before building the network");
         return KL_EINPUT;
     }
-    *mask = sc->phases ? sc->phases : cn->phases;
+    *mask = phases ? phases : cn->phases;
     if (*mask & ~cn->phases) {
         net_err(err, f, sc->loc, "section", sc->name, "uses a phase its construction does not "
                 "carry: give phases the construction has");
         return KL_EINPUT;
     }
-    if (!(sc->length_m > 0) || !isfinite(sc->length_m)) {
+    if (!(length_m > 0) || !isfinite(length_m)) {
         net_err(err, f, sc->loc, "section", sc->name, "needs a positive length");
         return KL_EINPUT;
     }
@@ -580,71 +597,104 @@ void kl_network_regulator_update(kl_network *n, int r)
     kl_regulator_matrices(rg, n->tap + 3 * r, n->br_phases[k], n->A + s, n->d + s, n->a + s);
 }
 
-static kl_status phases_present(const kl_network *n, const kl_section *sc, int k,
+/* have: the phases of branch k's from-bus */
+static kl_status phases_present(const kl_network *n, const kl_section *sc, int k, int have,
                                 kl_errors *err)
 {
-    int from = n->br_from[k];
-    int missing = n->br_phases[k] & ~n->phases[from];
+    int missing = n->br_phases[k] & ~have;
     if (!missing)
         return KL_OK;
     char b1[4], b2[4], msg[384];
     snprintf(msg, sizeof msg, "carries phase(s) %s but bus %s upstream has only %s: "
              "give the section phases that exist at its source-side bus",
              kl_phases_str(missing, b1), n->feeder->buses[n->br_from[k]].name,
-             kl_phases_str(n->phases[from], b2));
+             kl_phases_str(have, b2));
     net_err(err, n->feeder, sc->loc, "section", sc->name, msg);
     return KL_ETOPO;
 }
 
-/* Emits the branch(es) of section s; *nbr and *nbus advance. */
-static kl_status emit_section(kl_network *n, int s, int reversed, int split, int *nbr,
-                              int *nbus, kl_errors *err)
+/* What the emission needs of a bus that feeds others, by queue index (the
+ * search's order, which is also the order the emission reaches the buses as
+ * from-buses: reads go front to back, not to bus-id arrays in file order). */
+typedef struct {
+    double base;         /* line-to-neutral base, V */
+    int pos;             /* sweep position */
+    unsigned char ph, split;
+} walk_bus;
+
+/* Bus b placed at sweep position i, fed by branch k: its entries in the
+ * bus-id arrays (written once, here) and in the position-ordered ones. */
+static void bus_place(kl_network *n, int b, int i, int k, int ph, double base, int split)
+{
+    n->phases[b] = ph;
+    n->v_base_ln[b] = base;
+    n->split_phase[b] = (unsigned char)split;
+    n->parent[b] = k;
+    n->pos[b] = i;
+    n->order[i] = b;
+    n->pos_phases[i] = (unsigned char)ph;
+    n->pos_inv_base[i] = 1.0 / base;
+}
+
+/* Emits the branch(es) of search step w (its to-bus is queue entry q + 1);
+ * *nbr and *nbus advance.  The to-bus of tree branch k takes position
+ * k + 1 (network.h). */
+static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, int q, int split,
+                              int *nbr, int *nbus, kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
-    const kl_section *sc = &f->sections[s];
-    int from = reversed ? sc->to : sc->from, to = reversed ? sc->from : sc->to;
-    int mask = sc->phases ? sc->phases : n->phases[from];
+    const kl_section *sc = &f->sections[w->s]; /* read for errors and devices only */
+    const walk_bus up = bq[w->from_q];
+    int from = w->from, to = w->to;
+    int mask = w->phases ? w->phases : up.ph;
     kl_status st;
-    if (reversed && (sc->kind == KL_SEC_TRANSFORMER || sc->kind == KL_SEC_REGULATOR)) {
+    if (w->rev && (w->kind == KL_SEC_TRANSFORMER || w->kind == KL_SEC_REGULATOR)) {
         net_err(err, f, sc->loc, "section", sc->name, "is fed from its `to` bus: a transformer "
                 "or regulator section must name its source-side bus in `from`");
         return KL_ETOPO;
     }
-    if (sc->kind == KL_SEC_LINE && (st = check_line(n, sc, &mask, err)))
+    if (w->kind == KL_SEC_LINE &&
+        (st = check_line(n, sc, w->construction, w->phases, w->length_m, &mask, err)))
         return st;
     int k = (*nbr)++;
     n->br_from[k] = from;
     n->br_to[k] = split ? *nbus : to;
     n->br_phases[k] = mask;
-    n->br_section[k] = s;
-    n->sec_first[s] = n->sec_last[s] = k;
-    if ((st = phases_present(n, sc, k, err)))
+    n->br_section[k] = w->s;
+    n->br_from_pos[k] = up.pos;
+    n->sec_first[w->s] = n->sec_last[w->s] = k;
+    if ((st = phases_present(n, sc, k, up.ph, err)))
         return st;
-    if (sc->kind != KL_SEC_LINE) {
-        st = device_branch(n, k, sc, err);
-        n->parent[to] = k;
-        return st;
+    if (w->kind != KL_SEC_LINE) {
+        /* devices (few) work on the bus-id arrays, written for every bus
+         * placed so far */
+        if ((st = device_branch(n, k, sc, err)))
+            return st;
+        bus_place(n, to, k + 1, k, n->phases[to], n->v_base_ln[to], n->split_phase[to]);
+        bq[q + 1] = (walk_bus){n->v_base_ln[to], k + 1, (unsigned char)n->phases[to],
+                               n->split_phase[to]};
+        return KL_OK;
     }
     n->br_kind[k] = KL_BR_LINE;
-    n->phases[n->br_to[k]] = mask;
-    n->v_base_ln[n->br_to[k]] = n->v_base_ln[from];
-    n->split_phase[n->br_to[k]] = n->split_phase[from];
-    n->parent[n->br_to[k]] = k;
-    if ((st = line_fill(n, k, sc, split ? DIST_AT : 1.0, err)) || !split)
+    bus_place(n, n->br_to[k], k + 1, k, mask, up.base, up.split);
+    if (!split) {
+        bq[q + 1] = (walk_bus){up.base, k + 1, (unsigned char)mask, up.split};
+        return line_fill(n, k, sc, w->construction, w->length_m * 1.0, err);
+    }
+    if ((st = line_fill(n, k, sc, w->construction, w->length_m * DIST_AT, err)))
         return st;
     int mid = (*nbus)++;
     int k2 = (*nbr)++;
     n->br_from[k2] = mid;
     n->br_to[k2] = to;
     n->br_phases[k2] = mask;
-    n->br_section[k2] = s;
+    n->br_section[k2] = w->s;
     n->br_kind[k2] = KL_BR_LINE;
-    n->sec_last[s] = k2;
-    n->phases[to] = mask;
-    n->v_base_ln[to] = n->v_base_ln[from];
-    n->split_phase[to] = n->split_phase[from];
-    n->parent[to] = k2;
-    return line_fill(n, k2, sc, 1.0 - DIST_AT, err);
+    n->br_from_pos[k2] = k + 1;
+    n->sec_last[w->s] = k2;
+    bus_place(n, to, k2 + 1, k2, mask, up.base, up.split);
+    bq[q + 1] = (walk_bus){up.base, k2 + 1, (unsigned char)mask, up.split};
+    return line_fill(n, k2, sc, w->construction, w->length_m * (1.0 - DIST_AT), err);
 }
 
 /* A loop-closing line or closed switch between two buses already placed
@@ -660,7 +710,8 @@ static kl_status emit_link(kl_network *n, int s, int *nbr, kl_errors *err)
                 "regulator: a loop must close through a line or a switch");
         return KL_ETOPO;
     }
-    if (sc->kind == KL_SEC_LINE && (st = check_line(n, sc, &mask, err)))
+    if (sc->kind == KL_SEC_LINE &&
+        (st = check_line(n, sc, sc->construction, sc->phases, sc->length_m, &mask, err)))
         return st;
     if ((mask & ~n->phases[sc->from]) || (mask & ~n->phases[sc->to]) || !mask ||
         fabs(n->v_base_ln[sc->from] / n->v_base_ln[sc->to] - 1) > 0.01) {
@@ -674,10 +725,11 @@ static kl_status emit_link(kl_network *n, int s, int *nbr, kl_errors *err)
     n->br_to[k] = sc->to;
     n->br_phases[k] = mask;
     n->br_section[k] = s;
+    n->br_from_pos[k] = n->pos[sc->from];
     n->sec_first[s] = n->sec_last[s] = k;
     if (sc->kind == KL_SEC_LINE) {
         n->br_kind[k] = KL_BR_LINE;
-        return line_fill(n, k, sc, 1.0, err);
+        return line_fill(n, k, sc, sc->construction, sc->length_m * 1.0, err);
     }
     n->br_kind[k] = KL_BR_SWITCH;
     size_t q = 9 * (size_t)(n->dev[k] = n->ndev++);
@@ -691,9 +743,7 @@ static void source_setup(kl_network *n)
 {
     const kl_source *src = &n->feeder->source;
     int b = src->bus;
-    n->phases[b] = KL_PH_ABC;
-    n->parent[b] = -1;
-    n->v_base_ln[b] = src->kv_ll * 1000.0 / sqrt(3.0);
+    bus_place(n, b, 0, -1, KL_PH_ABC, src->kv_ll * 1000.0 / sqrt(3.0), 0);
     double vpu = src->v_pu > 0 ? src->v_pu : 1.0;
     for (int p = 0; p < 3; p++)
         n->v_source[p] = vpu * n->v_base_ln[b] * cexp(I * (src->angle_deg - 120.0 * p) * DEG);
@@ -770,21 +820,6 @@ static kl_status check_capacitors(const kl_network *n, const unsigned char *seen
     return st;
 }
 
-/* Positions for the sweep: order[] lists the source, then the to-bus of
- * each tree branch in branch order. */
-static kl_status sweep_layout(kl_network *n)
-{
-    for (int i = 0; i < n->nbuses; i++) {
-        int b = n->order[i];
-        n->pos[b] = i;
-        n->pos_phases[i] = (unsigned char)n->phases[b];
-        n->pos_inv_base[i] = 1.0 / n->v_base_ln[b];
-    }
-    for (int k = 0; k < n->nbranches + n->nlinks; k++)
-        n->br_from_pos[k] = n->pos[n->br_from[k]];
-    return KL_OK;
-}
-
 /* Builds branches, buses, loads and workspace.  Temporary arrays are freed
  * at the one exit. */
 kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
@@ -799,19 +834,21 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     incidence g = {NULL, NULL};
     /* flags as bytes: the search reads them in random order, so a quarter of
      * the cache lines an int array would take */
-    int *sec_order = kl_calloc(ns, sizeof(int)), *queue = kl_calloc(nb, sizeof(int));
-    unsigned char *rev = kl_calloc(ns, 1), *seen = kl_calloc(nb, 1), *used = kl_calloc(ns, 1);
+    walk_step *steps = kl_malloc(ns * sizeof *steps);
+    walk_bus *bq = kl_malloc(nb * sizeof *bq);
+    int *queue = kl_malloc(nb * sizeof(int));
+    unsigned char *seen = kl_calloc(nb, 1), *used = kl_calloc(ns, 1);
     unsigned char *has_dist = kl_calloc(ns, 1);
     int *mid_of = kl_calloc(ns, sizeof(int)), *links = kl_calloc(ns, sizeof(int));
     kl_network *n = kl_calloc(1, sizeof *n);
     int nsec = 0, nsplit = 0, ndist = 0, nlinks = 0;
-    if (!sec_order || !rev || !seen || !queue || !used || !has_dist || !mid_of || !links || !n ||
+    if (!steps || !bq || !seen || !queue || !used || !has_dist || !mid_of || !links || !n ||
         (st = incidence_build(f, &g)) != KL_OK) {
         st = KL_ENOMEM;
         goto done;
     }
     n->feeder = f;
-    st = search(f, &g, sec_order, &nsec, rev, seen, queue, used, links, &nlinks, err);
+    st = search(f, &g, steps, &nsec, seen, queue, used, links, &nlinks, err);
     kl_status st2 = report_islands(f, seen, err);
     kl_status st3 = count_distributed(f, has_dist, err);
     if (st || st2 || st3) {
@@ -847,17 +884,13 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
             n->tap[3 * r + p] = f->regulators[r].tap[p];
     }
     source_setup(n);
-    n->order[0] = n->source;
-    int nbr = 0, nbus = f->nbuses, norder = 1;
+    bq[0] = (walk_bus){n->v_base_ln[n->source], 0, KL_PH_ABC, 0};
+    int nbr = 0, nbus = f->nbuses;
     for (int q = 0; q < nsec && !st; q++) {
-        int s = sec_order[q];
-        int first_mid = nbus;
-        st = emit_section(n, s, rev[s], has_dist[s], &nbr, &nbus, err);
-        if (has_dist[s]) {
-            mid_of[s] = first_mid;
-            n->order[norder++] = first_mid;
-        }
-        n->order[norder++] = n->br_to[n->sec_last[s] >= 0 ? n->sec_last[s] : 0];
+        int s = steps[q].s;
+        if (has_dist[s])
+            mid_of[s] = nbus;
+        st = emit_section(n, &steps[q], bq, q, has_dist[s], &nbr, &nbus, err);
     }
     for (int q = 0; q < nlinks && !st; q++) {
         if (has_dist[links[q]]) {
@@ -875,14 +908,12 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     if (!st)
         st = check_capacitors(n, seen, err);
     if (!st)
-        st = sweep_layout(n);
-    if (!st)
         st = kl_load_parts_build(n);
 done:
     kl_free(g.start);
     kl_free(g.sec);
-    kl_free(sec_order);
-    kl_free(rev);
+    kl_free(steps);
+    kl_free(bq);
     kl_free(seen);
     kl_free(queue);
     kl_free(used);
