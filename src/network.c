@@ -173,12 +173,14 @@ static const char *open_switch_at_edge(const kl_feeder *f, const unsigned char *
 static kl_status report_islands(const kl_feeder *f, const unsigned char *seen, kl_errors *err)
 {
     int count = 0;
-    const char *edge = open_switch_at_edge(f, seen);
+    const char *edge = NULL;
     for (int b = 0; b < f->nbuses; b++) {
         if (seen[b])
             continue;
         if (count++ >= 5)
             continue;
+        if (count == 1) /* a pass over every section: only when there is an island */
+            edge = open_switch_at_edge(f, seen);
         const char *via = NULL;
         for (int s = 0; s < f->nsections; s++) {
             const kl_section *sc = &f->sections[s];
@@ -205,8 +207,9 @@ static kl_status report_islands(const kl_feeder *f, const unsigned char *seen, k
     return count ? KL_ETOPO : KL_OK;
 }
 
-/* Number of distributed loads per section, in has_dist[nsections]. */
-static kl_status count_distributed(const kl_feeder *f, unsigned char *has_dist,
+/* Which sections carry a distributed load (has_dist[nsections]); *ndist
+ * counts the loads that name a section. */
+static kl_status count_distributed(const kl_feeder *f, unsigned char *has_dist, int *ndist,
                                    kl_errors *err)
 {
     kl_status st = KL_OK;
@@ -214,6 +217,7 @@ static kl_status count_distributed(const kl_feeder *f, unsigned char *has_dist,
         const kl_load *ld = &f->loads[l];
         if (ld->bus >= 0)
             continue;
+        ++*ndist;
         if (ld->section < 0 || ld->section >= f->nsections) {
             net_err(err, f, ld->loc, "load", ld->name, "names neither a bus nor a section");
             st = KL_EINPUT;
@@ -231,17 +235,20 @@ static kl_status count_distributed(const kl_feeder *f, unsigned char *has_dist,
 static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int nbr, int nld,
                               int ndev_max)
 {
+    /* bus and branch arrays are written whole by the emission (every bus is
+     * placed once, every branch emitted once; a build that stops early
+     * frees them unread): no zero fill */
     size_t nb = (size_t)nbus, nr = (size_t)nbr, nd = (size_t)(ndev_max > 0 ? ndev_max : 1);
-    n->order = kl_calloc(nb, sizeof(int));
-    n->phases = kl_calloc(nb, sizeof(int));
-    n->v_base_ln = kl_calloc(nb, sizeof(double));
-    n->split_phase = kl_calloc(nb, 1);
-    n->parent = kl_calloc(nb, sizeof(int));
-    n->br_from = kl_calloc(nr, sizeof(int));
-    n->br_to = kl_calloc(nr, sizeof(int));
-    n->br_kind = kl_calloc(nr, sizeof(int));
-    n->br_phases = kl_calloc(nr, sizeof(int));
-    n->br_section = kl_calloc(nr, sizeof(int));
+    n->order = kl_malloc(nb * sizeof(int));
+    n->phases = kl_malloc(nb * sizeof(int));
+    n->v_base_ln = kl_malloc(nb * sizeof(double));
+    n->split_phase = kl_malloc(nb * 1);
+    n->parent = kl_malloc(nb * sizeof(int));
+    n->br_from = kl_malloc(nr * sizeof(int));
+    n->br_to = kl_malloc(nr * sizeof(int));
+    n->br_kind = kl_malloc(nr * sizeof(int));
+    n->br_phases = kl_malloc(nr * sizeof(int));
+    n->br_section = kl_malloc(nr * sizeof(int));
     n->dev = kl_malloc(nr * sizeof(int));
     n->zy_at = kl_malloc(nr * sizeof(int));
     kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B};
@@ -262,10 +269,10 @@ static kl_status alloc_arrays(kl_network *n, const kl_feeder *f, int nbus, int n
     n->tap = kl_calloc(3 * (size_t)f->nregulators, sizeof(int));
     n->i_from_link = kl_calloc(3 * (nr - (size_t)n->nbranches) + 3, sizeof(kl_complex));
     n->i_to_link = kl_calloc(3 * (nr - (size_t)n->nbranches) + 3, sizeof(kl_complex));
-    n->pos = kl_calloc(nb, sizeof(int));
-    n->br_from_pos = kl_calloc(nr, sizeof(int));
-    n->pos_phases = kl_calloc(nb, 1);
-    n->pos_inv_base = kl_calloc(nb, sizeof(double));
+    n->pos = kl_malloc(nb * sizeof(int));
+    n->br_from_pos = kl_malloc(nr * sizeof(int));
+    n->pos_phases = kl_malloc(nb * 1);
+    n->pos_inv_base = kl_malloc(nb * sizeof(double));
     n->vs = kl_calloc(3 * nb, sizeof(kl_complex));
     n->js = kl_calloc(3 * nb, sizeof(kl_complex));
     ok = ok && n->sec_first && n->sec_last && n->loads && n->ld_slot && n->reg_branch &&
@@ -380,7 +387,12 @@ static int line_a_singular(const kl_complex *Z, const kl_complex *Y, int m)
                    : m == 2 ? a[0] * a[3] - a[1] * a[2]
                    : a[0] * (a[4] * a[8] - a[5] * a[7]) - a[1] * (a[3] * a[8] - a[5] * a[6]) +
                          a[2] * (a[3] * a[7] - a[4] * a[6]);
-    return big == 0 || !(cabs(det) > 1e-300 * big * big * big);
+    double tiny = 1e-300 * big * big * big;
+    /* |det| >= max(|re|, |im|): when that already exceeds the threshold the
+     * answer is known without cabs (the usual case), the same answer */
+    if (big != 0 && (fabs(creal(det)) > tiny || fabs(cimag(det)) > tiny))
+        return 0;
+    return big == 0 || !(cabs(det) > tiny);
 }
 
 /* Line branch k's Z and Y, appended to zy: its construction's per-metre
@@ -419,13 +431,19 @@ static kl_status line_fill(kl_network *n, int k, const kl_section *sc, int const
 }
 
 /* Entries zy needs: 2 m^2 per closed line section (twice when a
- * distributed load splits it), m its phase count as check_line takes it.
- * One pass over the sections in file order, before the search. */
-static size_t zy_count(const kl_feeder *f, const unsigned char *has_dist)
+ * distributed load splits it), m its phase count as check_line takes it;
+ * also the sections split (*nsplit) and the device slots (at most one per
+ * section that is not a line, *ndev).  One pass over the sections in file
+ * order. */
+static size_t section_counts(const kl_feeder *f, const unsigned char *has_dist, int *nsplit,
+                             int *ndev)
 {
     size_t total = 0;
+    *nsplit = *ndev = 0;
     for (int s = 0; s < f->nsections; s++) {
         const kl_section *sc = &f->sections[s];
+        *nsplit += has_dist[s];
+        *ndev += sc->kind != KL_SEC_LINE;
         if (!sc->closed || sc->kind != KL_SEC_LINE || sc->construction < 0 ||
             sc->construction >= f->nconstructions)
             continue;
@@ -850,18 +868,13 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     n->feeder = f;
     st = search(f, &g, steps, &nsec, seen, queue, used, links, &nlinks, err);
     kl_status st2 = report_islands(f, seen, err);
-    kl_status st3 = count_distributed(f, has_dist, err);
+    kl_status st3 = count_distributed(f, has_dist, &ndist, err);
     if (st || st2 || st3) {
         st = st ? st : st2 ? st2 : st3;
         goto done;
     }
-    int ndev_max = 0; /* device slots: at most one per section that is not a line */
-    for (int s = 0; s < f->nsections; s++) {
-        nsplit += has_dist[s];
-        ndev_max += f->sections[s].kind != KL_SEC_LINE;
-    }
-    for (int l = 0; l < f->nloads; l++)
-        ndist += f->loads[l].bus < 0;
+    int ndev_max = 0;
+    size_t zy_cap = section_counts(f, has_dist, &nsplit, &ndev_max);
     n->nfeeder_buses = f->nbuses;
     n->nbuses = f->nbuses + nsplit;
     n->nbranches = nsec + nsplit;
@@ -870,7 +883,7 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     if ((st = alloc_arrays(n, f, n->nbuses, n->nbranches + nlinks, f->nloads + ndist,
                            ndev_max)))
         goto done;
-    n->zy_cap = zy_count(f, has_dist);
+    n->zy_cap = zy_cap;
     if (n->zy_cap > (size_t)INT_MAX || !(n->zy = kl_malloc((n->zy_cap + 1) * sizeof(kl_complex)))) {
         st = KL_ENOMEM; /* offsets are ints: over 100 million lines */
         goto done;
