@@ -859,6 +859,11 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     unsigned char *has_dist = kl_calloc(ns, 1);
     int *mid_of = kl_calloc(ns, sizeof(int)), *links = kl_calloc(ns, sizeof(int));
     kl_network *n = kl_calloc(1, sizeof *n);
+    if (steps && bq && queue) { /* written front to back: one call, not a fault a page */
+        kl_prefault(steps, ns * sizeof *steps);
+        kl_prefault(bq, nb * sizeof *bq);
+        kl_prefault(queue, nb * sizeof(int));
+    }
     int nsec = 0, nsplit = 0, ndist = 0, nlinks = 0;
     if (!steps || !bq || !seen || !queue || !used || !has_dist || !mid_of || !links || !n ||
         (st = incidence_build(f, &g)) != KL_OK) {

@@ -1,0 +1,112 @@
+/* The network build's sweep layout (include/kilter/network.h) on the IEEE
+ * 13-node feeder file: positions, parents and the position-ordered copies
+ * that the build now writes while it emits branches, checked against the
+ * bus-id arrays and against the published feeder's topology.
+ *
+ * Topology facts (IEEE PES Distribution System Analysis Subcommittee, "IEEE
+ * 13 Node Test Feeder" data sheet; W. H. Kersting, "Radial distribution test
+ * feeders", 2001; from memory): 652 is fed by a phase-a-only line from 684,
+ * 611 by a phase-c-only line from 684, 634 is the 480 V side of the in-line
+ * transformer XFM-1 (4.16 kV : 480 V, grounded wye both sides), and one
+ * distributed load lies on the line 632-671. */
+#include <check.h>
+#include <math.h>
+#include <stdlib.h>
+#include "kilter/feeder.h"
+#include "kilter/lines.h"
+#include "kilter/network.h"
+
+static kl_feeder *F;
+static kl_network *N;
+
+static void setup(void)
+{
+    kl_errors err;
+    kl_errors_init(&err);
+    F = NULL;
+    N = NULL;
+    ck_assert_int_eq(kl_feeder_load(KILTER_SOURCE_DIR "/feeders/reference/ieee-13-node.yaml", &F,
+                                    &err), KL_OK);
+    ck_assert_int_eq(kl_lines_derive(F, KL_CARSON_APPROX, &err), KL_OK);
+    ck_assert_int_eq(kl_network_build(F, &N, &err), KL_OK);
+    kl_errors_free(&err);
+}
+
+static void teardown(void)
+{
+    kl_network_free(N);
+    kl_feeder_free(F);
+}
+
+/* network.h: order[] is the source, then the to-bus of each tree branch in
+ * branch order; pos is its inverse; parents come before children. */
+START_TEST(test_positions)
+{
+    ck_assert_int_eq(N->order[0], N->source);
+    ck_assert_int_eq(N->pos[N->source], 0);
+    ck_assert_int_eq(N->parent[N->source], -1);
+    ck_assert_int_eq(N->nbranches + 1, N->nbuses); /* radial: one branch per bus but the source */
+    int *hits = calloc((size_t)N->nbuses, sizeof(int));
+    ck_assert_ptr_nonnull(hits);
+    for (int i = 0; i < N->nbuses; i++) {
+        int b = N->order[i];
+        ck_assert(b >= 0 && b < N->nbuses);
+        hits[b]++;
+        ck_assert_int_eq(N->pos[b], i);
+        ck_assert_int_eq(N->pos_phases[i], N->phases[b]);
+        ck_assert(N->pos_inv_base[i] == 1.0 / N->v_base_ln[b]);
+    }
+    for (int b = 0; b < N->nbuses; b++)
+        ck_assert_int_eq(hits[b], 1);
+    free(hits);
+    for (int k = 0; k < N->nbranches; k++) {
+        ck_assert_int_eq(N->order[k + 1], N->br_to[k]);
+        ck_assert_int_eq(N->parent[N->br_to[k]], k);
+        ck_assert_int_eq(N->br_from_pos[k], N->pos[N->br_from[k]]);
+        ck_assert_int_lt(N->br_from_pos[k], k + 1);
+        ck_assert_int_eq(N->br_phases[k] & ~N->phases[N->br_from[k]], 0);
+    }
+}
+END_TEST
+
+/* The published topology: phases and bases of named buses, and the one
+ * internal node of the distributed load on 632-671. */
+START_TEST(test_published_topology)
+{
+    int b652 = kl_feeder_find_bus(F, "652"), b611 = kl_feeder_find_bus(F, "611");
+    int b634 = kl_feeder_find_bus(F, "634"), b684 = kl_feeder_find_bus(F, "684");
+    int b671 = kl_feeder_find_bus(F, "671"), b632 = kl_feeder_find_bus(F, "632");
+    ck_assert(b652 >= 0 && b611 >= 0 && b634 >= 0 && b684 >= 0 && b671 >= 0 && b632 >= 0);
+    ck_assert_int_eq(N->phases[b652], KL_PH_A);
+    ck_assert_int_eq(N->phases[b611], KL_PH_C);
+    ck_assert_int_eq(N->br_from[N->parent[b652]], b684);
+    ck_assert_int_eq(N->br_from[N->parent[b611]], b684);
+    /* 480 V line-to-line on the low side of XFM-1 */
+    ck_assert(fabs(N->v_base_ln[b634] - 480.0 / sqrt(3.0)) < 1e-9 * 480.0);
+    ck_assert(fabs(N->v_base_ln[b671] - 4160.0 / sqrt(3.0)) < 1e-9 * 4160.0);
+    /* the distributed load's internal node sits between 632 and 671 */
+    ck_assert_int_eq(N->nbuses, N->nfeeder_buses + 1);
+    int mid = N->br_from[N->parent[b671]];
+    ck_assert_int_ge(mid, N->nfeeder_buses);
+    ck_assert_int_eq(N->br_from[N->parent[mid]], b632);
+    int s = kl_feeder_find_section(F, "632-671");
+    ck_assert_int_ge(s, 0);
+    ck_assert_int_eq(N->sec_first[s], N->parent[mid]);
+    ck_assert_int_eq(N->sec_last[s], N->parent[b671]);
+}
+END_TEST
+
+int main(void)
+{
+    Suite *s = suite_create("network_layout");
+    TCase *tc = tcase_create("layout");
+    tcase_add_checked_fixture(tc, setup, teardown);
+    tcase_add_test(tc, test_positions);
+    tcase_add_test(tc, test_published_topology);
+    suite_add_tcase(s, tc);
+    SRunner *sr = srunner_create(s);
+    srunner_run_all(sr, CK_NORMAL);
+    int failed = srunner_ntests_failed(sr);
+    srunner_free(sr);
+    return failed ? EXIT_FAILURE : EXIT_SUCCESS;
+}
