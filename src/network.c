@@ -640,15 +640,33 @@ typedef struct {
     unsigned char ph, split;
 } walk_bus;
 
-/* Bus b placed at sweep position i, fed by branch k: its entries in the
- * bus-id arrays (written once, here) and in the position-ordered ones. */
-static void bus_place(kl_network *n, int b, int i, int k, int ph, double base, int split)
+/* A bus's entries of the bus-id arrays, gathered while the emission visits
+ * the buses in search order: one scattered write of one record per bus
+ * instead of one to each of five arrays; bus_records_scatter then fills
+ * the arrays front to back. */
+typedef struct {
+    double base;
+    int ph, parent, pos;
+    unsigned char split;
+} bus_rec;
+
+static void bus_records_scatter(kl_network *n, const bus_rec *br)
 {
-    n->phases[b] = ph;
-    n->v_base_ln[b] = base;
-    n->split_phase[b] = (unsigned char)split;
-    n->parent[b] = k;
-    n->pos[b] = i;
+    for (int b = 0; b < n->nbuses; b++) {
+        n->phases[b] = br[b].ph;
+        n->v_base_ln[b] = br[b].base;
+        n->split_phase[b] = br[b].split;
+        n->parent[b] = br[b].parent;
+        n->pos[b] = br[b].pos;
+    }
+}
+
+/* Bus b placed at sweep position i, fed by branch k: its record (the
+ * bus-id arrays, later) and its entries in the position-ordered arrays. */
+static void bus_place(kl_network *n, bus_rec *br, int b, int i, int k, int ph, double base,
+                      int split)
+{
+    br[b] = (bus_rec){base, ph, k, i, (unsigned char)split};
     n->order[i] = b;
     n->pos_phases[i] = (unsigned char)ph;
     n->pos_inv_base[i] = 1.0 / base;
@@ -657,8 +675,9 @@ static void bus_place(kl_network *n, int b, int i, int k, int ph, double base, i
 /* Emits the branch(es) of search step w (its to-bus is queue entry q + 1);
  * *nbr and *nbus advance.  The to-bus of tree branch k takes position
  * k + 1 (network.h). */
-static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, int q, int split,
-                              int *nbr, int *nbus, kl_errors *err)
+static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, bus_rec *br,
+                              int (*secp)[2], int q, int split, int *nbr, int *nbus,
+                              kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
     const kl_section *sc = &f->sections[w->s]; /* read for errors and devices only */
@@ -680,21 +699,24 @@ static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, i
     n->br_phases[k] = mask;
     n->br_section[k] = w->s;
     n->br_from_pos[k] = up.pos;
-    n->sec_first[w->s] = n->sec_last[w->s] = k;
+    secp[w->s][0] = secp[w->s][1] = k;
     if ((st = phases_present(n, sc, k, up.ph, err)))
         return st;
     if (w->kind != KL_SEC_LINE) {
-        /* devices (few) work on the bus-id arrays, written for every bus
-         * placed so far */
+        /* devices (few) work on the bus-id arrays: their from-bus's entries
+         * first (the arrays are filled for every bus after the walk) */
+        n->phases[from] = up.ph;
+        n->v_base_ln[from] = up.base;
+        n->split_phase[from] = up.split;
         if ((st = device_branch(n, k, sc, err)))
             return st;
-        bus_place(n, to, k + 1, k, n->phases[to], n->v_base_ln[to], n->split_phase[to]);
+        bus_place(n, br, to, k + 1, k, n->phases[to], n->v_base_ln[to], n->split_phase[to]);
         bq[q + 1] = (walk_bus){n->v_base_ln[to], k + 1, (unsigned char)n->phases[to],
                                n->split_phase[to]};
         return KL_OK;
     }
     n->br_kind[k] = KL_BR_LINE;
-    bus_place(n, n->br_to[k], k + 1, k, mask, up.base, up.split);
+    bus_place(n, br, n->br_to[k], k + 1, k, mask, up.base, up.split);
     if (!split) {
         bq[q + 1] = (walk_bus){up.base, k + 1, (unsigned char)mask, up.split};
         return line_fill(n, k, sc, w->construction, w->length_m * 1.0, err);
@@ -709,8 +731,8 @@ static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, i
     n->br_section[k2] = w->s;
     n->br_kind[k2] = KL_BR_LINE;
     n->br_from_pos[k2] = k + 1;
-    n->sec_last[w->s] = k2;
-    bus_place(n, to, k2 + 1, k2, mask, up.base, up.split);
+    secp[w->s][1] = k2;
+    bus_place(n, br, to, k2 + 1, k2, mask, up.base, up.split);
     bq[q + 1] = (walk_bus){up.base, k2 + 1, (unsigned char)mask, up.split};
     return line_fill(n, k2, sc, w->construction, w->length_m * (1.0 - DIST_AT), err);
 }
@@ -757,14 +779,15 @@ static kl_status emit_link(kl_network *n, int s, int *nbr, kl_errors *err)
     return KL_OK;
 }
 
-static void source_setup(kl_network *n)
+static void source_setup(kl_network *n, bus_rec *br)
 {
     const kl_source *src = &n->feeder->source;
     int b = src->bus;
-    bus_place(n, b, 0, -1, KL_PH_ABC, src->kv_ll * 1000.0 / sqrt(3.0), 0);
+    double base = src->kv_ll * 1000.0 / sqrt(3.0);
+    bus_place(n, br, b, 0, -1, KL_PH_ABC, base, 0);
     double vpu = src->v_pu > 0 ? src->v_pu : 1.0;
     for (int p = 0; p < 3; p++)
-        n->v_source[p] = vpu * n->v_base_ln[b] * cexp(I * (src->angle_deg - 120.0 * p) * DEG);
+        n->v_source[p] = vpu * base * cexp(I * (src->angle_deg - 120.0 * p) * DEG);
     n->has_zsource = src->has_equivalent;
     /* Zs = z1 U + (z0 - z1)/3 (ones): the phase form of the sequence impedances */
     for (int i = 0; i < 9; i++)
@@ -865,6 +888,8 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         kl_prefault(queue, nb * sizeof(int));
     }
     int nsec = 0, nsplit = 0, ndist = 0, nlinks = 0;
+    bus_rec *br = NULL;
+    int (*secp)[2] = NULL;
     if (!steps || !bq || !seen || !queue || !used || !has_dist || !mid_of || !links || !n ||
         (st = incidence_build(f, &g)) != KL_OK) {
         st = KL_ENOMEM;
@@ -894,21 +919,37 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         goto done;
     }
     kl_prefault(n->zy, n->zy_cap * sizeof(kl_complex));
+    /* the scratch the walk scatters into: bus records, section branch pairs */
+    br = kl_malloc(((size_t)n->nbuses + 1) * sizeof *br);
+    secp = kl_malloc(ns * sizeof *secp);
+    if (!br || !secp) {
+        st = KL_ENOMEM;
+        goto done;
+    }
+    kl_prefault(br, (size_t)n->nbuses * sizeof *br);
+    kl_prefault(secp, ns * sizeof *secp);
     for (int s = 0; s < f->nsections; s++)
-        n->sec_first[s] = n->sec_last[s] = -1;
+        secp[s][0] = secp[s][1] = -1;
     for (int r = 0; r < f->nregulators; r++) {
         n->reg_branch[r] = -1;
         for (int p = 0; p < 3; p++)
             n->tap[3 * r + p] = f->regulators[r].tap[p];
     }
-    source_setup(n);
-    bq[0] = (walk_bus){n->v_base_ln[n->source], 0, KL_PH_ABC, 0};
+    source_setup(n, br);
+    bq[0] = (walk_bus){br[n->source].base, 0, KL_PH_ABC, 0};
     int nbr = 0, nbus = f->nbuses;
     for (int q = 0; q < nsec && !st; q++) {
         int s = steps[q].s;
         if (has_dist[s])
             mid_of[s] = nbus;
-        st = emit_section(n, &steps[q], bq, q, has_dist[s], &nbr, &nbus, err);
+        st = emit_section(n, &steps[q], bq, br, secp, q, has_dist[s], &nbr, &nbus, err);
+    }
+    if (!st) {
+        bus_records_scatter(n, br);
+        for (int s = 0; s < f->nsections; s++) {
+            n->sec_first[s] = secp[s][0];
+            n->sec_last[s] = secp[s][1];
+        }
     }
     for (int q = 0; q < nlinks && !st; q++) {
         if (has_dist[links[q]]) {
@@ -932,6 +973,8 @@ done:
     kl_free(g.sec);
     kl_free(steps);
     kl_free(bq);
+    kl_free(br);
+    kl_free(secp);
     kl_free(seen);
     kl_free(queue);
     kl_free(used);
