@@ -650,6 +650,10 @@ typedef struct {
     unsigned char split;
 } bus_rec;
 
+/* the walk keeps both scratch records of a bus inside its js entry */
+_Static_assert(sizeof(walk_bus) + sizeof(bus_rec) <= 3 * sizeof(kl_complex),
+               "walk scratch must fit in js");
+
 static void bus_records_scatter(kl_network *n, const bus_rec *br)
 {
     for (int b = 0; b < n->nbuses; b++) {
@@ -676,8 +680,7 @@ static void bus_place(kl_network *n, bus_rec *br, int b, int i, int k, int ph, d
  * *nbr and *nbus advance.  The to-bus of tree branch k takes position
  * k + 1 (network.h). */
 static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, bus_rec *br,
-                              int (*secp)[2], int q, int split, int *nbr, int *nbus,
-                              kl_errors *err)
+                              int q, int split, int *nbr, int *nbus, kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
     const kl_section *sc = &f->sections[w->s]; /* read for errors and devices only */
@@ -699,7 +702,7 @@ static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, b
     n->br_phases[k] = mask;
     n->br_section[k] = w->s;
     n->br_from_pos[k] = up.pos;
-    secp[w->s][0] = secp[w->s][1] = k;
+    n->sec_first[w->s] = k; /* sec_last follows after the walk: k, or k + 1 when split */
     if ((st = phases_present(n, sc, k, up.ph, err)))
         return st;
     if (w->kind != KL_SEC_LINE) {
@@ -731,7 +734,6 @@ static kl_status emit_section(kl_network *n, const walk_step *w, walk_bus *bq, b
     n->br_section[k2] = w->s;
     n->br_kind[k2] = KL_BR_LINE;
     n->br_from_pos[k2] = k + 1;
-    secp[w->s][1] = k2;
     bus_place(n, br, to, k2 + 1, k2, mask, up.base, up.split);
     bq[q + 1] = (walk_bus){up.base, k2 + 1, (unsigned char)mask, up.split};
     return line_fill(n, k2, sc, w->construction, w->length_m * (1.0 - DIST_AT), err);
@@ -876,21 +878,19 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
     /* flags as bytes: the search reads them in random order, so a quarter of
      * the cache lines an int array would take */
     walk_step *steps = kl_malloc(ns * sizeof *steps);
-    walk_bus *bq = kl_malloc(nb * sizeof *bq);
     int *queue = kl_malloc(nb * sizeof(int));
     unsigned char *seen = kl_calloc(nb, 1), *used = kl_calloc(ns, 1);
     unsigned char *has_dist = kl_calloc(ns, 1);
     int *mid_of = kl_calloc(ns, sizeof(int)), *links = kl_calloc(ns, sizeof(int));
     kl_network *n = kl_calloc(1, sizeof *n);
-    if (steps && bq && queue) { /* written front to back: one call, not a fault a page */
+    if (steps && queue) { /* written front to back: one call, not a fault a page */
         kl_prefault(steps, ns * sizeof *steps);
-        kl_prefault(bq, nb * sizeof *bq);
         kl_prefault(queue, nb * sizeof(int));
     }
     int nsec = 0, nsplit = 0, ndist = 0, nlinks = 0;
+    walk_bus *bq = NULL;
     bus_rec *br = NULL;
-    int (*secp)[2] = NULL;
-    if (!steps || !bq || !seen || !queue || !used || !has_dist || !mid_of || !links || !n ||
+    if (!steps || !seen || !queue || !used || !has_dist || !mid_of || !links || !n ||
         (st = incidence_build(f, &g)) != KL_OK) {
         st = KL_ENOMEM;
         goto done;
@@ -919,17 +919,13 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         goto done;
     }
     kl_prefault(n->zy, n->zy_cap * sizeof(kl_complex));
-    /* the scratch the walk scatters into: bus records, section branch pairs */
-    br = kl_malloc(((size_t)n->nbuses + 1) * sizeof *br);
-    secp = kl_malloc(ns * sizeof *secp);
-    if (!br || !secp) {
-        st = KL_ENOMEM;
-        goto done;
-    }
-    kl_prefault(br, (size_t)n->nbuses * sizeof *br);
-    kl_prefault(secp, ns * sizeof *secp);
+    /* the walk's scratch (from-bus records by queue index, bus records by
+     * bus id: 16 + 24 bytes a bus) lives in js, mapped already and not used
+     * before the first solve (zeroed again after the walk): no fresh pages */
+    bq = (walk_bus *)(void *)n->js;
+    br = (bus_rec *)(void *)((char *)n->js + (size_t)n->nbuses * sizeof *bq);
     for (int s = 0; s < f->nsections; s++)
-        secp[s][0] = secp[s][1] = -1;
+        n->sec_first[s] = -1;
     for (int r = 0; r < f->nregulators; r++) {
         n->reg_branch[r] = -1;
         for (int p = 0; p < 3; p++)
@@ -942,14 +938,14 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
         int s = steps[q].s;
         if (has_dist[s])
             mid_of[s] = nbus;
-        st = emit_section(n, &steps[q], bq, br, secp, q, has_dist[s], &nbr, &nbus, err);
+        st = emit_section(n, &steps[q], bq, br, q, has_dist[s], &nbr, &nbus, err);
     }
     if (!st) {
         bus_records_scatter(n, br);
-        for (int s = 0; s < f->nsections; s++) {
-            n->sec_first[s] = secp[s][0];
-            n->sec_last[s] = secp[s][1];
-        }
+        /* a split section's two branches are emitted one after the other */
+        for (int s = 0; s < f->nsections; s++)
+            n->sec_last[s] = n->sec_first[s] < 0 ? -1 : n->sec_first[s] + has_dist[s];
+        memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
     }
     for (int q = 0; q < nlinks && !st; q++) {
         if (has_dist[links[q]]) {
@@ -972,9 +968,6 @@ done:
     kl_free(g.start);
     kl_free(g.sec);
     kl_free(steps);
-    kl_free(bq);
-    kl_free(br);
-    kl_free(secp);
     kl_free(seen);
     kl_free(queue);
     kl_free(used);
