@@ -169,10 +169,12 @@ static int cap_nparts(const kl_network *n, int c)
     return (ph & 1) + ((ph >> 1) & 1) + ((ph >> 2) & 1);
 }
 
-/* Counting sort by position, straight into dst (every part of one load or
- * capacitor sits at its bus): count, prefix sums, place.  start[] is the
- * only scratch; returns the number of parts. */
-static size_t parts_place(const kl_network *n, kl_load_part *dst, int *start, int caps)
+/* Counting sort by position, straight into the parts array (every part of
+ * one load or capacitor sits at its bus): parts_count counts and forms the
+ * prefix sums in start[] (the only scratch) and returns the number of parts,
+ * parts_fill places them.  The loads are counted once: their start[] is
+ * used as it is, the capacitors' (few) counted after it. */
+static size_t parts_count(const kl_network *n, int *start, int caps)
 {
     int nitems = caps ? n->feeder->ncapacitors : n->nloads;
     memset(start, 0, sizeof(int) * ((size_t)n->nbuses + 1));
@@ -182,15 +184,17 @@ static size_t parts_place(const kl_network *n, kl_load_part *dst, int *start, in
     }
     for (int i = 0; i < n->nbuses; i++)
         start[i + 1] += start[i];
-    size_t total = (size_t)start[n->nbuses];
-    if (!dst)
-        return total;
+    return (size_t)start[n->nbuses];
+}
+
+static void parts_fill(const kl_network *n, kl_load_part *dst, int *start, int caps)
+{
+    int nitems = caps ? n->feeder->ncapacitors : n->nloads;
     for (int m = 0; m < nitems; m++) {
         int b = caps ? n->feeder->capacitors[m].bus : n->loads[m].bus;
         int *at = &start[n->pos[b]];
         *at += caps ? cap_parts_of(n, m, dst + *at) : load_parts_of(n, m, dst + *at);
     }
-    return total;
 }
 
 kl_status kl_load_parts_build(kl_network *n)
@@ -202,7 +206,9 @@ kl_status kl_load_parts_build(kl_network *n)
     int *start = kl_malloc(sizeof(int) * ((size_t)n->nbuses + 1));
     if (!start)
         return KL_ENOMEM;
-    size_t np = parts_place(n, NULL, start, 0), nc = parts_place(n, NULL, start, 1);
+    size_t np = parts_count(n, start, 0), nc = 0;
+    for (int c = 0; c < n->feeder->ncapacitors; c++)
+        nc += (size_t)cap_nparts(n, c);
     n->parts = kl_malloc((np + nc + 1) * sizeof *n->parts);
     if (!n->parts) {
         kl_free(start);
@@ -211,8 +217,9 @@ kl_status kl_load_parts_build(kl_network *n)
     kl_prefault(n->parts, (np + nc) * sizeof *n->parts); /* one call, not a fault a page */
     n->nparts = (int)np;
     n->ncap_parts = (int)nc;
-    parts_place(n, n->parts, start, 0);
-    parts_place(n, n->parts + np, start, 1);
+    parts_fill(n, n->parts, start, 0);
+    parts_count(n, start, 1);
+    parts_fill(n, n->parts + np, start, 1);
     kl_free(start);
     n->parts_stale = 0;
     return KL_OK;
