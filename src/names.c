@@ -105,6 +105,7 @@ const char *kl_names_slot_name(const kl_names *t, unsigned i)
 int kl_names_find_hint(const kl_names *t, const char *s, size_t len, kl_name_hint *hint)
 {
     unsigned h, i;
+    hint->table = NULL; /* no hint unless the probe below ends on a free slot */
     hint->cap = 0;
     if (!t->cap)
         return -1;
@@ -235,7 +236,7 @@ done:
  * as long as nothing was added since and the table need not grow. */
 kl_status kl_names_add_hint(kl_names *t, const char *name, int index, const kl_name_hint *hint)
 {
-    if (hint->table == t && hint->cap && hint->cap == t->cap && hint->count == t->count &&
+    if (hint->cap && hint->table == t && hint->cap == t->cap && hint->count == t->count &&
         (unsigned)(t->count + 1) * 2 <= t->cap && !t->slots[hint->slot].ref &&
         strlen(name) == hint->len) {
         t->slots[hint->slot].hash = hint->hash;
