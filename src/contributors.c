@@ -254,7 +254,7 @@ static void tap_sums(const kl_feeder *f, const kl_study_phases *ph,
 
 typedef struct {
     contrib_ws w;
-    kl_study_tree t;
+    const kl_study_tree *t; /* not owned */
     double *share;      /* [nloads] */
     double *tap_share;  /* [nsections] */
     int *tap_loads;     /* [nsections] */
@@ -264,18 +264,16 @@ typedef struct {
 static void rank_ws_free(rank_ws *r)
 {
     ws_free(&r->w);
-    kl_study_tree_free(&r->t);
     kl_free(r->share);
     kl_free(r->tap_share);
     kl_free(r->tap_loads);
     kl_free(r->items);
 }
 
-static kl_status rank_ws_alloc(const kl_feeder *f, const kl_study_phases *ph,
-                               const kl_study_paths *p, rank_ws *r)
+static kl_status rank_ws_alloc(const kl_feeder *f, const kl_study_paths *p, rank_ws *r)
 {
     size_t nl = (size_t)f->nloads + 1, ns = (size_t)f->nsections + 1;
-    if (ws_alloc(p, &r->w) != KL_OK || kl_study_tree_build(f, ph->sec_solved, &r->t) != KL_OK)
+    if (ws_alloc(p, &r->w) != KL_OK)
         return KL_ENOMEM;
     r->share = kl_calloc(nl, sizeof *r->share);
     r->tap_share = kl_calloc(ns, sizeof *r->tap_share);
@@ -293,7 +291,7 @@ static void rank_bus(const kl_feeder *f, const kl_study_phases *ph,
     double total;
     kpath_set(p, k, &r->w);
     shares_at(f, ph, p, &r->w, k, r->share, &total);
-    tap_sums(f, ph, &r->t, r->share, r->tap_share, r->tap_loads);
+    tap_sums(f, ph, r->t, r->share, r->tap_share, r->tap_loads);
     s->c_unbal_total[c] = s->c_three_phase[c] = 0;
     for (int L = 0; L < f->nloads; L++) {
         if (isnan(r->share[L]))
@@ -360,13 +358,29 @@ kl_status kl_contrib_rank(const kl_feeder *f, const kl_study_phases *ph,
                           const kl_study_paths *paths, const kl_study_options *opt,
                           kl_study *s, kl_errors *err)
 {
+    kl_study_tree t = { 0 };
+    if (kl_study_tree_build(f, ph->sec_solved, &t) != KL_OK) {
+        kl_study_tree_free(&t);
+        kl_errors_add(err, NULL, 0, 0, "contributors", "out of memory ranking contributors");
+        return KL_ENOMEM;
+    }
+    kl_status st = kl_contrib_rank_on(f, ph, &t, paths, opt, s, err);
+    kl_study_tree_free(&t);
+    return st;
+}
+
+kl_status kl_contrib_rank_on(const kl_feeder *f, const kl_study_phases *ph,
+                             const kl_study_tree *t, const kl_study_paths *paths,
+                             const kl_study_options *opt, kl_study *s, kl_errors *err)
+{
     rank_ws r = { 0 };
     kl_status st = paths_check(f, paths, f->source.bus, err);
     if (st != KL_OK)
         return st;
+    r.t = t;
     st = table_alloc(s, opt->max_contributors, opt->at_bus);
     if (st == KL_OK)
-        st = rank_ws_alloc(f, ph, paths, &r);
+        st = rank_ws_alloc(f, paths, &r);
     if (st == KL_OK) {
         for (int c = 0; c < s->ncbus; c++)
             rank_bus(f, ph, paths, opt, &r, s, c);

@@ -409,6 +409,15 @@ typedef struct {
 /* sec_live: [nsections] 1 when the section carries current (NULL: closed ones). */
 kl_status kl_study_tree_build(const kl_feeder *f, const int *sec_live, kl_study_tree *t);
 void kl_study_tree_free(kl_study_tree *t);
+/* kl_neutral_size and kl_contrib_rank (study.h) on a tree the caller built,
+ * so that a study builds it once for both. */
+#include "kilter/study.h"
+kl_status kl_neutral_size_on(const kl_feeder *f, const kl_study_phases *ph,
+                             const kl_study_tree *t, const kl_study_options *opt, kl_study *s,
+                             kl_errors *err);
+kl_status kl_contrib_rank_on(const kl_feeder *f, const kl_study_phases *ph,
+                             const kl_study_tree *t, const kl_study_paths *paths,
+                             const kl_study_options *opt, kl_study *s, kl_errors *err);
 /* The source-side and load-side buses of a section (sections may be written
  * with `to` on the source side: kl_section.reversed). */
 static inline int kl_sec_up(const kl_section *s) { return s->reversed ? s->to : s->from; }

@@ -174,19 +174,31 @@ kl_status kl_neutral_size(const kl_feeder *f, const kl_study_phases *ph,
                           const kl_study_options *opt, kl_study *s, kl_errors *err)
 {
     kl_study_tree t = { 0 };
+    kl_status st = KL_ENOMEM;
+    if (kl_study_tree_build(f, ph->sec_solved, &t) == KL_OK)
+        st = kl_neutral_size_on(f, ph, &t, opt, s, err);
+    else
+        kl_errors_add(err, NULL, 0, 0, "study", "out of memory sizing the neutrals");
+    kl_study_tree_free(&t);
+    return st;
+}
+
+kl_status kl_neutral_size_on(const kl_feeder *f, const kl_study_phases *ph,
+                             const kl_study_tree *t, const kl_study_options *opt, kl_study *s,
+                             kl_errors *err)
+{
     double *at_bus = kl_calloc((size_t)f->nbuses + 1, sizeof *at_bus);
     kl_status st = KL_ENOMEM;
-    if (!at_bus || kl_study_tree_build(f, ph->sec_solved, &t) != KL_OK)
+    if (!at_bus)
         goto done;
-    triplen_sum(f, ph, &t, at_bus, s);
+    triplen_sum(f, ph, t, at_bus, s);
     combine(f, opt, s);
-    st = runs_alloc(s, assign_runs(f, &t, s));
+    st = runs_alloc(s, assign_runs(f, t, s));
     if (st == KL_OK)
-        runs_fill(f, &t, opt, s);
+        runs_fill(f, t, opt, s);
 done:
     if (st == KL_ENOMEM)
         kl_errors_add(err, NULL, 0, 0, "study", "out of memory sizing the neutrals");
     kl_free(at_bus);
-    kl_study_tree_free(&t);
     return st;
 }

@@ -7,8 +7,11 @@
 #include "kl_internal.h"
 #include "kilter/progress.h"
 
-/* Runs fn into a memory stream and returns the text (caller frees). */
-static char *capture(void (*fn)(FILE *, const void *), const void *arg)
+/* Runs fn into a memory stream and returns the text (caller frees).  Not
+ * inlined: GCC 12 then takes the returned text for a pointer into the local
+ * `buf` itself (whose address open_memstream keeps) and warns
+ * -Wdangling-pointer at every use. */
+__attribute__((noinline)) static char *capture(void (*fn)(FILE *, const void *), const void *arg)
 {
     char *buf = NULL;
     size_t len = 0;
