@@ -8,10 +8,8 @@
  * (concentric-neutral and tape-shielded cables). */
 #include <math.h>
 #include "kilter/lines.h"
+#include "kilter/units.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846 /* math.h hides it in strict C11 */
-#endif
 
 /* Product of the distances from a point at distance d from the centre to k
  * points equally spaced on a circle of radius R, one of them towards the
@@ -66,7 +64,7 @@ kl_status kl_cable_tape_ring(double rho_ohm_m, double d_tape_m, double t_m,
     ring->ring_m = (d_tape_m - t_m) / 2.0;
     ring->strands = 0;
     ring->gmr_m = ring->ring_m;
-    ring->r_ohm_per_m = rho_ohm_m / (M_PI * d_tape_m * t_m);
+    ring->r_ohm_per_m = rho_ohm_m / (KL_PI * d_tape_m * t_m);
     ring->radius_m = d_tape_m / 2.0;
     return KL_OK;
 }

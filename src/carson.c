@@ -10,14 +10,12 @@
  * gives the familiar 0.09530 ohm/mile and 0.12134 (ln(1/GMR) + 7.93402). */
 #include <math.h>
 #include "kilter/lines.h"
+#include "kilter/units.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846 /* math.h hides it in strict C11 */
-#endif
 #define SQRT2 1.41421356237309504880
 #define LN2 0.69314718055994530942
 
-#define MU0 (4e-7 * M_PI) /* H/m; the pre-2019 exact value, within 1e-9 of today's */
+#define MU0 (4e-7 * KL_PI) /* H/m; the pre-2019 exact value, within 1e-9 of today's */
 #define EULER_GAMMA 0.57721566490153286
 #define SERIES_LIMIT 20.0 /* series up to here, asymptotic beyond: see pq_asymptotic */
 
@@ -34,7 +32,7 @@ static double q_constant(kl_carson_form form)
  * shape with period four in i. */
 static void pq_series(double a, double phi, double *P, double *Q)
 {
-    double lna = log(a), p = M_PI / 8.0;
+    double lna = log(a), p = KL_PI / 8.0;
     double q = q_constant(KL_CARSON_FULL) + 0.5 * (LN2 - lna);
     double b_last[2] = {1.0 / 16.0, SQRT2 / 6.0}; /* latest |b_i|: [0] even i, [1] odd i */
     double c = 1.25 - EULER_GAMMA + LN2;          /* c_i for the latest even i */
@@ -49,7 +47,7 @@ static void pq_series(double a, double phi, double *P, double *Q)
                 c += 1.0 / i + 1.0 / (i + 2.0);
         }
         double b = sign * b_last[odd];
-        double d = M_PI / 4.0 * b;
+        double d = KL_PI / 4.0 * b;
         double cs = ai * cos(i * phi), sn = ai * sin(i * phi);
         double tp, tq;
         switch (i % 4) {
@@ -85,7 +83,7 @@ static void pq_asymptotic(double a, double phi, double *P, double *Q)
 void kl_carson_pq(double a, double phi, kl_carson_form form, double *P, double *Q)
 {
     if (form == KL_CARSON_APPROX) {
-        *P = M_PI / 8.0;
+        *P = KL_PI / 8.0;
         *Q = q_constant(form) + 0.5 * log(2.0 / a);
     } else if (a <= SERIES_LIMIT) {
         pq_series(a, phi, P, Q);
@@ -122,7 +120,7 @@ kl_status kl_carson_primitive(const kl_wire *w, int n, double freq_hz,
     kl_status st = check_wires(w, n, freq_hz, rho_ohm_m, err);
     if (st != KL_OK)
         return st;
-    double omega = 2.0 * M_PI * freq_hz;
+    double omega = 2.0 * KL_PI * freq_hz;
     double m = sqrt(omega * MU0 / rho_ohm_m); /* 1/m: a = m S */
     for (int i = 0; i < n; i++) {
         for (int j = i; j < n; j++) {
@@ -137,8 +135,8 @@ kl_status kl_carson_primitive(const kl_wire *w, int n, double freq_hz,
             }
             double P, Q;
             kl_carson_pq(m * S, atan2(fabs(dx), hi + hj), form, &P, &Q);
-            kl_complex z = omega * MU0 / M_PI * (P + I * Q)
-                         + I * omega * MU0 / (2.0 * M_PI) * log(S / D);
+            kl_complex z = omega * MU0 / KL_PI * (P + I * Q)
+                         + I * omega * MU0 / (2.0 * KL_PI) * log(S / D);
             if (i == j)
                 z += w[i].r_ohm_per_m;
             zp[i * n + j] = zp[j * n + i] = z;

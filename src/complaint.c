@@ -8,8 +8,8 @@
  * the model's phasor VUF). */
 #include <math.h>
 #include "kilter/study.h"
+#include "kilter/units.h"
 
-#define KL_SQRT3 1.73205080756887729353
 /* A reading within 20 % of a nominal is taken to be on that nominal: far
  * wider than any service-voltage range, far narrower than the step between
  * a primary base and the 120 V base (common practice). */

@@ -9,10 +9,8 @@
 #include <stdio.h>
 #include <string.h>
 #include "kilter/lines.h"
+#include "kilter/units.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846 /* math.h hides it in strict C11 */
-#endif
 
 /* The system of one construction: np phases first (in a, b, c order), then
  * the conductors Kron reduces away. */

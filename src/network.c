@@ -17,11 +17,12 @@
 #include <string.h>
 #include "kilter/network.h"
 #include "kl_internal.h"
+#include "kilter/units.h"
 
 #define DIST_AT 0.25          /* internal node position, share of the length */
 #define DIST_NEAR (2.0 / 3.0) /* share of the load at the internal node */
 
-static const double DEG = 3.14159265358979323846 / 180.0;
+static const double DEG = KL_PI / 180.0;
 
 static void net_err(kl_errors *e, const kl_feeder *f, kl_loc loc, const char *kind,
                     const char *name, const char *msg)

@@ -9,6 +9,7 @@
 #include <math.h>
 #include "kl_internal.h"
 #include "kilter/sequence.h"
+#include "kilter/units.h"
 
 #define PANEL 440.0
 #define R 150.0 /* pixels for the reference length of a panel */
@@ -20,7 +21,7 @@ static const char *const seq_colour[3] = {"#5a5a5a", "#2f7d3a", "#6a3d9a"};
 /* Angle in degrees; an angle that would print as "-0.00" prints as 0.00. */
 static double deg(kl_complex z)
 {
-    double d = carg(z) * (180.0 / 3.14159265358979323846);
+    double d = carg(z) * KL_DEG_PER_RAD;
     return fabs(d) < 0.005 ? 0.0 : d;
 }
 

@@ -19,8 +19,9 @@
 #include <string.h>
 #include "kilter/rebalance.h"
 #include "kl_internal.h"
+#include "kilter/units.h"
 
-static const double PI = 3.14159265358979323846;
+static const double PI = KL_PI;
 
 int kl_phase_mask_rotate(int mask, int r)
 {

@@ -6,17 +6,15 @@
  * because A is symmetric with A conj(A) = 3 I. */
 #include <math.h>
 #include "kilter/lines.h"
+#include "kilter/units.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846 /* math.h hides it in strict C11 */
-#endif
 
 /* A[i][j] = a^(-i j): row 1 is [1 a^2 a], row 2 is [1 a a^2]. */
 static void fortescue(kl_complex A[3][3])
 {
     for (int i = 0; i < 3; i++)
         for (int j = 0; j < 3; j++)
-            A[i][j] = cexp(-I * 2.0 * M_PI * ((i * j) % 3) / 3.0);
+            A[i][j] = cexp(-I * 2.0 * KL_PI * ((i * j) % 3) / 3.0);
 }
 
 void kl_seqz_from_phase(const kl_complex zabc[3][3], kl_complex z012[3][3])

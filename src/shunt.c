@@ -17,12 +17,10 @@
 #include <math.h>
 #include <gsl/gsl_linalg.h>
 #include "kilter/lines.h"
+#include "kilter/units.h"
 
-#ifndef M_PI
-#define M_PI 3.14159265358979323846 /* math.h hides it in strict C11 */
-#endif
 
-static double two_pi_eps0(void) { return 2.0 * M_PI * KL_EPSILON0; }
+static double two_pi_eps0(void) { return 2.0 * KL_PI * KL_EPSILON0; }
 
 /* P[n*n] in m/F; returns -1 on an impossible geometry. */
 static int potential_coefficients(const kl_wire *w, int n, double *P)
@@ -105,7 +103,7 @@ kl_status kl_shunt_overhead(const kl_wire *w, int n, int np, int neutral_grounde
         return st;
     }
     for (int i = 0; i < np * np; i++)
-        b[i] *= 2.0 * M_PI * freq_hz;
+        b[i] *= 2.0 * KL_PI * freq_hz;
     return KL_OK;
 }
 
@@ -113,10 +111,10 @@ double kl_shunt_concentric(double freq_hz, double eps_r, double R_m,
                            double rd_c_m, double rd_s_m, int k)
 {
     double den = log(R_m / rd_c_m) - log(k * rd_s_m / R_m) / k;
-    return two_pi_eps0() * eps_r * 2.0 * M_PI * freq_hz / den;
+    return two_pi_eps0() * eps_r * 2.0 * KL_PI * freq_hz / den;
 }
 
 double kl_shunt_tape(double freq_hz, double eps_r, double rb_m, double rd_c_m)
 {
-    return two_pi_eps0() * eps_r * 2.0 * M_PI * freq_hz / log(rb_m / rd_c_m);
+    return two_pi_eps0() * eps_r * 2.0 * KL_PI * freq_hz / log(rb_m / rd_c_m);
 }

@@ -11,6 +11,12 @@
 #include "kilter/error.h"
 #include "kilter/feeder.h"
 
+/* pi and sqrt(3) to the precision of a double; math.h's M_PI is not part of
+ * strict C11, so every file takes these. */
+#define KL_PI 3.14159265358979323846
+#define KL_SQRT3 1.73205080756887729353
+#define KL_DEG_PER_RAD (180.0 / KL_PI)
+
 /* Exact by definition (international foot and mile, 1959; NIST SP 811 B.8). */
 #define KL_M_PER_FT 0.3048
 #define KL_M_PER_IN 0.0254

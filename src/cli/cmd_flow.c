@@ -10,8 +10,9 @@
 #include "kilter/lines.h"
 #include "kilter/network.h"
 #include "cli.h"
+#include "kilter/units.h"
 
-static const double RAD2DEG = 180.0 / 3.14159265358979323846;
+static const double RAD2DEG = KL_DEG_PER_RAD;
 static const char PH[3] = {'a', 'b', 'c'};
 
 enum { OPT_TABLE, OPT_SOLVER, OPT_CARSON, OPT_SCALE, NOPTS };

@@ -7,9 +7,10 @@
 #include "kilter/limits.h"
 #include "cli.h"
 #include "study_print.h"
+#include "kilter/units.h"
 
-#define SQRT3 1.73205080756887729353
-#define RAD2DEG (180.0 / 3.14159265358979323846)
+#define SQRT3 KL_SQRT3
+#define RAD2DEG KL_DEG_PER_RAD
 #define MAX_LIST 8 /* names listed per broken limit in the summary */
 
 static const char PH[3] = { 'a', 'b', 'c' };
