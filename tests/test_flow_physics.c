@@ -7,7 +7,7 @@
 #include "flow_fixture.h"
 #include "kilter/flow.h"
 #include "kilter/network.h"
-#include "kl_internal.h"
+#include "kl_flow.h"
 
 static hand_feeder H;
 
@@ -671,7 +671,7 @@ START_TEST(test_random_feeders)
             kl_cm3_vec(c, kl_network_bus_v(n, n->br_to[k]), t);
             kl_cm3_vec(d, kl_network_i_to(n, k), t2);
             kl_complex ifr[3];
-            kl_network_i_from(n, k, ifr);
+            kl_sweep_i_from(n, k, ifr);
             for (int p = 0; p < 3; p++)
                 ck_assert(cabs(t[p] + t2[p] - ifr[p]) < 1e-9 * (1 + cabs(t2[p])));
         }

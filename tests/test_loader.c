@@ -10,7 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "kilter/feeder.h"
-#include "kl_internal.h"
+#include "kl_io.h"
 
 #define HEAD \
     "kilter-feeder: 1\n"                                                                      /* 1 */ \

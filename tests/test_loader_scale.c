@@ -13,7 +13,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "kilter/feeder.h"
-#include "kl_internal.h"
+#include "kl_io.h"
 
 /* Check writes a message per ck_assert (its fork mode's bookkeeping), too
  * slow for a check per name: loops test with this and fail with the same

@@ -16,7 +16,7 @@
 #include "kilter/flow.h"
 #include "kilter/lines.h"
 #include "kilter/network.h"
-#include "kl_internal.h"
+#include "kl_flow.h"
 
 #define AGREE_PU 1e-6 /* the agreement requirement */
 

@@ -22,7 +22,7 @@
 #include "kilter/lines.h"
 #include "kilter/network.h"
 #include "kilter/rebalance.h"
-#include "kl_internal.h"
+#include "kl_rebalance.h"
 
 /* A small feeder: a three-phase main with equal self and equal mutual
  * impedances (so every phase is alike), laterals and loads added by the

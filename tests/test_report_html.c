@@ -8,7 +8,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include "kl_internal.h"
+#include "kl_report.h"
 #include "kilter/report.h"
 #include "kilter/study.h"
 #include "kilter/rebalance.h"

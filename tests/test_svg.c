@@ -4,7 +4,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include "kl_internal.h"
+#include "kl_report.h"
 #include "kilter/progress.h"
 
 /* Runs fn into a memory stream and returns the text (caller frees).  Not

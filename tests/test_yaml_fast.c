@@ -15,7 +15,7 @@
 #include "kilter/error.h"
 #include "kilter/feeder.h"
 #include "kilter/rebalance.h"
-#include "kl_internal.h"
+#include "kl_io.h"
 
 #define MAX_EVENTS 200000
 #define SMALL_WINDOW ((size_t)80 << 10) /* the scanner's 64 KiB margin plus 16 KiB */

@@ -16,19 +16,13 @@
 #include <stddef.h>
 #include <stdint.h>
 #include "kilter/error.h"
+#include "kilter/types.h"
 
-typedef double complex kl_complex;
-
-/* Phase masks: a bus or section holds any subset of a, b, c. */
-enum { KL_PH_A = 1, KL_PH_B = 2, KL_PH_C = 4, KL_PH_ABC = 7 };
 
 #define KL_FEEDER_FORMAT_VERSION 1 /* value of `kilter-feeder:` the loader accepts */
 #define KL_MAX_WIRES 8             /* wire positions in one layout */
 #define KL_MAX_NEUTRALS 2          /* neutrals per construction */
 
-typedef struct { int line, col; } kl_loc; /* 1-based position in the file */
-
-typedef enum { KL_UNITS_US = 0, KL_UNITS_SI = 1 } kl_unit_system;
 
 typedef struct {
     const char *name;
@@ -231,7 +225,6 @@ typedef struct {
     kl_loc loc;
 } kl_source;
 
-typedef struct kl_arena kl_arena; /* string arena (internal) */
 
 typedef struct kl_feeder {
     const char *path;          /* file the feeder was read from */
@@ -278,5 +271,18 @@ int kl_feeder_find_load(const kl_feeder *f, const char *name);
 const char *kl_phases_str(int mask, char buf[4]);
 /* How many of a, b, c a mask holds (0..3). */
 int kl_phases_count(int mask);
+/* Cyclic relabelling of a phase mask by r steps (a -> b for r = 1). */
+int kl_phases_rotate(int mask, int r);
+
+/* Writes the feeder as a kilter feeder file (format version 1, SI units),
+ * with section i's phases rotated by sec_rot[i] and load i's entries by
+ * load_rot[i] (either may be NULL: no rotation).  Line constructions used by
+ * rotated sections are written once more, rotated, under a new name.  The
+ * file is written to a temporary name beside `path` and renamed: whole or
+ * not at all. */
+kl_status kl_feeder_write(const kl_feeder *f, const int *sec_rot, const int *load_rot,
+                          const char *path, kl_errors *err);
+
+
 
 #endif

@@ -80,7 +80,7 @@ kl_status kl_flow_solve(kl_network *net, const kl_flow_options *opt,
 
 /* One sweep solve at the present taps (no regulator control): fills
  * net->vs and net->js (network.h: by sweep position; kl_network_bus_v,
- * kl_network_i_to and kl_network_i_from read them per bus and branch).
+ * kl_network_i_to and kl_sweep_i_from read them per bus and branch).
  * Returns KL_ENOCONV with the record filled. */
 kl_status kl_sweep_solve(kl_network *net, const kl_flow_options *opt,
                          kl_flow_result *res, kl_errors *err);

@@ -21,7 +21,7 @@
  *
  * Rephasing: which phase slot each entry of a load connects to is a value
  * (ld_slot), copied into the load parts and read by the load model at every
- * iteration, not topology (kl_network_loads_moved after changing it); moving
+ * iteration, not topology (kl_load_parts_moved after changing it); moving
  * a whole lateral permutes its branch matrices and the bus phase masks
  * (rephase.c: a line's packed Z, Y are unpacked, relabelled, packed). */
 #ifndef KILTER_NETWORK_H
@@ -126,12 +126,12 @@ typedef struct kl_network {
     int *ld_slot;          /* [3*feeder nloads] phase slot (0..2) of each load entry:
                             * wye entry k sits on phase slot s; delta entry k joins
                             * phases s and (s+1)%3.  Identity (s = k) when built.
-                            * After changing it, call kl_network_loads_moved. */
+                            * After changing it, call kl_load_parts_moved. */
     /* The load model's working form (load_model.c): one record per energized
      * entry of every network load (a ZIP entry gives one per nonzero share
      * of its Z, I and P parts), then one per capacitor entry, each in sweep-position order, so
      * the load pass reads the records and the bus arrays front to back.  The
-     * slots p, q are copies of ld_slot, refreshed by kl_network_loads_moved. */
+     * slots p, q are copies of ld_slot, refreshed by kl_load_parts_moved. */
     int nparts, ncap_parts;/* load parts, then capacitor parts after them */
     kl_load_part *parts;   /* [nparts + ncap_parts] */
     int parts_stale;       /* 1 when ld_slot changed since the parts were refreshed */
@@ -163,15 +163,18 @@ typedef struct kl_network {
     kl_complex *i_from_link; /* [3*nlinks] sending-end currents of the loop-closing branches */
     kl_complex *i_to_link; /* [3*nlinks] receiving-end currents of the loop-closing branches */
     /* A tree branch's sending-end currents are not stored: the backward sweep
-     * adds them into js and kl_network_i_from recomputes them from the
+     * adds them into js and kl_sweep_i_from recomputes them from the
      * branch model at the present vs, js (the same arithmetic, the same
      * numbers), which saves 48 bytes per branch and their traffic. */
 
     /* nodal solver (nodal.c): its matrix, ordering and LU factors, built on
      * the first nodal solve and kept, so later solves only refactor when
      * regulator taps have moved.  Code that changes branch matrices in any
-     * other way must drop it: kl_network_nodal_reset. */
+     * other way must drop it: kl_nodal_reset.  The nodal solver attaches its
+     * own release function, so that kl_network_free (a layer below it) frees
+     * it without calling up into nodal.c. */
     struct kl_nodal *nodal;
+    void (*nodal_free)(struct kl_nodal *w);
 } kl_network;
 
 /* Analyses the feeder: breadth-first order from the source, per-bus phases
@@ -182,7 +185,7 @@ kl_status kl_network_build(const kl_feeder *f, kl_network **out, kl_errors *err)
 void kl_network_free(kl_network *net);
 
 /* Frees the nodal solver's matrix and factors (rebuilt on the next nodal solve). */
-void kl_network_nodal_reset(kl_network *net);
+void kl_nodal_reset(kl_network *net);
 
 /* Line branch k's generalized matrices from its packed Z and Y (see the
  * layout above); any output may be NULL.  A and B need a^-1 on the present
@@ -227,13 +230,13 @@ static inline kl_complex *kl_network_i_to(const kl_network *net, int k)
 /* Branch k's sending-end currents: a tree branch's from its model at the
  * present voltages and currents (I_from = c V_to + d I_to; a line in the
  * ladder form the sweep uses, sweep.c), a loop-closing branch's stored. */
-void kl_network_i_from(const kl_network *net, int k, kl_complex out[3]);
+void kl_sweep_i_from(const kl_network *net, int k, kl_complex out[3]);
 
 /* Call after changing ld_slot: the load model's records follow before the
  * next solve. */
-void kl_network_loads_moved(kl_network *net);
+void kl_load_parts_moved(kl_network *net);
 
 /* Recomputes regulator r's branch matrices from net->tap (no allocation). */
-void kl_network_regulator_update(kl_network *net, int r);
+void kl_regulator_update(kl_network *net, int r);
 
 #endif

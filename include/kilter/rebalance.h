@@ -89,9 +89,6 @@ int kl_rephase_state_ok(const kl_rephaser *rp, const int *rot);
 void kl_rephase_feeder_rotations(const kl_rephaser *rp, const int *rot, int *sec_rot,
                                  int *load_rot);
 
-/* Cyclic relabelling of a phase mask by r steps (a -> b for r = 1). */
-int kl_phase_mask_rotate(int mask, int r);
-
 /* ------------------------------------------------------------- objectives */
 
 typedef enum {
@@ -210,16 +207,5 @@ kl_status kl_rebalance_evaluate(kl_rephaser *rp, const kl_rebalance_options *opt
  * kl_sweep_solve): read from its voltages and branch currents. */
 void kl_rebalance_summarize(const kl_network *net, int converged, int neutral_section,
                             kl_rebalance_summary *s);
-
-/* ----------------------------------------------------------- feeder file */
-
-/* Writes the feeder as a kilter feeder file (format version 1, SI units),
- * with section i's phases rotated by sec_rot[i] and load i's entries by
- * load_rot[i] (either may be NULL: no rotation).  Line constructions used by
- * rotated sections are written once more, rotated, under a new name.  The
- * file is written to a temporary name beside `path` and renamed: whole or
- * not at all. */
-kl_status kl_feeder_write(const kl_feeder *f, const int *sec_rot, const int *load_rot,
-                          const char *path, kl_errors *err);
 
 #endif

@@ -13,7 +13,7 @@
 #define KILTER_SEQUENCE_H
 
 #include "kilter/error.h"
-#include "kilter/feeder.h"
+#include "kilter/types.h"
 
 /* X012 = A^-1 Xabc.  in: abc[3]; out: s012[3] (zero, positive, negative).
  * abc and s012 may not overlap. */

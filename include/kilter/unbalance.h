@@ -7,7 +7,7 @@
 #define KILTER_UNBALANCE_H
 
 #include "kilter/error.h"
-#include "kilter/feeder.h"
+#include "kilter/types.h"
 
 /* |X2| / |X1| from sequence components x012[3] (zero, positive, negative):
  * the voltage unbalance factor of IEC 61000-4-30 / IEC 61000-2-12 when X is

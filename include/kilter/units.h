@@ -9,7 +9,7 @@
 
 #include <stddef.h>
 #include "kilter/error.h"
-#include "kilter/feeder.h"
+#include "kilter/types.h"
 
 /* pi and sqrt(3) to the precision of a double; math.h's M_PI is not part of
  * strict C11, so every file takes these. */

@@ -474,7 +474,7 @@ static void print_items(FILE *o, const view *w)
         int to = 0;
         for (int r = 1; r < 3; r++)
             if (it->allowed & (1 << r))
-                to |= kl_phase_mask_rotate(it->phases, r);
+                to |= kl_phases_rotate(it->phases, r);
         fprintf(o, "%-24s %-8s %-6s %-8s %8.1f %6g %s%s%s\n", it->name, kind_name(it),
                 kl_phases_str(it->phases, b1), kl_phases_str(to, b2), it->kva, it->cost,
                 it->pinned ? "pinned " : "", it->outer >= 0 ? "inside " : "",
