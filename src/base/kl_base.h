@@ -8,6 +8,18 @@
 #include "kilter/error.h"
 #include "kilter/types.h"
 
+/* ---- check.c: KL_ASSERT(cond) states an invariant that a speed trick relies
+ * on (a struct's field order an accessor depends on, a stride, the sweep
+ * order of an array).  Checked in the debug and sanitizer builds (KILTER_CHECKS,
+ * set by CMakeLists.txt); compiled out, unevaluated, in the release build.  A
+ * failure is a bug in kilter, not bad input: it aborts, as assert(3) does. */
+#ifdef KILTER_CHECKS
+#define KL_ASSERT(cond) ((cond) ? (void)0 : kl_check_fail(#cond, __FILE__, __LINE__))
+#else
+#define KL_ASSERT(cond) ((void)sizeof(!(cond)))
+#endif
+_Noreturn void kl_check_fail(const char *cond, const char *file, int line);
+
 /* ---- alloc.c: the one allocator every library allocation goes through.
  * Tests inject failures with kl_alloc_fail_after(n): the n-th allocation from
  * now (0 = the next one) and every later one fails, until kl_alloc_fail_after(-1). */
