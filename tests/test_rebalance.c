@@ -1,5 +1,5 @@
-/* Tests of the rebalancing advisor (src/rephase.c, src/rebalance.c,
- * src/rebalance_plan.c, src/feeder_write.c).
+/* Tests of the rebalancing advisor (src/rebalance/: the rephaser, the search
+ * and its strategies, the plan; src/io/feeder_write.c).
  *
  * References used:
  *  - Fortescue (AIEE Trans. 37, 1918): three equal currents 120 degrees apart

@@ -1,6 +1,6 @@
 /* kilter: the phase-rebalancing advisor.
  *
- * What can move (src/rephase.c): a single-phase lateral off a two- or
+ * What can move (src/rebalance/rephase.c): a single-phase lateral off a two- or
  * three-phase section (everything downstream of its tap changes phase
  * together), a two-phase lateral off a three-phase section (rotated to another
  * pair), and a single-phase spot load on a multi-phase bus.  Three-phase loads
@@ -8,13 +8,15 @@
  * by r = 0, 1 or 2 steps: it keeps the phase sequence, so a line-to-line
  * element stays line-to-line and moves of nested items commute.
  *
- * How a move is judged (src/rebalance.c): by a full load flow of the changed
- * network, at each load level; the network is analysed once and a move only
- * permutes the rows and columns of the branch matrices of the item's subtree
- * and the phase slots of its loads (no allocation per candidate).
+ * How a move is judged (src/rebalance/search_engine.c): by a full load flow
+ * of the changed network, at each load level; the network is analysed once
+ * and a move only permutes the rows and columns of the branch matrices of the
+ * item's subtree and the phase slots of its loads (no allocation per
+ * candidate).
  *
- * The plan (src/rebalance_plan.c): an ordered list of moves with the
- * objectives after moves 1..i, and before/after summaries. */
+ * The plan (src/rebalance/rebalance_plan.c, ordered by plan_order.c): an
+ * ordered list of moves with the objectives after moves 1..i, and
+ * before/after summaries. */
 #ifndef KILTER_REBALANCE_H
 #define KILTER_REBALANCE_H
 
