@@ -379,8 +379,8 @@ START_TEST(round_trip_small)
     ck_assert_int_eq(f->sections[kl_feeder_find_section(f, "s2")].reversed, 1);
     ck_assert_int_eq(f->buses[kl_feeder_find_bus(f, "b3")].phases, KL_PH_C);
     near(f->buses[kl_feeder_find_bus(f, "b6")].base_kv_ll, 0.48, 1e-12); /* 4.16 kV x 0.48/4.16 */
-    ck_assert_int_eq(f->buses[kl_feeder_find_bus(f, "b7")].energized, 0);   /* beyond open sw2 */
-    ck_assert_int_eq(f->buses[kl_feeder_find_bus(f, "b5")].energized, 1);
+    ck_assert_int_eq(kl_feeder_tree_live(f->tree, kl_feeder_find_bus(f, "b7")), 0);   /* beyond open sw2 */
+    ck_assert_int_eq(kl_feeder_tree_live(f->tree, kl_feeder_find_bus(f, "b5")), 1);
     ck_assert_str_eq(f->buses[kl_feeder_find_bus(f, "sub")].description, "Hollowmere substation");
     /* regulator defaults and values */
     ck_assert_int_eq(f->regulators[0].steps, 16);

@@ -5,7 +5,7 @@
  * The rules checked are those of the format specification (feeders/README.md:
  * elements may be written in any order; a bus exists once a section or a
  * `buses:` entry names it) and of feeder.h (bus ids in order of first mention,
- * `parent` the section that feeds a bus, `reversed` for sections written load
+ * the feeder tree's section that feeds a bus, `reversed` for sections written load
  * side first).  Independent references: libc's bsearch for look-ups, and the
  * generator's own record of what it wrote. */
 #include <check.h>
@@ -336,14 +336,14 @@ START_TEST(feeder_at_scale)
         const kl_section *s = &f->sections[k];
         snprintf(name, sizeof name, "s%d", v);
         CHECK(strcmp(s->name, name) == 0);
-        CHECK_EQ(f->buses[id_of[v]].parent, k);
+        CHECK_EQ(kl_feeder_tree_psec(f->tree, id_of[v]), k);
         CHECK_EQ(s->reversed, g.flip[v]);
         CHECK_EQ(kl_sec_down(s), id_of[v]);
         CHECK_EQ(kl_sec_up(s), id_of[g.parent[v]]);
         CHECK_EQ(f->buses[id_of[v]].phases, KL_PH_ABC);
-        CHECK_EQ(f->buses[id_of[v]].energized, 1);
+        CHECK_EQ(kl_feeder_tree_live(f->tree, id_of[v]), 1);
     }
-    CHECK_EQ(f->buses[id_of[0]].parent, -1);
+    CHECK_EQ(kl_feeder_tree_psec(f->tree, id_of[0]), -1);
     kl_feeder_free(f);
     kl_errors_free(&err);
     free(id_of);

@@ -413,8 +413,8 @@ START_TEST(tree_layout_layered)
     static const int depth[7] = {0, 1, 2, 3, 2, 3, 3};
     for (int b = 0; b < 7; b++) {
         ck_assert_double_eq(x[b], depth[b]);
-        if (t->parent_bus[b] >= 0)
-            ck_assert(y[b] >= y[t->parent_bus[b]]);
+        if (kl_feeder_tree_pbus(t->tree, b) >= 0)
+            ck_assert(y[b] >= y[kl_feeder_tree_pbus(t->tree, b)]);
     }
     ck_assert_int_eq(rows, 3); /* three leaves: 3, 5, 6 */
     ck_assert(y[3] != y[5] && y[3] != y[6] && y[5] != y[6]);

@@ -117,24 +117,21 @@ typedef struct {
     uint8_t phases;      /* mask */
     uint8_t closed;      /* switches: 1 closed, 0 open; 1 for every other kind */
     uint8_t reversed;    /* lines and switches: 1 when written with `to` on the source side
-                            (from/to stay as written; the loader's topology pass sets this) */
+                            (from/to stay as written; the loader sets it from the feeder tree) */
     double length_m;     /* lines; 0 for devices */
     kl_loc loc;
 } kl_section;
 
-/* (Members ordered, and the flags kept in bytes, so that the struct has no
- * padding: 56 bytes.) */
+/* (Members ordered, and the flags kept in bytes: 56 bytes.)  Which buses
+ * are energized, and the section feeding each, is the feeder tree's
+ * (kl_feeder.tree). */
 typedef struct {
     const char *name;
     double base_kv_ll;   /* nominal line-to-line kV, filled by the loader from the source and transformers */
     double x, y;         /* coordinates in the file's own plot units */
     const char *description; /* NULL when none */
-    int parent;          /* section feeding this bus (towards the source); -1 for the source
-                            bus and for buses not reached */
     uint8_t phases;      /* mask: phases present, filled by the loader from the sections */
     uint8_t has_xy;
-    uint8_t energized;   /* 1: reached from the source through closed sections; 0 beyond an
-                            open switch (de-energized, phases still filled) or not reached */
     kl_loc loc;
 } kl_bus;
 
@@ -226,6 +223,8 @@ typedef struct {
 } kl_source;
 
 
+struct kl_feeder_tree; /* the feeder tree, src/model/feeder_tree.c */
+
 typedef struct kl_feeder {
     const char *path;          /* file the feeder was read from */
     const char *name;
@@ -247,6 +246,8 @@ typedef struct kl_feeder {
     kl_regulator *regulators;      int nregulators;
 
     kl_arena *arena;           /* owns every string above */
+    struct kl_feeder_tree *tree; /* breadth-first from the source, built by the loader (owned);
+                                    NULL for a feeder assembled in code, whose users build one */
 } kl_feeder;
 
 /* Reads and validates a feeder file.  On any error returns KL_EINPUT (or

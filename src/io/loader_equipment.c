@@ -301,7 +301,6 @@ int kl_ld_bus_ref(kl_loader *L, int node, const char *key)
     f->buses[i].name = kl_ld_strdup(L, t);
     f->buses[i].loc.line = n->line;
     f->buses[i].loc.col = n->col;
-    f->buses[i].parent = -1;
     if (f->buses[i].name && kl_names_add_hint(&L->h_bus, f->buses[i].name, i, &hint) != KL_OK)
         L->nomem = 1;
     return f->buses[i].name ? i : -1;

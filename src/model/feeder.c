@@ -17,6 +17,7 @@ void kl_feeder_free(kl_feeder *f)
     kl_free(f->transformers);
     kl_free(f->regulators);
     kl_arena_free(f->arena);
+    kl_feeder_tree_free(f->tree);
     kl_free(f);
 }
 

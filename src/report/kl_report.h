@@ -47,18 +47,16 @@ void kl_svg_legend(FILE *out, double x, double y, int n, const char *const *labe
  * writes "#rrggbb" into buf[8]. */
 const char *kl_svg_colour_scale(double t, char buf[8]);
 
-/* plot_tree.c: the radial tree as the plots see it (breadth-first from the
- * source over closed sections; unreached buses have depth -1). */
+/* plot_tree.c: the feeder tree as the plots draw it: its energized part,
+ * with depths and distances (kl_feeder_tree_pbus / _psec give the parents). */
 typedef struct {
+    const kl_feeder_tree *tree; /* the feeder's, or own */
+    kl_feeder_tree *own;        /* built for a feeder assembled in code; NULL otherwise */
     int nbuses;
-    int nreached;    /* buses reached from the source */
-    int *order;      /* [nreached] bus ids, breadth-first from the source */
-    int *parent_bus; /* [nbuses] -1 for the source and unreached buses */
-    int *parent_sec; /* [nbuses] section feeding the bus, -1 likewise */
-    int *depth;      /* [nbuses] sections from the source, -1 unreached */
-    double *dist_m;  /* [nbuses] line length from the source, NAN unreached */
-    int *adj_start;  /* [nbuses+1] slices of adj_sec */
-    int *adj_sec;    /* [2*nsections] closed sections at each bus */
+    int nreached;     /* energized buses, the ones drawn: order[0 .. nreached) */
+    const int *order; /* tree->order: bus ids breadth-first from the source */
+    int *depth;       /* [nbuses] sections from the source, -1 not drawn */
+    double *dist_m;   /* [nbuses] line length from the source, NAN not drawn */
 } kl_plot_tree;
 kl_status kl_plot_tree_build(const kl_feeder *f, kl_plot_tree **out, kl_errors *err);
 void kl_plot_tree_free(kl_plot_tree *t);

@@ -26,8 +26,8 @@ typedef struct {
 
 static int draw_bus(const kl_report_input *in, const kl_plot_tree *t, int b, int thin)
 {
-    return t->parent_bus[b] >= 0
-        && (!thin || kl_phases_count(in->feeder->sections[t->parent_sec[b]].phases) == 3);
+    int k = kl_feeder_tree_psec(t->tree, b);
+    return k >= 0 && (!thin || kl_phases_count(in->feeder->sections[k].phases) == 3);
 }
 
 static int all_have_xy(const kl_feeder *f, const kl_plot_tree *t)
@@ -112,7 +112,7 @@ static void value_range(map *m, const kl_report_input *in, const kl_plot_tree *t
         int b = t->order[k];
         if (!draw_bus(in, t, b, m->thin))
             continue;
-        double v = kl_report_map_value(in, in->opt.map_index, t->parent_sec[b], b);
+        double v = kl_report_map_value(in, in->opt.map_index, kl_feeder_tree_psec(t->tree, b), b);
         if (!isfinite(v))
             continue;
         m->lo = fmin(m->lo, v);
@@ -139,7 +139,7 @@ static void draw_sections(FILE *out, const map *m, const kl_report_input *in, co
         " stroke-width=\"2.4\" stroke-dasharray=\"7 3\"", " stroke-width=\"4\""};
     fputs("<g stroke-linecap=\"round\">\n", out);
     for (int k = 1; k < t->nreached; k++) {
-        int b = t->order[k], a = t->parent_bus[b], s = t->parent_sec[b];
+        int b = t->order[k], a = t->order[t->tree->up[k]], s = t->tree->sec[k];
         if (!draw_bus(in, t, b, m->thin))
             continue;
         double v = kl_report_map_value(in, in->opt.map_index, s, b);

@@ -51,17 +51,23 @@ static void panel_frame(FILE *out, double cx, double cy, const char *title)
 static int bus_current(const kl_report_input *in, const kl_plot_tree *t, int b, kl_complex i[3])
 {
     i[0] = i[1] = i[2] = 0;
-    if (t->parent_sec[b] >= 0) {
+    int k = kl_feeder_tree_psec(t->tree, b);
+    if (k >= 0) {
         for (int p = 0; p < 3; p++)
-            i[p] = in->ph.i[3 * t->parent_sec[b] + p];
+            i[p] = in->ph.i[3 * k + p];
         return 1;
     }
+    const kl_feeder *f = in->feeder;
     int any = 0;
-    for (int k = t->adj_start[b]; k < t->adj_start[b + 1]; k++) {
-        int s = t->adj_sec[k];
-        for (int p = 0; p < 3; p++)
-            i[p] += in->ph.i[3 * s + p];
-        any = 1;
+    for (int s = 0; s < f->nsections; s++) { /* the closed sections at b, each end counted */
+        const kl_section *sc = &f->sections[s];
+        if (!sc->closed || sc->from < 0 || sc->to < 0 || sc->from >= f->nbuses || sc->to >= f->nbuses)
+            continue;
+        for (int end = (sc->from == b) + (sc->to == b); end > 0; end--) {
+            for (int p = 0; p < 3; p++)
+                i[p] += in->ph.i[3 * s + p];
+            any = 1;
+        }
     }
     return any;
 }

@@ -21,7 +21,7 @@ typedef struct {
 
 static int drawn(const kl_report_input *in, const kl_plot_tree *t, int b, int thin)
 {
-    return t->parent_bus[b] >= 0 && (!thin || kl_report_bus_phases(in, b) == KL_PH_ABC);
+    return kl_feeder_tree_pbus(t->tree, b) >= 0 && (!thin || kl_report_bus_phases(in, b) == KL_PH_ABC);
 }
 
 static extent find_extent(const kl_report_input *in, const kl_plot_tree *t, double to_unit)
@@ -56,7 +56,7 @@ static void phase_path(FILE *out, const kl_report_input *in, const kl_plot_tree 
 {
     int open = 0;
     for (int k = 1; k < t->nreached; k++) {
-        int b = t->order[k], a = t->parent_bus[b];
+        int b = t->order[k], a = t->order[t->tree->up[k]];
         if (!drawn(in, t, b, thin))
             continue;
         double va = kl_report_v_pu(in, a, p), vb = kl_report_v_pu(in, b, p);

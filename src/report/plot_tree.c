@@ -1,10 +1,7 @@
-/* kilter: the radial tree of a feeder as the plots need it.
- *
- * Breadth-first from the source over closed sections (lines may be written
- * in either direction in the file, so the adjacency is undirected): each
- * reached bus gets its parent bus and section, its depth and its distance
- * from the source along the lines (devices count zero length).  Buses an
- * open switch cuts off stay unreached and are not drawn.
+/* kilter: the feeder tree as the plots draw it: its energized part (the
+ * feeder tree, src/model/feeder_tree.c), each bus with its depth and its
+ * distance from the source along the lines (devices count zero length).
+ * Buses an open switch cuts off are not drawn.
  *
  * The automatic layout is a layered tree: x is the depth (sections from the
  * source); leaves take consecutive rows in depth-first order, with the
@@ -14,87 +11,23 @@
 #include <math.h>
 #include "kl_report.h"
 
-static int other_end(const kl_section *s, int bus)
-{
-    return s->from == bus ? s->to : s->from;
-}
-
-static kl_status build_adjacency(const kl_feeder *f, kl_plot_tree *t)
-{
-    for (int s = 0; s < f->nsections; s++) {
-        const kl_section *sec = &f->sections[s];
-        if (!sec->closed || sec->from < 0 || sec->to < 0 || sec->from >= f->nbuses
-            || sec->to >= f->nbuses)
-            continue;
-        t->adj_start[sec->from + 1]++;
-        t->adj_start[sec->to + 1]++;
-    }
-    for (int b = 0; b < f->nbuses; b++)
-        t->adj_start[b + 1] += t->adj_start[b];
-    int *fill = t->depth; /* borrowed as a cursor; reset by the search */
-    for (int b = 0; b < f->nbuses; b++)
-        fill[b] = t->adj_start[b];
-    for (int s = 0; s < f->nsections; s++) {
-        const kl_section *sec = &f->sections[s];
-        if (!sec->closed || sec->from < 0 || sec->to < 0 || sec->from >= f->nbuses
-            || sec->to >= f->nbuses)
-            continue;
-        t->adj_sec[fill[sec->from]++] = s;
-        t->adj_sec[fill[sec->to]++] = s;
-    }
-    return KL_OK;
-}
-
-static void search(const kl_feeder *f, kl_plot_tree *t)
-{
-    for (int b = 0; b < f->nbuses; b++) {
-        t->depth[b] = -1;
-        t->parent_bus[b] = t->parent_sec[b] = -1;
-        t->dist_m[b] = NAN;
-    }
-    int head = 0, tail = 0, src = f->source.bus;
-    if (src < 0 || src >= f->nbuses)
-        return;
-    t->order[tail++] = src;
-    t->depth[src] = 0;
-    t->dist_m[src] = 0;
-    while (head < tail) {
-        int b = t->order[head++];
-        for (int k = t->adj_start[b]; k < t->adj_start[b + 1]; k++) {
-            int s = t->adj_sec[k], o = other_end(&f->sections[s], b);
-            if (t->depth[o] >= 0)
-                continue; /* the parent, or a loop in a non-radial file */
-            t->depth[o] = t->depth[b] + 1;
-            t->parent_bus[o] = b;
-            t->parent_sec[o] = s;
-            double len = f->sections[s].kind == KL_SEC_LINE ? f->sections[s].length_m : 0;
-            t->dist_m[o] = t->dist_m[b] + (isfinite(len) && len > 0 ? len : 0);
-            t->order[tail++] = o;
-        }
-    }
-    t->nreached = tail;
-}
-
 kl_status kl_plot_tree_build(const kl_feeder *f, kl_plot_tree **out, kl_errors *err)
 {
     *out = NULL;
     kl_plot_tree *t = kl_calloc(1, sizeof *t);
     if (!t)
         goto nomem;
-    int nb = f->nbuses, ns = f->nsections;
-    t->nbuses = nb;
-    t->order = kl_malloc(sizeof(int) * (size_t)nb);
-    t->parent_bus = kl_malloc(sizeof(int) * (size_t)nb);
-    t->parent_sec = kl_malloc(sizeof(int) * (size_t)nb);
-    t->depth = kl_malloc(sizeof(int) * (size_t)nb);
-    t->dist_m = kl_malloc(sizeof(double) * (size_t)nb);
-    t->adj_start = kl_calloc((size_t)nb + 1, sizeof(int));
-    t->adj_sec = kl_malloc(sizeof(int) * (size_t)(2 * ns));
-    if (!t->order || !t->parent_bus || !t->parent_sec || !t->depth || !t->dist_m
-        || !t->adj_start || !t->adj_sec)
+    /* topology errors are the loader's and the network's to report */
+    if (kl_feeder_tree_of(f, &t->tree, &t->own, NULL) == KL_ENOMEM)
         goto nomem;
-    build_adjacency(f, t);
-    search(f, t);
+    t->nbuses = f->nbuses;
+    t->nreached = t->tree->nlive;
+    t->order = t->tree->order;
+    t->depth = kl_malloc(sizeof(int) * ((size_t)f->nbuses + 1));
+    t->dist_m = kl_malloc(sizeof(double) * ((size_t)f->nbuses + 1));
+    if (!t->depth || !t->dist_m)
+        goto nomem;
+    kl_feeder_tree_distances(t->tree, f, t->depth, t->dist_m);
     *out = t;
     return KL_OK;
 nomem:
@@ -108,31 +41,27 @@ void kl_plot_tree_free(kl_plot_tree *t)
 {
     if (!t)
         return;
-    kl_free(t->order);
-    kl_free(t->parent_bus);
-    kl_free(t->parent_sec);
+    kl_feeder_tree_free(t->own);
     kl_free(t->depth);
     kl_free(t->dist_m);
-    kl_free(t->adj_start);
-    kl_free(t->adj_sec);
     kl_free(t);
 }
 
-/* Children of b in its adjacency slice, largest subtree first (insertion
- * sort: a bus has few children, and stability keeps the file's order). */
-static int children(const kl_feeder *f, const kl_plot_tree *t, int b, const int *size, int *kid)
+/* Children of the bus at position j (positions first[j] .. first[j + 1] - 1:
+ * the tree is breadth-first, so they are consecutive, in the order the
+ * search met them), largest subtree first (insertion sort: a bus has few
+ * children, and stability keeps the file's order). */
+static int children(const kl_plot_tree *t, int j, const int *first, const int *size, int *kid)
 {
     int n = 0;
-    for (int k = t->adj_start[b]; k < t->adj_start[b + 1]; k++) {
-        int s = t->adj_sec[k], o = other_end(&f->sections[s], b);
-        if (t->parent_bus[o] != b || t->parent_sec[o] != s)
-            continue;
-        int j = n++;
-        while (j > 0 && size[kid[j - 1]] < size[o]) {
-            kid[j] = kid[j - 1];
-            j--;
+    for (int i = first[j]; i < first[j + 1]; i++) {
+        int o = t->order[i];
+        int k = n++;
+        while (k > 0 && size[kid[k - 1]] < size[o]) {
+            kid[k] = kid[k - 1];
+            k--;
         }
-        kid[j] = o;
+        kid[k] = o;
     }
     return n;
 }
@@ -144,21 +73,28 @@ kl_status kl_plot_tree_layout(const kl_feeder *f, const kl_plot_tree *t, double 
 {
     kl_status st = KL_OK;
     int nb = t->nbuses, n = t->nreached, row = 0;
-    int *size = kl_calloc((size_t)nb, sizeof(int));
+    const int *up = t->tree->up, *pos = t->tree->pos;
+    int *size = kl_calloc((size_t)nb + 1, sizeof(int));
     int *stack = kl_malloc(sizeof(int) * (size_t)(n + 1));
     int *kid = kl_malloc(sizeof(int) * (size_t)(nb + 1));
-    if (!size || !stack || !kid) {
+    int *first = kl_calloc((size_t)n + 2, sizeof(int));
+    if (!size || !stack || !kid || !first) {
         kl_errors_add(err, f->path, 0, 0, NULL, "out of memory laying out the feeder map");
         st = KL_ENOMEM;
         goto done;
     }
     for (int b = 0; b < nb; b++)
         x[b] = y[b] = NAN;
+    for (int i = 1; i < n; i++) /* children of position j: first[j] .. first[j + 1] - 1 */
+        first[up[i] + 1]++;
+    first[0] = 1;
+    for (int j = 1; j <= n; j++)
+        first[j] += first[j - 1];
     for (int k = n - 1; k >= 0; k--) { /* reverse breadth-first: children before parents */
         int b = t->order[k];
         size[b] += 1;
-        if (t->parent_bus[b] >= 0)
-            size[t->parent_bus[b]] += size[b];
+        if (k > 0)
+            size[t->order[up[k]]] += size[b];
     }
     int top = 0;
     if (n > 0)
@@ -166,7 +102,7 @@ kl_status kl_plot_tree_layout(const kl_feeder *f, const kl_plot_tree *t, double 
     while (top > 0) { /* depth-first; every bus is pushed once, so top <= n */
         int b = stack[--top];
         x[b] = t->depth[b];
-        int nk = children(f, t, b, size, kid);
+        int nk = children(t, pos[b], first, size, kid);
         if (nk == 0)
             y[b] = row++;
         for (int j = nk - 1; j >= 0; j--)
@@ -174,7 +110,7 @@ kl_status kl_plot_tree_layout(const kl_feeder *f, const kl_plot_tree *t, double 
     }
     for (int k = n - 1; k >= 0; k--) { /* a parent takes the row of its largest child */
         int b = t->order[k];
-        int nk = children(f, t, b, size, kid);
+        int nk = children(t, k, first, size, kid);
         if (nk > 0)
             y[b] = y[kid[0]];
     }
@@ -183,5 +119,6 @@ done:
     kl_free(size);
     kl_free(stack);
     kl_free(kid);
+    kl_free(first);
     return st;
 }

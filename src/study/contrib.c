@@ -230,7 +230,7 @@ static int is_tap(const kl_feeder *f, const kl_study_phases *ph, int k)
 
 /* Adds each load's share to every tap above it; counts loads per tap. */
 static void tap_sums(const kl_feeder *f, const kl_study_phases *ph,
-                     const kl_study_tree *t, const double *share,
+                     const kl_feeder_tree *t, const double *share,
                      double *tap_share, int *tap_loads)
 {
     for (int k = 0; k < f->nsections; k++) {
@@ -239,7 +239,7 @@ static void tap_sums(const kl_feeder *f, const kl_study_phases *ph,
     }
     for (int L = 0; L < f->nloads; L++) {
         const kl_load *ld = &f->loads[L];
-        int k = ld->bus >= 0 ? t->psec[ld->bus] : ld->section, guard = 0;
+        int k = ld->bus >= 0 ? kl_feeder_tree_psec(t, ld->bus) : ld->section, guard = 0;
         if (isnan(share[L]))
             continue;
         while (k >= 0 && guard++ < f->nsections) {
@@ -247,14 +247,14 @@ static void tap_sums(const kl_feeder *f, const kl_study_phases *ph,
                 tap_share[k] += share[L];
                 tap_loads[k]++;
             }
-            k = t->psec[kl_sec_up(&f->sections[k])];
+            k = kl_feeder_tree_psec(t, kl_sec_up(&f->sections[k]));
         }
     }
 }
 
 typedef struct {
     contrib_ws w;
-    const kl_study_tree *t; /* not owned */
+    const kl_feeder_tree *t; /* not owned */
     double *share;      /* [nloads] */
     double *tap_share;  /* [nsections] */
     int *tap_loads;     /* [nsections] */
@@ -358,19 +358,19 @@ kl_status kl_contrib_rank(const kl_feeder *f, const kl_study_phases *ph,
                           const kl_study_paths *paths, const kl_study_options *opt,
                           kl_study *s, kl_errors *err)
 {
-    kl_study_tree t = { 0 };
-    if (kl_study_tree_build(f, ph->sec_solved, &t) != KL_OK) {
-        kl_study_tree_free(&t);
+    const kl_feeder_tree *t;
+    kl_feeder_tree *own;
+    if (kl_feeder_tree_of(f, &t, &own, NULL) == KL_ENOMEM) {
         kl_errors_add(err, NULL, 0, 0, "contributors", "out of memory ranking contributors");
         return KL_ENOMEM;
     }
-    kl_status st = kl_contrib_rank_on(f, ph, &t, paths, opt, s, err);
-    kl_study_tree_free(&t);
+    kl_status st = kl_contrib_rank_on(f, ph, t, paths, opt, s, err);
+    kl_feeder_tree_free(own);
     return st;
 }
 
 kl_status kl_contrib_rank_on(const kl_feeder *f, const kl_study_phases *ph,
-                             const kl_study_tree *t, const kl_study_paths *paths,
+                             const kl_feeder_tree *t, const kl_study_paths *paths,
                              const kl_study_options *opt, kl_study *s, kl_errors *err)
 {
     rank_ws r = { 0 };

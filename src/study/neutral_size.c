@@ -51,9 +51,9 @@ static double pass_up(const kl_feeder *f, int k)
     return t->kv_low / t->kv_high;
 }
 
-/* Sums triplens from the leaves up: children follow parents in t->order. */
+/* Sums triplens from the leaves up: children follow parents in the tree. */
 static void triplen_sum(const kl_feeder *f, const kl_study_phases *ph,
-                        const kl_study_tree *t, double *at_bus, kl_study *s)
+                        const kl_feeder_tree *t, double *at_bus, kl_study *s)
 {
     for (int k = 0; k < f->nsections; k++)
         s->i_n3[k] = 0;
@@ -64,10 +64,10 @@ static void triplen_sum(const kl_feeder *f, const kl_study_phases *ph,
         else
             s->i_n3[f->loads[L].section] += h;
     }
-    for (int n = t->norder - 1; n >= 0; n--) {
-        int k = t->order[n], from = kl_sec_up(&f->sections[k]), up;
-        s->i_n3[k] += at_bus[kl_sec_down(&f->sections[k])];
-        up = t->psec[from];
+    for (int n = t->nlive - 1; n >= 1; n--) {
+        int k = t->sec[n], from = t->order[t->up[n]], up;
+        s->i_n3[k] += at_bus[t->order[n]];
+        up = t->sec[t->up[n]];
         if (up >= 0)
             at_bus[from] += pass_up(f, k) * s->i_n3[k];
     }
@@ -94,13 +94,13 @@ static void combine(const kl_feeder *f, const kl_study_options *opt, kl_study *s
 
 /* Run ids: a section joins the run of the section feeding it when both have
  * a neutral and share the construction. */
-static int assign_runs(const kl_feeder *f, const kl_study_tree *t, kl_study *s)
+static int assign_runs(const kl_feeder *f, const kl_feeder_tree *t, kl_study *s)
 {
     int nruns = 0;
     for (int k = 0; k < f->nsections; k++)
         s->run[k] = -1;
-    for (int n = 0; n < t->norder; n++) {
-        int k = t->order[n], up = t->psec[kl_sec_up(&f->sections[k])];
+    for (int n = 1; n < t->nlive; n++) {
+        int k = t->sec[n], up = t->sec[t->up[n]];
         if (isnan(s->i_n_rms[k]))
             continue;
         if (up >= 0 && s->run[up] >= 0
@@ -145,11 +145,11 @@ static kl_status runs_alloc(kl_study *s, int nruns)
     return KL_OK;
 }
 
-static void runs_fill(const kl_feeder *f, const kl_study_tree *t,
+static void runs_fill(const kl_feeder *f, const kl_feeder_tree *t,
                       const kl_study_options *opt, kl_study *s)
 {
-    for (int n = 0; n < t->norder; n++) {
-        int k = t->order[n], r = s->run[k];
+    for (int n = 1; n < t->nlive; n++) {
+        int k = t->sec[n], r = s->run[k];
         if (r < 0)
             continue;
         if (s->run_first[r] < 0) {
@@ -173,18 +173,19 @@ static void runs_fill(const kl_feeder *f, const kl_study_tree *t,
 kl_status kl_neutral_size(const kl_feeder *f, const kl_study_phases *ph,
                           const kl_study_options *opt, kl_study *s, kl_errors *err)
 {
-    kl_study_tree t = { 0 };
-    kl_status st = KL_ENOMEM;
-    if (kl_study_tree_build(f, ph->sec_solved, &t) == KL_OK)
-        st = kl_neutral_size_on(f, ph, &t, opt, s, err);
-    else
+    const kl_feeder_tree *t;
+    kl_feeder_tree *own;
+    kl_status st = kl_feeder_tree_of(f, &t, &own, NULL);
+    if (st == KL_ENOMEM)
         kl_errors_add(err, NULL, 0, 0, "study", "out of memory sizing the neutrals");
-    kl_study_tree_free(&t);
+    else
+        st = kl_neutral_size_on(f, ph, t, opt, s, err);
+    kl_feeder_tree_free(own);
     return st;
 }
 
 kl_status kl_neutral_size_on(const kl_feeder *f, const kl_study_phases *ph,
-                             const kl_study_tree *t, const kl_study_options *opt, kl_study *s,
+                             const kl_feeder_tree *t, const kl_study_options *opt, kl_study *s,
                              kl_errors *err)
 {
     double *at_bus = kl_calloc((size_t)f->nbuses + 1, sizeof *at_bus);

@@ -307,8 +307,9 @@ kl_status kl_study_run(const kl_feeder *f, const kl_study_phases *ph,
                        kl_study **out, kl_errors *err)
 {
     kl_study *s = NULL;
-    kl_study_tree t = { 0 }; /* live sections from the source, shared by the neutral
-                              * sizing and the contributor ranking */
+    const kl_feeder_tree *t = NULL; /* the feeder's, shared by the neutral sizing and
+                                     * the contributor ranking */
+    kl_feeder_tree *own = NULL;
     kl_status st;
     *out = NULL;
     st = check_inputs(f, ph, opt, err);
@@ -320,27 +321,27 @@ kl_status kl_study_run(const kl_feeder *f, const kl_study_phases *ph,
         return KL_ENOMEM;
     }
     st = eval_all(f, ph, opt, s, err);
-    if (st == KL_OK && kl_study_tree_build(f, ph->sec_solved, &t) != KL_OK) {
+    if (st == KL_OK && kl_feeder_tree_of(f, &t, &own, NULL) == KL_ENOMEM) {
         kl_errors_add(err, NULL, 0, 0, "study", "out of memory for the feeder tree");
         st = KL_ENOMEM;
     }
     if (st == KL_OK)
-        st = kl_neutral_size_on(f, ph, &t, opt, s, err);
+        st = kl_neutral_size_on(f, ph, t, opt, s, err);
     if (st != KL_OK)
         goto fail;
     eval_head(f, ph, opt, s);
     summarise_buses(s);
     summarise_sections(s);
     if (paths) {
-        st = kl_contrib_rank_on(f, ph, &t, paths, opt, s, err);
+        st = kl_contrib_rank_on(f, ph, t, paths, opt, s, err);
         if (st != KL_OK)
             goto fail;
     }
-    kl_study_tree_free(&t);
+    kl_feeder_tree_free(own);
     *out = s;
     return KL_OK;
 fail:
-    kl_study_tree_free(&t);
+    kl_feeder_tree_free(own);
     kl_study_free(s);
     return st;
 }

@@ -89,8 +89,7 @@ static void dump_net(FILE *o, const kl_feeder *f)
         const kl_bus *x = &f->buses[k];
         fprintf(o, "bus %d", k);
         s(o, "name", x->name); i(o, "ph", x->phases); d(o, "kv", x->base_kv_ll); d(o, "x", x->x);
-        d(o, "y", x->y); i(o, "xy", x->has_xy); s(o, "desc", x->description); i(o, "par", x->parent);
-        i(o, "en", x->energized); loc(o, x->loc);
+        d(o, "y", x->y); i(o, "xy", x->has_xy); s(o, "desc", x->description); loc(o, x->loc);
     }
     for (k = 0; k < f->nsections; k++) {
         const kl_section *x = &f->sections[k];
