@@ -14,10 +14,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
-#include "kilter/feeder.h"
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 
 static const char *FEEDER_FMT =
     "kilter-feeder: 1\n"
@@ -44,40 +41,21 @@ static const char *FEEDER_FMT =
     "  - {name: lights, bus: house, connection: wye, model: constant-power, power: {a: %s kVA}}\n"
     "  - {name: oven, bus: house, connection: delta, model: constant-impedance, power: {ab: %s kVA}}\n";
 
-typedef struct {
-    kl_feeder *f;
-    kl_network *net;
-    kl_flow_result *res;
-    kl_errors err;
-} run;
-
-static kl_status solve(run *r, const char *ph, const char *p_leg, const char *p_240)
+/* Loads the feeder with the primary phase ph and the two loads' powers and
+ * runs it through to a solved flow; the caller checks the status. */
+static kl_status solve(harness *r, const char *ph, const char *p_leg, const char *p_240)
 {
     char text[4096];
     snprintf(text, sizeof text, FEEDER_FMT, ph, ph, ph, ph, ph, ph, p_leg, p_240);
-    memset(r, 0, sizeof *r);
-    kl_errors_init(&r->err);
-    kl_status st = kl_feeder_load_buffer(text, strlen(text), "center-tap.yaml", &r->f, &r->err);
+    harness_init(r);
+    kl_status st = harness_load_text(r, text, "center-tap.yaml");
     if (!st)
-        st = kl_lines_derive(r->f, KL_CARSON_APPROX, &r->err);
+        st = harness_derive(r, KL_CARSON_APPROX);
     if (!st)
-        st = kl_network_build(r->f, &r->net, &r->err);
+        st = harness_build(r);
     if (!st)
-        st = kl_flow_result_alloc(r->net, &r->res, &r->err);
-    if (!st) {
-        kl_flow_options o;
-        kl_flow_options_default(&o);
-        st = kl_flow_solve(r->net, &o, r->res, &r->err);
-    }
+        st = harness_solve(r, NULL);
     return st;
-}
-
-static void run_free(run *r)
-{
-    kl_flow_result_free(r->res);
-    kl_network_free(r->net);
-    kl_feeder_free(r->f);
-    kl_errors_free(&r->err);
 }
 
 static const char *PHASES[3] = { "a", "b", "c" };
@@ -85,17 +63,17 @@ static const char *PHASES[3] = { "a", "b", "c" };
 /* No load: legs at 120 V, 180 degrees apart, on every primary phase. */
 START_TEST(test_no_load_legs)
 {
-    run r;
+    harness r;
     const char *ph = PHASES[_i];
     kl_status st = solve(&r, ph, "0 + j0", "0 + j0");
-    ck_assert_msg(st == KL_OK, "phase %s: %s", ph, r.err.count ? r.err.items[0].message : "?");
+    ck_assert_msg(st == KL_OK, "phase %s: %s", ph, harness_first_error(&r));
     int h = kl_feeder_find_bus(r.f, "house");
     ck_assert_int_eq(r.f->buses[h].phases, KL_PH_A | KL_PH_B);
     kl_complex v1 = r.res->v[3 * h], v2 = r.res->v[3 * h + 1];
     ck_assert_double_eq_tol(cabs(v1), 120.0, 0.05);  /* common practice: 120 V legs */
     ck_assert_double_eq_tol(cabs(v2), 120.0, 0.05);
     ck_assert_double_eq_tol(cabs(v1 - v2), 240.0, 0.1); /* 240 V across the legs */
-    run_free(&r);
+    harness_free(&r);
 }
 END_TEST
 
@@ -103,10 +81,10 @@ END_TEST
  * (source input = loads + losses, physics). */
 START_TEST(test_loaded_balance)
 {
-    run r;
+    harness r;
     const char *ph = PHASES[_i];
     kl_status st = solve(&r, ph, "6 + j2", "9 + j0");
-    ck_assert_msg(st == KL_OK, "phase %s: %s", ph, r.err.count ? r.err.items[0].message : "?");
+    ck_assert_msg(st == KL_OK, "phase %s: %s", ph, harness_first_error(&r));
     int h = kl_feeder_find_bus(r.f, "house");
     double v1 = cabs(r.res->v[3 * h]), v12 = cabs(r.res->v[3 * h] - r.res->v[3 * h + 1]);
     ck_assert(v1 < 120.0 && v1 > 110.0);
@@ -119,7 +97,7 @@ START_TEST(test_loaded_balance)
     ck_assert_double_eq_tol(creal(in), creal(load + loss), 1e-6 * cabs(in));
     ck_assert_double_eq_tol(cimag(in), cimag(load + loss), 1e-6 * cabs(in));
     ck_assert_msg(creal(load) > 14000.0 && creal(load) < 15000.0, "load %g W, in %g W, v1 %g, v12 %g", creal(load), creal(in), v1, v12); /* 6 kW + 9 kW near nominal */
-    run_free(&r);
+    harness_free(&r);
 }
 END_TEST
 

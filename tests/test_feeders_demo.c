@@ -17,42 +17,25 @@
 #include <math.h>
 #include <stdio.h>
 #include <gsl/gsl_errno.h>
-#include "kilter/feeder.h"
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 
+static harness H;
 static kl_feeder *F;
-static kl_network *N;
 static kl_flow_result *R;
 
 static void setup(void)
 {
-    kl_errors e;
-    kl_errors_init(&e);
-    kl_flow_options opt;
-    kl_flow_options_default(&opt);
     gsl_set_error_handler_off();
-    kl_status s = kl_feeder_load(KILTER_SOURCE_DIR "/feeders/demo/quillmere-f3.yaml", &F, &e);
-    if (s == KL_OK) s = kl_lines_derive(F, KL_CARSON_APPROX, &e);
-    if (s == KL_OK) s = kl_network_build(F, &N, &e);
-    if (s == KL_OK) s = kl_flow_result_alloc(N, &R, &e);
-    if (s == KL_OK) s = kl_flow_solve(N, &opt, R, &e);
-    for (int i = 0; i < e.count; i++) {
-        char buf[2048];
-        kl_error_format(&e.items[i], buf, sizeof buf);
-        fprintf(stderr, "%s\n", buf);
-    }
-    kl_errors_free(&e);
-    ck_assert_msg(s == KL_OK, "demo feeder: %s", kl_status_name(s));
+    harness_init(&H);
+    harness_solve_file(&H, "feeders/demo/quillmere-f3.yaml", KL_CARSON_APPROX);
+    F = H.f;
+    R = H.res;
 }
 
 static void teardown(void)
 {
-    kl_flow_result_free(R);
-    kl_network_free(N);
-    kl_feeder_free(F);
-    R = NULL; N = NULL; F = NULL;
+    harness_free(&H);
+    R = NULL; F = NULL;
 }
 
 START_TEST(voltages_inside_range_a)

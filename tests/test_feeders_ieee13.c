@@ -17,37 +17,26 @@
 #include <stdio.h>
 #include <string.h>
 #include <gsl/gsl_errno.h>
-#include "kilter/feeder.h"
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 
 #define OHM_PER_MI (1.0 / 1609.344)  /* ohm/mi -> ohm/m */
 #define US_PER_MI (1e-6 / 1609.344)  /* uS/mi -> S/m */
 #define FT 0.3048
 
+static harness H;
 static kl_feeder *F;
 
 static void setup(void)
 {
-    kl_errors e;
-    kl_errors_init(&e);
-    kl_status s = kl_feeder_load(KILTER_SOURCE_DIR "/feeders/reference/ieee-13-node.yaml", &F, &e);
-    if (s == KL_OK) s = kl_lines_derive(F, KL_CARSON_APPROX, &e);
-    if (s != KL_OK) {
-        char buf[2048];
-        for (int i = 0; i < e.count; i++) {
-            kl_error_format(&e.items[i], buf, sizeof buf);
-            fprintf(stderr, "%s\n", buf);
-        }
-    }
-    kl_errors_free(&e);
-    ck_assert_msg(s == KL_OK, "ieee-13-node.yaml: load or line constants failed (%s)", kl_status_name(s));
+    harness_init(&H);
+    HARNESS_OK(&H, harness_load(&H, "feeders/reference/ieee-13-node.yaml"));
+    HARNESS_OK(&H, harness_derive(&H, KL_CARSON_APPROX));
+    F = H.f;
 }
 
 static void teardown(void)
 {
-    kl_feeder_free(F);
+    harness_free(&H);
     F = NULL;
 }
 
@@ -255,16 +244,10 @@ static const struct { const char *bus; double m[3], a[3]; } pub_v[] = {
 
 START_TEST(solved_feeder_matches_published_results)
 {
-    kl_errors e;
-    kl_errors_init(&e);
-    kl_network *net = NULL;
-    kl_flow_result *r = NULL;
-    kl_flow_options opt;
-    kl_flow_options_default(&opt);
     gsl_set_error_handler_off();
-    ck_assert_int_eq(kl_network_build(F, &net, &e), KL_OK);
-    ck_assert_int_eq(kl_flow_result_alloc(net, &r, &e), KL_OK);
-    ck_assert_int_eq(kl_flow_solve(net, &opt, r, &e), KL_OK);
+    HARNESS_OK(&H, harness_build(&H));
+    HARNESS_OK(&H, harness_solve(&H, NULL));
+    const kl_flow_result *r = H.res;
     ck_assert(r->converged);
     /* Published final taps A 10, B 8, C 11. */
     ck_assert_int_eq(r->tap[0], 10);
@@ -288,9 +271,6 @@ START_TEST(solved_feeder_matches_published_results)
                           cabs(v), deg, pub_v[k].m[ph], pub_v[k].a[ph]);
         }
     }
-    kl_flow_result_free(r);
-    kl_network_free(net);
-    kl_errors_free(&e);
 }
 END_TEST
 

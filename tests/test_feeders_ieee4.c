@@ -11,10 +11,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <gsl/gsl_errno.h>
-#include "kilter/feeder.h"
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 
 START_TEST(gry_gry_balanced_matches_published)
 {
@@ -24,20 +21,15 @@ START_TEST(gry_gry_balanced_matches_published)
         {"3", {2247.6, 2269, 2256}, {-3.7, -123.5, 116.4}},
         {"4", {1918, 2061, 1981}, {-9.1, -128.3, 110.9}},
     };
-    kl_errors e;
-    kl_errors_init(&e);
-    kl_feeder *f = NULL;
-    kl_network *net = NULL;
-    kl_flow_result *r = NULL;
-    kl_flow_options opt;
-    kl_flow_options_default(&opt);
     gsl_set_error_handler_off();
-    ck_assert_int_eq(kl_feeder_load(KILTER_SOURCE_DIR "/feeders/reference/ieee-4-node-gry-gry-balanced.yaml",
-                                    &f, &e), KL_OK);
-    ck_assert_int_eq(kl_lines_derive(f, KL_CARSON_APPROX, &e), KL_OK);
-    ck_assert_int_eq(kl_network_build(f, &net, &e), KL_OK);
-    ck_assert_int_eq(kl_flow_result_alloc(net, &r, &e), KL_OK);
-    ck_assert_int_eq(kl_flow_solve(net, &opt, r, &e), KL_OK);
+    harness h;
+    harness_init(&h);
+    HARNESS_OK(&h, harness_load(&h, "feeders/reference/ieee-4-node-gry-gry-balanced.yaml"));
+    HARNESS_OK(&h, harness_derive(&h, KL_CARSON_APPROX));
+    HARNESS_OK(&h, harness_build(&h));
+    HARNESS_OK(&h, harness_solve(&h, NULL));
+    const kl_feeder *f = h.f;
+    const kl_flow_result *r = h.res;
     /* Published to 4 significant digits and 0.1 degree: 0.1 % and 0.1 degree. */
     for (size_t k = 0; k < sizeof pub / sizeof pub[0]; k++) {
         int b = kl_feeder_find_bus(f, pub[k].bus);
@@ -50,10 +42,7 @@ START_TEST(gry_gry_balanced_matches_published)
                           'a' + p, cabs(v), deg, pub[k].v[p], pub[k].a[p]);
         }
     }
-    kl_flow_result_free(r);
-    kl_network_free(net);
-    kl_feeder_free(f);
-    kl_errors_free(&e);
+    harness_free(&h);
 }
 END_TEST
 

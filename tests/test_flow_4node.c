@@ -10,9 +10,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 
 #define DEG (3.14159265358979323846 / 180.0)
 
@@ -30,24 +28,12 @@ static double angle_diff(double a, double b)
 static void check_file(const char *name, const v_row *rows, int nrows, double rel, double tol_deg)
 {
     char path[512];
-    snprintf(path, sizeof path, "%s/feeders/reference/%s", KILTER_SOURCE_DIR, name);
-    kl_feeder *f = NULL;
-    kl_network *n = NULL;
-    kl_flow_result *r = NULL;
-    kl_errors e;
-    kl_errors_init(&e);
-    kl_flow_options o;
-    kl_flow_options_default(&o);
-    kl_status st = kl_feeder_load(path, &f, &e);
-    if (!st)
-        st = kl_lines_derive(f, KL_CARSON_APPROX, &e);
-    if (!st)
-        st = kl_network_build(f, &n, &e);
-    if (!st)
-        st = kl_flow_result_alloc(n, &r, &e);
-    if (!st)
-        st = kl_flow_solve(n, &o, r, &e);
-    ck_assert_msg(st == KL_OK, "%s: %s", name, e.count ? e.items[0].message : "?");
+    snprintf(path, sizeof path, "feeders/reference/%s", name);
+    harness h;
+    harness_init(&h);
+    harness_solve_file(&h, path, KL_CARSON_APPROX);
+    const kl_feeder *f = h.f;
+    const kl_flow_result *r = h.res;
     for (int k = 0; k < nrows; k++) {
         int b = kl_feeder_find_bus(f, rows[k].bus);
         ck_assert(b >= 0);
@@ -62,10 +48,7 @@ static void check_file(const char *name, const v_row *rows, int nrows, double re
                           rows[k].ang[p]);
         }
     }
-    kl_errors_free(&e);
-    kl_flow_result_free(r);
-    kl_network_free(n);
-    kl_feeder_free(f);
+    harness_free(&h);
 }
 
 /* Grounded-wye/grounded-wye step-down (12.47/4.16 kV), balanced load:

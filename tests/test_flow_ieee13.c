@@ -15,9 +15,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "flow_fixture.h"
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 
 static hand_feeder H;
 
@@ -180,20 +178,12 @@ static int find_section(const kl_feeder *f, const char *name)
     return -1;
 }
 
-/* Solves f with default options; the caller frees. */
-static void solve(const kl_feeder *f, kl_network **net, kl_flow_result **res)
+/* Builds and solves the feeder in h with default options, asserted. */
+static void solve(harness *h)
 {
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_flow_options opt;
-    kl_flow_options_default(&opt);
-    kl_status st = kl_network_build(f, net, &err);
-    ck_assert_msg(st == KL_OK, "build: %s", err.count ? err.items[0].message : "?");
-    ck_assert_int_eq(kl_flow_result_alloc(*net, res, &err), KL_OK);
-    st = kl_flow_solve(*net, &opt, *res, &err);
-    ck_assert_msg(st == KL_OK, "solve: %s", err.count ? err.items[0].message : "?");
-    ck_assert(res[0]->converged);
-    kl_errors_free(&err);
+    HARNESS_OK(h, harness_build(h));
+    HARNESS_OK(h, harness_solve(h, NULL));
+    ck_assert(h->res->converged);
 }
 
 /* Every published check on a solved 13-node result; tol_pu and tol_deg for
@@ -279,32 +269,32 @@ static void check13_loads(const kl_feeder *f, const kl_flow_result *r)
 
 START_TEST(test_ieee13_published_matrices)
 {
-    kl_network *net = NULL;
-    kl_flow_result *res = NULL;
+    harness h;
+    harness_init(&h);
     build13(&H);
-    solve(&H.f, &net, &res);
-    check13(&H.f, res, 0.002, 0.2);
-    check13_loads(&H.f, res);
-    kl_flow_result_free(res);
-    kl_network_free(net);
+    harness_use(&h, &H.f);
+    solve(&h);
+    check13(&H.f, h.res, 0.002, 0.2);
+    check13_loads(&H.f, h.res);
+    harness_free(&h);
 }
 END_TEST
 
 /* Fixed taps at the published values give the same state in one round. */
 START_TEST(test_ieee13_fixed_taps)
 {
-    kl_network *net = NULL;
-    kl_flow_result *res = NULL;
+    harness h;
+    harness_init(&h);
     build13(&H);
     H.reg[0].mode = KL_REG_FIXED;
     H.reg[0].tap[0] = 10;
     H.reg[0].tap[1] = 8;
     H.reg[0].tap[2] = 11;
-    solve(&H.f, &net, &res);
-    ck_assert_int_eq(res->reg_rounds, 0);
-    check13(&H.f, res, 0.002, 0.2);
-    kl_flow_result_free(res);
-    kl_network_free(net);
+    harness_use(&h, &H.f);
+    solve(&h);
+    ck_assert_int_eq(h.res->reg_rounds, 0);
+    check13(&H.f, h.res, 0.002, 0.2);
+    harness_free(&h);
 }
 END_TEST
 
@@ -313,21 +303,14 @@ END_TEST
  * built with). */
 START_TEST(test_ieee13_file)
 {
-    kl_feeder *f = NULL;
-    kl_network *net = NULL;
-    kl_flow_result *res = NULL;
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_status st = kl_feeder_load(KILTER_SOURCE_DIR "/feeders/reference/ieee-13-node.yaml", &f, &err);
-    ck_assert_msg(st == KL_OK, "load: %s", err.count ? err.items[0].message : "?");
-    ck_assert_int_eq(kl_lines_derive(f, KL_CARSON_APPROX, &err), KL_OK);
-    kl_errors_free(&err);
-    solve(f, &net, &res);
-    check13(f, res, 0.002, 0.2);
-    check13_loads(f, res);
-    kl_flow_result_free(res);
-    kl_network_free(net);
-    kl_feeder_free(f);
+    harness h;
+    harness_init(&h);
+    HARNESS_OK(&h, harness_load(&h, "feeders/reference/ieee-13-node.yaml"));
+    HARNESS_OK(&h, harness_derive(&h, KL_CARSON_APPROX));
+    solve(&h);
+    check13(h.f, h.res, 0.002, 0.2);
+    check13_loads(h.f, h.res);
+    harness_free(&h);
 }
 END_TEST
 
@@ -364,11 +347,12 @@ static void check_packed(const kl_network *n, int k, double miles, double comple
 
 START_TEST(test_ieee13_packed_lines)
 {
-    kl_network *net = NULL;
-    kl_errors err;
-    kl_errors_init(&err);
+    harness h;
+    harness_init(&h);
     build13(&H);
-    ck_assert_int_eq(kl_network_build(&H.f, &net, &err), KL_OK);
+    harness_use(&h, &H.f);
+    HARNESS_OK(&h, harness_build(&h));
+    kl_network *net = h.net;
     const double mi = 1609.344 / 0.3048; /* feet per mile */
     int k601 = net->sec_first[section_id(&H.f, "671-680")];
     check_packed(net, k601, 1000 / mi, 0.3465 + 1.0179 * I, 0, 6.2998, KL_PH_ABC);
@@ -401,8 +385,7 @@ START_TEST(test_ieee13_packed_lines)
     check_packed(net, k604, 300 / mi, 1.3294 + 1.3471 * I, 0, 4.7097, KL_PH_A | KL_PH_B);
     kl_network_line_zy(net, k604, Z, NULL);
     ck_assert(cabs(Z[1] - (0.2066 + 0.4591 * I) * (300 / mi)) <= 1e-12); /* published Zac */
-    kl_network_free(net);
-    kl_errors_free(&err);
+    harness_free(&h);
 }
 END_TEST
 

@@ -5,8 +5,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include "flow_fixture.h"
-#include "kilter/flow.h"
-#include "kilter/network.h"
+#include "harness.h"
 #include "kl_flow.h"
 
 static hand_feeder H;
@@ -19,27 +18,19 @@ static int sym_line(hand_feeder *h, double complex zs, double complex zm, double
     return hf_matrix(h, "sym", "abc", z, b);
 }
 
-static kl_status run(const kl_feeder *f, const kl_flow_options *o, kl_network **net,
-                     kl_flow_result **res, kl_errors *err)
+/* Builds and solves f in h (initialised here, freed by the caller with
+ * harness_free); net and res point into h (NULL where a step failed). */
+static kl_status run(harness *h, kl_feeder *f, const kl_flow_options *o, kl_network **net,
+                     kl_flow_result **res)
 {
-    kl_flow_options d;
-    kl_flow_options_default(&d);
-    *net = NULL;
-    *res = NULL;
-    kl_status st = kl_network_build(f, net, err);
-    if (st)
-        return st;
-    st = kl_flow_result_alloc(*net, res, err);
-    if (st)
-        return st;
-    return kl_flow_solve(*net, o ? o : &d, *res, err);
-}
-
-static void done(kl_network *n, kl_flow_result *r, kl_errors *e)
-{
-    kl_flow_result_free(r);
-    kl_network_free(n);
-    kl_errors_free(e);
+    harness_init(h);
+    harness_use(h, f);
+    kl_status st = harness_build(h);
+    if (!st)
+        st = harness_solve(h, o);
+    *net = h->net;
+    *res = h->res;
+    return st;
 }
 
 static const char *first(const kl_errors *e)
@@ -84,10 +75,9 @@ START_TEST(test_power_balance)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     build_mixed(&H);
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     kl_complex in = 0, out = 0;
     for (int p = 0; p < 3; p++) {
         in += r->s_head[p];
@@ -97,7 +87,7 @@ START_TEST(test_power_balance)
                   cimag(in), creal(out), cimag(out));
     /* losses are positive in total (passive network) */
     ck_assert(creal(r->s_losses[0] + r->s_losses[1] + r->s_losses[2]) > 0);
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -107,8 +97,7 @@ START_TEST(test_balanced)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "balanced", "src", 12.47);
     int c = sym_line(&H, 0.5 + 1.2 * I, 0.15 + 0.45 * I, 5.5);
     hf_line(&H, "s1", "src", "b1", 5000, c);
@@ -119,7 +108,7 @@ START_TEST(test_balanced)
             (double[]){400, 400, 400});
     hf_load(&H, "l2", "b3", KL_CONN_DELTA, KL_LOAD_Z, (double[]){300, 300, 300},
             (double[]){100, 100, 100});
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     for (int b = 0; b < H.f.nbuses; b++) {
         kl_complex *v = r->v + 3 * b;
         for (int p = 1; p < 3; p++) {
@@ -132,7 +121,7 @@ START_TEST(test_balanced)
         kl_complex *i = r->i + 3 * s;
         ck_assert(cabs(i[0] + i[1] + i[2]) <= 1e-7 * cabs(i[0]));
     }
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -142,8 +131,7 @@ START_TEST(test_single_phase_closed_form)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "one phase", "src", 12.47);
     double complex z[6] = {0.6 + 1.1 * I, 0, 0, 0, 0, 0};
     double b[6] = {0};
@@ -151,13 +139,13 @@ START_TEST(test_single_phase_closed_form)
     hf_line(&H, "s1", "src", "b1", MILE / FT * 2, c); /* 2 miles */
     hf_load(&H, "l1", "b1", KL_CONN_WYE, KL_LOAD_Z, (double[]){1500, 0, 0},
             (double[]){700, 0, 0});
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     double vn = 12470 / sqrt(3.0);
     kl_complex zl = vn * vn / conj(1500e3 + 700e3 * I), zline = 2 * (0.6 + 1.1 * I);
     kl_complex want = vn * zl / (zline + zl);
     ck_assert_msg(cabs(r->v[3 * 1] - want) <= 1e-5 * vn, "%g vs %g", cabs(r->v[3]), cabs(want));
     ck_assert(r->v[3 + 1] == 0 && r->v[3 + 2] == 0);
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -167,8 +155,7 @@ START_TEST(test_thevenin_source)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "thevenin", "src", 12.47);
     H.f.source.has_equivalent = 1;
     H.f.source.z1_ohm = 0.3 + 2.1 * I;
@@ -179,14 +166,14 @@ START_TEST(test_thevenin_source)
     H.sec[0].phases = KL_PH_ABC;
     hf_load(&H, "l1", "b1", KL_CONN_WYE, KL_LOAD_Z, (double[]){2000, 2000, 2000},
             (double[]){900, 900, 900});
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     double vn = 12470 / sqrt(3.0);
     kl_complex zl = vn * vn / conj(2000e3 + 900e3 * I);
     for (int p = 0; p < 3; p++) {
         kl_complex want = vn * cexp(-I * 120.0 * p * DEG) * zl / (0.3 + 2.1 * I + zl);
         ck_assert_msg(cabs(r->v[3 + p] - want) <= 1e-5 * vn, "phase %d", p);
     }
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -208,12 +195,11 @@ START_TEST(test_transformer_no_load)
     for (size_t k = 0; k < sizeof C / sizeof C[0]; k++) {
         kl_network *n;
         kl_flow_result *r;
-        kl_errors e;
-        kl_errors_init(&e);
+        harness h;
         double kv_src = C[k].up ? 4.16 : 12.47, kv_load = C[k].up ? 12.47 : 4.16;
         hf_init(&H, "xf", "src", kv_src);
         hf_transformer(&H, "t", "src", "b1", 3000, 12.47, C[k].hi, 4.16, C[k].lo, 1, 6);
-        ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "case %zu: %s", k, first(&e));
+        ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "case %zu: %s", k, first(&h.err));
         double vb = kv_load * 1000 / sqrt(3.0);
         ck_assert_msg(fabs(r->v_base_ln[1] - vb) < 1e-6 * vb, "case %zu base", k);
         for (int p = 0; p < 3; p++) {
@@ -221,7 +207,7 @@ START_TEST(test_transformer_no_load)
             ck_assert_msg(cabs(r->v[3 + p] - want) <= 1e-9 * vb, "case %zu phase %d: %.3f V "
                           "%.2f deg", k, p, cabs(r->v[3 + p]), carg(r->v[3 + p]) / DEG);
         }
-        done(n, r, &e);
+        harness_free(&h);
     }
 }
 END_TEST
@@ -237,8 +223,7 @@ START_TEST(test_transformer_power)
     for (size_t k = 0; k < sizeof C / sizeof C[0]; k++) {
         kl_network *n;
         kl_flow_result *r;
-        kl_errors e;
-        kl_errors_init(&e);
+        harness h;
         hf_init(&H, "xf", "src", 12.47);
         hf_transformer(&H, "t", "src", "b1", 3000, 12.47, C[k][0], 0.48, C[k][1], 0, 0);
         if (C[k][0] == KL_WINDING_OPEN_WYE)
@@ -246,13 +231,13 @@ START_TEST(test_transformer_power)
         kl_connection conn = C[k][1] == KL_WINDING_GRD_WYE ? KL_CONN_WYE : KL_CONN_DELTA;
         hf_load(&H, "l", "b1", conn, KL_LOAD_PQ, (double[]){300, 200, 250},
                 (double[]){100, 50, 80});
-        ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "case %zu: %s", k, first(&e));
+        ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "case %zu: %s", k, first(&h.err));
         kl_complex in = r->s_head[0] + r->s_head[1] + r->s_head[2];
         kl_complex ld = r->s_loads[0] + r->s_loads[1] + r->s_loads[2];
         ck_assert_msg(cabs(in - 750e3 - 230e3 * I) <= 1e-6 * cabs(in), "case %zu: in %g", k,
                       creal(in));
         ck_assert(cabs(ld - 750e3 - 230e3 * I) <= 1e-6 * cabs(ld));
-        done(n, r, &e);
+        harness_free(&h);
     }
 }
 END_TEST
@@ -263,30 +248,28 @@ START_TEST(test_center_tap)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "ct", "src", 12.47);
     hf_transformer(&H, "t", "src", "b1", 50, 7.2, KL_WINDING_SINGLE, 0.24,
                    KL_WINDING_CENTER_TAP, 1.1, 1.8);
     H.sec[0].phases = KL_PH_B;
     H.xf[0].kv_high = 12.47 / sqrt(3.0);
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     kl_complex va = r->v[3], vb = r->v[4];
     ck_assert(fabs(cabs(va) - 120) < 1e-9 && fabs(cabs(vb) - 120) < 1e-9);
     ck_assert(cabs(va + vb) < 1e-9);
     ck_assert(fabs(cabs(va - vb) - 240) < 1e-9);
-    done(n, r, &e);
-    kl_errors_init(&e);
+    harness_free(&h);
     hf_load(&H, "house", "b1", KL_CONN_DELTA, KL_LOAD_PQ, (double[]){10, 0, 0},
             (double[]){3, 0, 0});
     hf_load(&H, "lights", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){1.5, 0, 0},
             (double[]){0.2, 0, 0});
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     kl_complex in = r->s_head[0] + r->s_head[1] + r->s_head[2];
     ck_assert(creal(in) > 11.5e3 && creal(in) < 11.5e3 * 1.05);
     ck_assert(cabs(in - 11.5e3 - 3.2e3 * I - (r->s_losses[0] + r->s_losses[1] + r->s_losses[2]))
               <= 1e-6 * cabs(in));
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -303,8 +286,7 @@ START_TEST(test_neutral_current)
         {0.0953 + 0.7524 * I, 0.0953 + 0.7865 * I, 0.0953 + 0.7674 * I, 0.6873 + 1.5465 * I}};
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "neutral", "src", 12.47);
     double complex z[6] = {0};
     double b[6] = {0};
@@ -320,13 +302,13 @@ START_TEST(test_neutral_current)
     hf_line(&H, "s1", "src", "b1", 3000, c);
     hf_load(&H, "l1", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){1200, 500, 200},
             (double[]){500, 200, 100});
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     kl_complex *i = r->i, in = r->i_neutral[0];
     kl_complex drop = zp[3][0] * i[0] + zp[3][1] * i[1] + zp[3][2] * i[2] + zp[3][3] * in;
     ck_assert_msg(cabs(drop) <= 1e-9 * cabs(zp[3][3] * in), "neutral drop %g", cabs(drop));
     ck_assert(cabs(in) > 1.0); /* an unbalanced load puts current in the neutral */
     ck_assert(cabs(r->i_earth[0] + i[0] + i[1] + i[2] + in) < 1e-9 * cabs(in));
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -334,39 +316,39 @@ END_TEST
  * absent upstream, impossible loading). */
 START_TEST(test_loop_and_island)
 {
-    kl_network *n = NULL;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
+    harness_init(&h);
     hf_init(&H, "loop", "src", 12.47);
     int c = sym_line(&H, 0.5 + 1 * I, 0.1 + 0.4 * I, 0);
     hf_line(&H, "s1", "src", "b1", 1000, c);
     hf_line(&H, "s2", "b1", "b2", 1000, c);
     hf_line(&H, "tie", "b2", "src", 1000, c);
-    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_ETOPO);
-    ck_assert(n == NULL);
-    ck_assert(strstr(first(&e), "loop") && strstr(first(&e), "nodal"));
-    ck_assert(strncmp(e.items[0].element, "section ", 8) == 0); /* s2 or tie: either closes it */
-    kl_errors_free(&e);
+    harness_use(&h, &H.f);
+    ck_assert_int_eq(harness_build(&h), KL_ETOPO);
+    ck_assert(h.net == NULL);
+    ck_assert(strstr(first(&h.err), "loop") && strstr(first(&h.err), "nodal"));
+    ck_assert(strncmp(h.err.items[0].element, "section ", 8) == 0); /* s2 or tie: either closes it */
+    harness_free(&h);
 
-    kl_errors_init(&e);
+    harness_init(&h);
     H.sec[2].kind = KL_SEC_SWITCH;
     H.sec[2].closed = 0;
     H.sec[2].phases = KL_PH_ABC;
     hf_line(&H, "s4", "b3", "b4", 1000, c);
     hf_section(&H, "open", "b2", "b3", KL_SEC_SWITCH);
     H.sec[4].closed = 0;
-    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_ETOPO);
-    ck_assert(strstr(first(&e), "island") && strstr(first(&e), "open switch"));
-    ck_assert_str_eq(e.items[0].element, "bus b3");
-    kl_errors_free(&e);
+    harness_use(&h, &H.f);
+    ck_assert_int_eq(harness_build(&h), KL_ETOPO);
+    ck_assert(strstr(first(&h.err), "island") && strstr(first(&h.err), "open switch"));
+    ck_assert_str_eq(h.err.items[0].element, "bus b3");
+    harness_free(&h);
 }
 END_TEST
 
 START_TEST(test_phase_absent_upstream)
 {
-    kl_network *n = NULL;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
+    harness_init(&h);
     hf_init(&H, "phases", "src", 12.47);
     double complex z[6] = {0, 0, 0, 1.3 + 1.3 * I, 0.2 + 0.4 * I, 1.3 + 1.3 * I};
     double b[6] = {0};
@@ -374,18 +356,20 @@ START_TEST(test_phase_absent_upstream)
     int c3 = sym_line(&H, 0.5 + 1 * I, 0.1 + 0.4 * I, 0);
     hf_line(&H, "s1", "src", "b1", 1000, bc);
     hf_line(&H, "s2", "b1", "b2", 1000, c3);
-    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_ETOPO);
-    ck_assert(strstr(first(&e), "phase(s) a"));
-    ck_assert_str_eq(e.items[0].element, "section s2");
-    kl_errors_free(&e);
+    harness_use(&h, &H.f);
+    ck_assert_int_eq(harness_build(&h), KL_ETOPO);
+    ck_assert(strstr(first(&h.err), "phase(s) a"));
+    ck_assert_str_eq(h.err.items[0].element, "section s2");
+    harness_free(&h);
     /* a load on a phase the bus lacks */
-    kl_errors_init(&e);
+    harness_init(&h);
     H.sec[1].construction = bc;
     H.sec[1].phases = KL_PH_B | KL_PH_C;
     hf_load(&H, "wrong", "b2", KL_CONN_WYE, KL_LOAD_PQ, (double[]){10, 0, 0}, (double[]){1, 0, 0});
-    ck_assert_int_eq(kl_network_build(&H.f, &n, &e), KL_EINPUT);
-    ck_assert_str_eq(e.items[0].element, "load wrong");
-    kl_errors_free(&e);
+    harness_use(&h, &H.f);
+    ck_assert_int_eq(harness_build(&h), KL_EINPUT);
+    ck_assert_str_eq(h.err.items[0].element, "load wrong");
+    harness_free(&h);
 }
 END_TEST
 
@@ -396,19 +380,18 @@ START_TEST(test_voltage_collapse)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "collapse", "src", 12.47);
     int c = sym_line(&H, 0.5 + 1.2 * I, 0.15 + 0.45 * I, 0);
     hf_line(&H, "s1", "src", "far", 40000, c);
     hf_load(&H, "huge", "far", KL_CONN_WYE, KL_LOAD_PQ, (double[]){30000, 30000, 30000},
             (double[]){10000, 10000, 10000});
-    kl_status st = run(&H.f, NULL, &n, &r, &e);
+    kl_status st = run(&h, &H.f, NULL, &n, &r);
     ck_assert_int_eq(st, KL_ENOCONV);
     ck_assert(!r->converged);
-    ck_assert_msg(strstr(first(&e), "did not converge") && strstr(first(&e), "far") &&
-                  strstr(first(&e), "beyond what the"), "%s", first(&e));
-    done(n, r, &e);
+    ck_assert_msg(strstr(first(&h.err), "did not converge") && strstr(first(&h.err), "far") &&
+                  strstr(first(&h.err), "beyond what the"), "%s", first(&h.err));
+    harness_free(&h);
 }
 END_TEST
 
@@ -418,22 +401,21 @@ START_TEST(test_alloc_failure)
 {
     build_mixed(&H);
     for (long k = 0; k < 80; k++) {
-        kl_network *n = NULL;
-        kl_flow_result *r = NULL;
-        kl_errors e;
-        kl_errors_init(&e);
+        harness h;
+        harness_init(&h);
+        harness_use(&h, &H.f);
         kl_alloc_fail_after(k);
-        kl_status st = kl_network_build(&H.f, &n, &e);
+        kl_status st = harness_build(&h);
         if (st == KL_OK)
-            st = kl_flow_result_alloc(n, &r, &e);
+            st = harness_result(&h);
         kl_alloc_fail_after(-1);
         ck_assert(st == KL_OK || st == KL_ENOMEM);
         if (st == KL_OK) {
             kl_flow_options o;
             kl_flow_options_default(&o);
-            ck_assert_int_eq(kl_flow_solve(n, &o, r, &e), KL_OK);
+            ck_assert_int_eq(kl_flow_solve(h.net, &o, h.res, &h.err), KL_OK);
         }
-        done(n, r, &e);
+        harness_free(&h);
     }
 }
 END_TEST
@@ -443,23 +425,22 @@ START_TEST(test_no_alloc_in_solve)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     build_mixed(&H);
-    ck_assert(run(&H.f, NULL, &n, &r, &e) == KL_OK);
+    ck_assert(run(&h, &H.f, NULL, &n, &r) == KL_OK);
     kl_flow_options o;
     kl_flow_options_default(&o);
     long before = kl_alloc_count();
     double p_prev = 0;
     for (int k = 1; k <= 5; k++) {
         o.load_scale = 0.25 * k;
-        ck_assert_int_eq(kl_flow_solve(n, &o, r, &e), KL_OK);
+        ck_assert_int_eq(kl_flow_solve(n, &o, r, &h.err), KL_OK);
         double p = creal(r->s_head[0] + r->s_head[1] + r->s_head[2]);
         ck_assert(p > p_prev); /* more load, more input */
         p_prev = p;
     }
     ck_assert_int_eq(kl_alloc_count(), before);
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -491,26 +472,24 @@ START_TEST(test_regulator_open_delta)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "open delta reg", "src", 12.47);
     add_regulator(&H, KL_REG_OPEN_DELTA, KL_PH_A | KL_PH_B, KL_REG_FIXED);
     H.reg[0].tap[0] = 8;
     H.reg[0].tap[1] = 4;
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     kl_complex *vs = r->v, *vo = r->v + 3;
     kl_complex ab = (vo[0] - vo[1]) / (vs[0] - vs[1]), bc = (vo[1] - vo[2]) / (vs[1] - vs[2]);
     ck_assert_msg(cabs(ab - 1.05) < 1e-12, "ab ratio %g", cabs(ab));
     ck_assert_msg(cabs(bc - 1.025) < 1e-12, "bc ratio %g", cabs(bc));
     ck_assert(cabs(vo[0] + vo[1] + vo[2]) < 1e-9 * cabs(vo[0])); /* no zero sequence */
-    done(n, r, &e);
+    harness_free(&h);
     /* closed delta at no load: V_ab = a_ab V_AB + (1 - a_bc) V_BC, cyclic
      * (Kersting ch. 7, from memory) */
-    kl_errors_init(&e);
     H.reg[0].conn = KL_REG_CLOSED_DELTA;
     H.reg[0].phases = KL_PH_ABC;
     H.reg[0].tap[2] = -6;
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     vs = r->v;
     vo = r->v + 3;
     double a_r[3] = {1.05, 1.025, 1 - 0.0375};
@@ -519,7 +498,7 @@ START_TEST(test_regulator_open_delta)
         kl_complex want = a_r[p] * (vs[p] - vs[q]) + (1 - a_r[q]) * (vs[q] - vs[t]);
         ck_assert_msg(cabs(vo[p] - vo[q] - want) < 1e-9 * cabs(want), "closed delta pair %d", p);
     }
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -530,8 +509,7 @@ START_TEST(test_regulator_limits)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "reg limit", "src", 12.47);
     add_regulator(&H, KL_REG_WYE, KL_PH_ABC, KL_REG_AUTO);
     H.reg[0].voltage_level_v = 140;
@@ -539,19 +517,17 @@ START_TEST(test_regulator_limits)
     hf_line(&H, "s1", "out", "b1", 3000, c);
     hf_load(&H, "l", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){500, 500, 500},
             (double[]){200, 200, 200});
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     for (int p = 0; p < 3; p++)
         ck_assert_int_eq(r->tap[p], 16);
     ck_assert(fabs(cabs(r->v[3]) / r->v_base_ln[1] - 1.10) < 1e-12);
-    done(n, r, &e);
-
-    kl_errors_init(&e);
+    harness_free(&h);
     H.reg[0].voltage_level_v = 120.3;
     H.reg[0].bandwidth_v = 0.1;
-    kl_status st = run(&H.f, NULL, &n, &r, &e);
+    kl_status st = run(&h, &H.f, NULL, &n, &r);
     ck_assert_int_eq(st, KL_ENOCONV);
-    ck_assert_msg(strstr(first(&e), "did not settle"), "%s", first(&e));
-    done(n, r, &e);
+    ck_assert_msg(strstr(first(&h.err), "did not settle"), "%s", first(&h.err));
+    harness_free(&h);
 }
 END_TEST
 
@@ -560,18 +536,16 @@ START_TEST(test_source_angle)
 {
     kl_network *n1, *n2;
     kl_flow_result *r1, *r2;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h1, h2;
     build_mixed(&H);
-    ck_assert(run(&H.f, NULL, &n1, &r1, &e) == KL_OK);
+    ck_assert(run(&h1, &H.f, NULL, &n1, &r1) == KL_OK);
     H.f.source.angle_deg = 30;
-    ck_assert(run(&H.f, NULL, &n2, &r2, &e) == KL_OK);
+    ck_assert(run(&h2, &H.f, NULL, &n2, &r2) == KL_OK);
     kl_complex rot = cexp(I * 30 * DEG);
     for (int k = 0; k < 3 * H.f.nbuses; k++)
         ck_assert(cabs(r2->v[k] - rot * r1->v[k]) < 1e-6 * 7200);
-    kl_flow_result_free(r1);
-    kl_network_free(n1);
-    done(n2, r2, &e);
+    harness_free(&h1);
+    harness_free(&h2);
 }
 END_TEST
 
@@ -649,10 +623,9 @@ START_TEST(test_random_feeders)
     for (unsigned seed = 1; seed <= 20; seed++) {
         kl_network *n;
         kl_flow_result *r;
-        kl_errors e;
-        kl_errors_init(&e);
+        harness h;
         build_random(&H, seed);
-        ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "seed %u: %s", seed, first(&e));
+        ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "seed %u: %s", seed, first(&h.err));
         for (int k = 0; k < n->nbranches; k++) {
             /* the sweep's layout: branch k feeds the bus at position k + 1 */
             ck_assert_int_eq(n->order[k + 1], n->br_to[k]);
@@ -681,7 +654,7 @@ START_TEST(test_random_feeders)
             out += r->s_loads[p] + r->s_losses[p];
         }
         ck_assert(cabs(in - out) <= 1e-6 * cabs(in));
-        done(n, r, &e);
+        harness_free(&h);
     }
 }
 END_TEST
@@ -693,25 +666,23 @@ START_TEST(test_line_to_line_unit)
 {
     kl_network *n;
     kl_flow_result *r;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h;
     hf_init(&H, "ll unit", "src", 12.47);
     hf_transformer(&H, "t", "src", "b1", 50, 12.47, KL_WINDING_SINGLE, 0.24, KL_WINDING_SINGLE,
                    1.1, 1.8);
     H.sec[0].phases = KL_PH_B | KL_PH_C;
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     ck_assert_int_eq(r->phases[1], KL_PH_B);
     ck_assert(cabs(r->v[3 + 1] - 240.0 * cexp(-I * 90 * DEG)) < 1e-9);
-    done(n, r, &e);
-    kl_errors_init(&e);
+    harness_free(&h);
     hf_load(&H, "shop", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){0, 30, 0}, (double[]){0, 10, 0});
-    ck_assert_msg(run(&H.f, NULL, &n, &r, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h, &H.f, NULL, &n, &r) == KL_OK, "%s", first(&h.err));
     kl_complex in = r->s_head[0] + r->s_head[1] + r->s_head[2];
     kl_complex loss = r->s_losses[0] + r->s_losses[1] + r->s_losses[2];
     ck_assert(cabs(in - (30e3 + 10e3 * I) - loss) < 1e-6 * cabs(in));
     ck_assert(creal(loss) > 0 && creal(loss) < 0.02 * 30e3);
     ck_assert(r->s_head[0] == 0); /* phase a carries nothing */
-    done(n, r, &e);
+    harness_free(&h);
 }
 END_TEST
 
@@ -722,10 +693,9 @@ START_TEST(test_order_independence)
 {
     kl_network *n1, *n2;
     kl_flow_result *r1, *r2;
-    kl_errors e;
-    kl_errors_init(&e);
+    harness h1, h2;
     build_mixed(&H);
-    ck_assert(run(&H.f, NULL, &n1, &r1, &e) == KL_OK);
+    ck_assert(run(&h1, &H.f, NULL, &n1, &r1) == KL_OK);
     int s3 = 3; /* s3: b3 -> b4 */
     int t = H.sec[s3].from;
     H.sec[s3].from = H.sec[s3].to;
@@ -733,15 +703,14 @@ START_TEST(test_order_independence)
     kl_section tmp = H.sec[0]; /* swap s1 and s3 in the list (s2 keeps its distributed load) */
     H.sec[0] = H.sec[3];
     H.sec[3] = tmp;
-    ck_assert_msg(run(&H.f, NULL, &n2, &r2, &e) == KL_OK, "%s", first(&e));
+    ck_assert_msg(run(&h2, &H.f, NULL, &n2, &r2) == KL_OK, "%s", first(&h2.err));
     for (int k = 0; k < 3 * H.f.nbuses; k++)
         ck_assert(cabs(r2->v[k] - r1->v[k]) < 1e-6 * 7200);
     /* section s1 now sits at index 3; its sending-end current is unchanged */
     for (int p = 0; p < 3; p++)
         ck_assert(cabs(r2->i[3 * 3 + p] - r1->i[p]) < 1e-6 * (1 + cabs(r1->i[p])));
-    kl_flow_result_free(r1);
-    kl_network_free(n1);
-    done(n2, r2, &e);
+    harness_free(&h1);
+    harness_free(&h2);
 }
 END_TEST
 

@@ -12,30 +12,25 @@
 #include <check.h>
 #include <math.h>
 #include <stdlib.h>
-#include "kilter/feeder.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 
+static harness H;
 static kl_feeder *F;
 static kl_network *N;
 
 static void setup(void)
 {
-    kl_errors err;
-    kl_errors_init(&err);
-    F = NULL;
-    N = NULL;
-    ck_assert_int_eq(kl_feeder_load(KILTER_SOURCE_DIR "/feeders/reference/ieee-13-node.yaml", &F,
-                                    &err), KL_OK);
-    ck_assert_int_eq(kl_lines_derive(F, KL_CARSON_APPROX, &err), KL_OK);
-    ck_assert_int_eq(kl_network_build(F, &N, &err), KL_OK);
-    kl_errors_free(&err);
+    harness_init(&H);
+    HARNESS_OK(&H, harness_load(&H, "feeders/reference/ieee-13-node.yaml"));
+    HARNESS_OK(&H, harness_derive(&H, KL_CARSON_APPROX));
+    HARNESS_OK(&H, harness_build(&H));
+    F = H.f;
+    N = H.net;
 }
 
 static void teardown(void)
 {
-    kl_network_free(N);
-    kl_feeder_free(F);
+    harness_free(&H);
 }
 
 /* network.h: order[] is the source, then the to-bus of each tree branch in

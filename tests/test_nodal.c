@@ -13,32 +13,28 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include "flow_fixture.h"
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 #include "kl_flow.h"
 
 #define AGREE_PU 1e-6 /* the agreement requirement */
 
 static hand_feeder H;
 
-/* Solves f with one solver; the caller frees net and res.  Returns the status. */
-static kl_status solve_with(const kl_feeder *f, kl_solver solver, double tol,
-                            kl_network **net, kl_flow_result **res, kl_errors *err)
+/* Builds and solves f in h (initialised here, freed by the caller) with one
+ * solver.  Returns the status. */
+static kl_status solve_with(harness *h, kl_feeder *f, kl_solver solver, double tol)
 {
     kl_flow_options opt;
     kl_flow_options_default(&opt);
     opt.solver = solver;
     if (tol > 0)
         opt.tol_pu = tol;
-    *net = NULL;
-    *res = NULL;
-    kl_status st = kl_network_build(f, net, err);
+    harness_init(h);
+    harness_use(h, f);
+    kl_status st = harness_build(h);
     if (st)
         return st;
-    if ((st = kl_flow_result_alloc(*net, res, err)))
-        return st;
-    return kl_flow_solve(*net, &opt, *res, err);
+    return harness_solve(h, &opt);
 }
 
 static const char *first_error(const kl_errors *e)
@@ -68,16 +64,14 @@ static void compare(const kl_flow_result *a, const kl_flow_result *b, double *dv
 /* Solves with both solvers at the default tolerance and checks agreement
  * (voltages to AGREE_PU, currents to 1e-5 relative), equal taps, and the
  * nodal solution's power balance. */
-static void check_agree(const kl_feeder *f, const char *what)
+static void check_agree(kl_feeder *f, const char *what)
 {
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_network *ns = NULL, *nn = NULL;
-    kl_flow_result *rs = NULL, *rn = NULL;
-    kl_status st = solve_with(f, KL_SOLVER_SWEEP, 0, &ns, &rs, &err);
-    ck_assert_msg(st == KL_OK, "%s sweep: %s", what, first_error(&err));
-    st = solve_with(f, KL_SOLVER_NODAL, 0, &nn, &rn, &err);
-    ck_assert_msg(st == KL_OK, "%s nodal: %s", what, first_error(&err));
+    harness hs, hn;
+    kl_status st = solve_with(&hs, f, KL_SOLVER_SWEEP, 0);
+    ck_assert_msg(st == KL_OK, "%s sweep: %s", what, harness_first_error(&hs));
+    st = solve_with(&hn, f, KL_SOLVER_NODAL, 0);
+    ck_assert_msg(st == KL_OK, "%s nodal: %s", what, harness_first_error(&hn));
+    const kl_flow_result *rs = hs.res, *rn = hn.res;
     double dv, di;
     compare(rn, rs, &dv, &di);
     fprintf(stderr, "%-32s nodal-sweep: %.2e pu, currents %.2e rel; iterations %d / %d\n",
@@ -97,11 +91,8 @@ static void check_agree(const kl_feeder *f, const char *what)
     }
     ck_assert_msg(cabs(bal) <= 1e-6 * scale, "%s: power balance off by %.3g VA of %.3g", what,
                   cabs(bal), scale);
-    kl_flow_result_free(rs);
-    kl_flow_result_free(rn);
-    kl_network_free(ns);
-    kl_network_free(nn);
-    kl_errors_free(&err);
+    harness_free(&hs);
+    harness_free(&hn);
 }
 
 /* IEEE 13-node configuration 601 and 603/605 impedances (ohm/mile) and
@@ -301,16 +292,13 @@ END_TEST
 
 /* ---- feeder files: the loader and line constants, then both solvers ------ */
 
-static kl_feeder *load_derived(const char *path)
+/* Loads and derives the file into h (the caller frees h). */
+static kl_feeder *load_derived(harness *h, const char *path)
 {
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_feeder *f = NULL;
-    kl_status st = kl_feeder_load(path, &f, &err);
-    ck_assert_msg(st == KL_OK, "%s: %s", path, first_error(&err));
-    ck_assert_int_eq(kl_lines_derive(f, KL_CARSON_APPROX, &err), KL_OK);
-    kl_errors_free(&err);
-    return f;
+    harness_init(h);
+    HARNESS_OK(h, harness_load(h, path));
+    HARNESS_OK(h, harness_derive(h, KL_CARSON_APPROX));
+    return h->f;
 }
 
 /* Every bundled reference feeder and the demo: nodal agrees with the sweep. */
@@ -324,11 +312,10 @@ static const char *FILES[] = {
 
 START_TEST(test_feeder_files)
 {
-    char path[512];
-    snprintf(path, sizeof path, "%s/%s", KILTER_SOURCE_DIR, FILES[_i]);
-    kl_feeder *f = load_derived(path);
+    harness h;
+    kl_feeder *f = load_derived(&h, FILES[_i]);
     check_agree(f, FILES[_i] + 8);
-    kl_feeder_free(f);
+    harness_free(&h);
 }
 END_TEST
 
@@ -352,13 +339,10 @@ static const struct {
 
 START_TEST(test_ieee13_published)
 {
-    kl_feeder *f = load_derived(KILTER_SOURCE_DIR "/feeders/reference/ieee-13-node.yaml");
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_network *net;
-    kl_flow_result *r;
-    ck_assert_msg(solve_with(f, KL_SOLVER_NODAL, 0, &net, &r, &err) == KL_OK, "%s",
-                  first_error(&err));
+    harness hf, h;
+    kl_feeder *f = load_derived(&hf, "feeders/reference/ieee-13-node.yaml");
+    ck_assert_msg(solve_with(&h, f, KL_SOLVER_NODAL, 0) == KL_OK, "%s", harness_first_error(&h));
+    const kl_flow_result *r = h.res;
     static const int taps[3] = {10, 8, 11};
     for (int p = 0; p < 3; p++)
         ck_assert_int_eq(r->tap[p], taps[p]);
@@ -377,10 +361,8 @@ START_TEST(test_ieee13_published)
                           deg, V13[k].ang[p]);
         }
     }
-    kl_flow_result_free(r);
-    kl_network_free(net);
-    kl_errors_free(&err);
-    kl_feeder_free(f);
+    harness_free(&h);
+    harness_free(&hf);
 }
 END_TEST
 
@@ -393,9 +375,10 @@ START_TEST(test_synthetic_feeder)
     snprintf(cmd, sizeof cmd, "'%s/kl_synth' --buses 3000 --seed 7 -o '%s'", KILTER_BINARY_DIR,
              path);
     ck_assert_msg(system(cmd) == 0, "kl_synth failed (is it built?): %s", cmd);
-    kl_feeder *f = load_derived(path);
+    harness h;
+    kl_feeder *f = load_derived(&h, path);
     check_agree(f, "synthetic, 3000 buses");
-    kl_feeder_free(f);
+    harness_free(&h);
     remove(path);
 }
 END_TEST
@@ -503,12 +486,10 @@ static double ohm_residual(const hand_feeder *h, const kl_flow_result *r, int s)
 static void check_loop(int tie_is_switch)
 {
     build_loop(&H, tie_is_switch);
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_network *net;
-    kl_flow_result *res;
-    kl_status st = solve_with(&H.f, KL_SOLVER_NODAL, 0, &net, &res, &err);
-    ck_assert_msg(st == KL_OK, "nodal on a loop: %s", first_error(&err));
+    harness h;
+    kl_status st = solve_with(&h, &H.f, KL_SOLVER_NODAL, 0);
+    ck_assert_msg(st == KL_OK, "nodal on a loop: %s", harness_first_error(&h));
+    const kl_flow_result *res = h.res;
     ck_assert(res->converged);
     int tie = H.f.nsections - 1;
     /* the tie carries real current: the loop is really closed */
@@ -538,20 +519,16 @@ static void check_loop(int tie_is_switch)
         for (int p = 0; p < 3; p++)
             ck_assert(cabs(res->v[3 * H.sec[tie].from + p] - res->v[3 * H.sec[tie].to + p]) <
                       1e-9 * res->v_base_ln[0]);
-    kl_flow_result_free(res);
-    kl_network_free(net);
+    harness_free(&h);
 
     /* the sweep refuses the same network, naming the section that closes the loop */
-    kl_errors_clear(&err);
-    st = solve_with(&H.f, KL_SOLVER_SWEEP, 0, &net, &res, &err);
+    st = solve_with(&h, &H.f, KL_SOLVER_SWEEP, 0);
     ck_assert_int_eq(st, KL_ETOPO);
-    ck_assert_str_eq(err.items[0].element, "section tie");
-    ck_assert_int_eq(err.items[0].line, 41);
-    ck_assert_msg(strstr(first_error(&err), "loop") && strstr(first_error(&err), "nodal"),
-                  "%s", first_error(&err));
-    kl_flow_result_free(res);
-    kl_network_free(net);
-    kl_errors_free(&err);
+    ck_assert_str_eq(h.err.items[0].element, "section tie");
+    ck_assert_int_eq(h.err.items[0].line, 41);
+    ck_assert_msg(strstr(first_error(&h.err), "loop") && strstr(first_error(&h.err), "nodal"),
+                  "%s", first_error(&h.err));
+    harness_free(&h);
 }
 
 START_TEST(test_loop_through_line)
@@ -579,10 +556,7 @@ START_TEST(test_parallel_lines_equivalent)
         zh[k] = Z601[k] / 2;
         b2[k] = B601[k] * 2;
     }
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_network *n1, *n2;
-    kl_flow_result *r1, *r2;
+    harness h1, h2;
 
     hf_init(&H, "parallel pair", "src", 12.47);
     H.f.radial = 0;
@@ -591,16 +565,17 @@ START_TEST(test_parallel_lines_equivalent)
     hf_line(&H, "p2", "src", "b1", 4000, c);
     hf_load(&H, "l", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){900, 500, 700},
             (double[]){400, 200, 300});
-    ck_assert_msg(solve_with(&H.f, KL_SOLVER_NODAL, 1e-10, &n1, &r1, &err) == KL_OK, "%s",
-                  first_error(&err));
+    ck_assert_msg(solve_with(&h1, &H.f, KL_SOLVER_NODAL, 1e-10) == KL_OK, "%s",
+                  harness_first_error(&h1));
     static hand_feeder E;
     hf_init(&E, "equivalent line", "src", 12.47);
     int ce = hf_matrix(&E, "601/2", "abc", zh, b2);
     hf_line(&E, "pe", "src", "b1", 4000, ce);
     hf_load(&E, "l", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){900, 500, 700},
             (double[]){400, 200, 300});
-    ck_assert_msg(solve_with(&E.f, KL_SOLVER_SWEEP, 1e-10, &n2, &r2, &err) == KL_OK, "%s",
-                  first_error(&err));
+    ck_assert_msg(solve_with(&h2, &E.f, KL_SOLVER_SWEEP, 1e-10) == KL_OK, "%s",
+                  harness_first_error(&h2));
+    const kl_flow_result *r1 = h1.res, *r2 = h2.res;
     for (int p = 0; p < 3; p++) {
         double dv = cabs(r1->v[3 + p] - r2->v[3 + p]) / r1->v_base_ln[1];
         ck_assert_msg(dv <= 1e-9, "phase %c: pair and equivalent differ by %.3g pu", 'a' + p, dv);
@@ -608,11 +583,8 @@ START_TEST(test_parallel_lines_equivalent)
         ck_assert_msg(cabs(r1->i[p] + r1->i[3 + p] - r2->i[p]) <= 1e-6 * cabs(r2->i[p]),
                       "phase %c: %.6g vs %.6g A", (char)('a' + p), cabs(r1->i[p] + r1->i[3 + p]), cabs(r2->i[p]));
     }
-    kl_flow_result_free(r1);
-    kl_flow_result_free(r2);
-    kl_network_free(n1);
-    kl_network_free(n2);
-    kl_errors_free(&err);
+    harness_free(&h1);
+    harness_free(&h2);
 }
 END_TEST
 
@@ -624,19 +596,14 @@ START_TEST(test_noconv_reported)
     H.load[0].s_va[0] *= 400;
     H.load[0].s_va[1] *= 400;
     H.load[0].s_va[2] *= 400;
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_network *net;
-    kl_flow_result *res;
-    kl_status st = solve_with(&H.f, KL_SOLVER_NODAL, 0, &net, &res, &err);
+    harness h;
+    kl_status st = solve_with(&h, &H.f, KL_SOLVER_NODAL, 0);
     ck_assert_int_eq(st, KL_ENOCONV);
-    ck_assert(!res->converged);
-    const char *m = first_error(&err);
+    ck_assert(!h.res->converged);
+    const char *m = first_error(&h.err);
     ck_assert_msg(strstr(m, "did not converge after") && strstr(m, "at bus") &&
                   strstr(m, "likely reason"), "message: %s", m);
-    kl_flow_result_free(res);
-    kl_network_free(net);
-    kl_errors_free(&err);
+    harness_free(&h);
 }
 END_TEST
 
@@ -649,18 +616,13 @@ START_TEST(test_zero_impedance_line)
     int c = hf_matrix(&H, "nothing", "abc", z0, b0);
     H.sec[0].construction = c;
     H.sec[0].loc = (kl_loc){12, 5};
-    kl_errors err;
-    kl_errors_init(&err);
-    kl_network *net;
-    kl_flow_result *res;
-    kl_status st = solve_with(&H.f, KL_SOLVER_NODAL, 0, &net, &res, &err);
+    harness h;
+    kl_status st = solve_with(&h, &H.f, KL_SOLVER_NODAL, 0);
     ck_assert_int_eq(st, KL_EINPUT);
-    ck_assert_int_eq(err.items[0].line, 12);
-    ck_assert_str_eq(err.items[0].element, "section m1");
-    ck_assert_msg(strstr(first_error(&err), "singular"), "%s", first_error(&err));
-    kl_flow_result_free(res);
-    kl_network_free(net);
-    kl_errors_free(&err);
+    ck_assert_int_eq(h.err.items[0].line, 12);
+    ck_assert_str_eq(h.err.items[0].element, "section m1");
+    ck_assert_msg(strstr(first_error(&h.err), "singular"), "%s", first_error(&h.err));
+    harness_free(&h);
 }
 END_TEST
 
@@ -669,12 +631,15 @@ END_TEST
 START_TEST(test_alloc_failures)
 {
     build_taps(&H);
+    harness h;
+    harness_init(&h);
+    harness_use(&h, &H.f);
+    HARNESS_OK(&h, harness_build(&h));
+    HARNESS_OK(&h, harness_result(&h));
+    kl_network *net = h.net;
+    kl_flow_result *res = h.res;
     kl_errors err;
     kl_errors_init(&err);
-    kl_network *net = NULL;
-    kl_flow_result *res = NULL;
-    ck_assert_int_eq(kl_network_build(&H.f, &net, &err), KL_OK);
-    ck_assert_int_eq(kl_flow_result_alloc(net, &res, &err), KL_OK);
     kl_flow_options opt;
     kl_flow_options_default(&opt);
     int failures = 0;
@@ -692,8 +657,7 @@ START_TEST(test_alloc_failures)
     ck_assert(failures > 3);
     net->v_valid = 0;
     ck_assert_int_eq(kl_nodal_solve(net, &opt, res, &err), KL_OK);
-    kl_flow_result_free(res);
-    kl_network_free(net);
+    harness_free(&h);
     kl_errors_free(&err);
 }
 END_TEST

@@ -18,9 +18,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <unistd.h>
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 #include "kilter/rebalance.h"
 #include "kl_rebalance.h"
 
@@ -53,44 +51,42 @@ static const char *HEAD =
     "      ab: 0.0001 + j0.0003 ohm/m\n";
 
 typedef struct {
-    kl_feeder *f;
-    kl_network *net;
-    kl_rephaser *rp;
-    kl_errors err;
+    harness h;         /* the feeder, its network and the messages (h.err) */
+    kl_feeder *f;      /* h.f */
+    kl_network *net;   /* h.net */
+    kl_rephaser *rp;   /* owned */
 } fixture;
+
+/* The loaded feeder (text or file) derived, built and given a rephaser. */
+static void fixture_finish(fixture *x)
+{
+    HARNESS_OK(&x->h, harness_derive(&x->h, KL_CARSON_FULL));
+    HARNESS_OK(&x->h, harness_build(&x->h));
+    x->f = x->h.f;
+    x->net = x->h.net;
+    HARNESS_OK(&x->h, kl_rephaser_alloc(x->net, &x->rp, &x->h.err));
+}
 
 static void fixture_load_text(fixture *x, const char *text)
 {
-    kl_errors_init(&x->err);
-    kl_status st = kl_feeder_load_buffer(text, strlen(text), "test.yaml", &x->f, &x->err);
-    if (st) {
-        char buf[1200];
-        for (int i = 0; i < x->err.count; i++) {
-            kl_error_format(&x->err.items[i], buf, sizeof buf);
-            fprintf(stderr, "%s\n", buf);
-        }
-    }
-    ck_assert_int_eq(st, KL_OK);
-    ck_assert_int_eq(kl_lines_derive(x->f, KL_CARSON_FULL, &x->err), KL_OK);
-    ck_assert_int_eq(kl_network_build(x->f, &x->net, &x->err), KL_OK);
-    ck_assert_int_eq(kl_rephaser_alloc(x->net, &x->rp, &x->err), KL_OK);
+    x->rp = NULL;
+    harness_init(&x->h);
+    HARNESS_OK(&x->h, harness_load_text(&x->h, text, "test.yaml"));
+    fixture_finish(x);
 }
 
 static void fixture_load_file(fixture *x, const char *path)
 {
-    kl_errors_init(&x->err);
-    ck_assert_int_eq(kl_feeder_load(path, &x->f, &x->err), KL_OK);
-    ck_assert_int_eq(kl_lines_derive(x->f, KL_CARSON_FULL, &x->err), KL_OK);
-    ck_assert_int_eq(kl_network_build(x->f, &x->net, &x->err), KL_OK);
-    ck_assert_int_eq(kl_rephaser_alloc(x->net, &x->rp, &x->err), KL_OK);
+    x->rp = NULL;
+    harness_init(&x->h);
+    HARNESS_OK(&x->h, harness_load(&x->h, path));
+    fixture_finish(x);
 }
 
 static void fixture_free(fixture *x)
 {
     kl_rephaser_free(x->rp);
-    kl_network_free(x->net);
-    kl_feeder_free(x->f);
-    kl_errors_free(&x->err);
+    harness_free(&x->h);
 }
 
 static char *text_join(const char *a, const char *b)
@@ -117,9 +113,9 @@ static kl_rebalance_plan *run_plan(fixture *x, const kl_rebalance_options *opt)
 {
     kl_rebalance_plan *plan = NULL;
     ck_assert_int_eq(kl_rebalance_plan_alloc(x->rp->nitems, opt->max_moves, &plan), KL_OK);
-    kl_status st = kl_rebalance_run(x->rp, opt, plan, &x->err);
-    if (st && x->err.count)
-        fprintf(stderr, "%s\n", x->err.items[0].message);
+    kl_status st = kl_rebalance_run(x->rp, opt, plan, &x->h.err);
+    if (st && x->h.err.count)
+        fprintf(stderr, "%s\n", x->h.err.items[0].message);
     ck_assert_int_eq(st, KL_OK);
     return plan;
 }
@@ -258,22 +254,17 @@ END_TEST
 /* Summary of the feeder file at `path`, solved from scratch. */
 static void independent_flow(const char *path, double scale, kl_rebalance_summary *s)
 {
-    fixture y;
-    kl_errors_init(&y.err);
-    ck_assert_int_eq(kl_feeder_load(path, &y.f, &y.err), KL_OK);
-    ck_assert_int_eq(kl_lines_derive(y.f, KL_CARSON_FULL, &y.err), KL_OK);
-    ck_assert_int_eq(kl_network_build(y.f, &y.net, &y.err), KL_OK);
+    harness y;
+    harness_init(&y);
+    HARNESS_OK(&y, harness_load(&y, path));
+    HARNESS_OK(&y, harness_derive(&y, KL_CARSON_FULL));
+    HARNESS_OK(&y, harness_build(&y));
     kl_flow_options fo;
     kl_flow_options_default(&fo);
     fo.load_scale = scale;
-    kl_flow_result *res = NULL;
-    ck_assert_int_eq(kl_flow_result_alloc(y.net, &res, &y.err), KL_OK);
-    ck_assert_int_eq(kl_flow_solve(y.net, &fo, res, &y.err), KL_OK);
-    kl_rebalance_summarize(y.net, res->converged, -1, s);
-    kl_flow_result_free(res);
-    kl_network_free(y.net);
-    kl_feeder_free(y.f);
-    kl_errors_free(&y.err);
+    HARNESS_OK(&y, harness_solve(&y, &fo));
+    kl_rebalance_summarize(y.net, y.res->converged, -1, s);
+    harness_free(&y);
 }
 
 static void compare_summary(const kl_rebalance_summary *a, const kl_rebalance_summary *b)
@@ -300,7 +291,7 @@ static void check_steps_independently(fixture *x, const kl_rebalance_plan *plan)
     for (int s = 0; s < plan->nsteps; s++) {
         rot[plan->steps[s].item] = plan->steps[s].rot;
         kl_rephase_feeder_rotations(x->rp, rot, sec_rot, load_rot);
-        ck_assert_int_eq(kl_feeder_write(f, sec_rot, load_rot, path, &x->err), KL_OK);
+        ck_assert_int_eq(kl_feeder_write(f, sec_rot, load_rot, path, &x->h.err), KL_OK);
         for (int l = 0; l < plan->nlevels; l++) {
             kl_rebalance_summary ind;
             independent_flow(path, plan->level[l].scale, &ind);
@@ -353,7 +344,7 @@ START_TEST(test_demo_steps_independent)
     /* the search left the network at the original phasing: evaluating the
      * final moves again from there gives the plan's "after" */
     kl_rebalance_summary again;
-    ck_assert_int_eq(kl_rebalance_evaluate(x.rp, &opt, plan->rot + 0, &again, &x.err), KL_OK);
+    ck_assert_int_eq(kl_rebalance_evaluate(x.rp, &opt, plan->rot + 0, &again, &x.h.err), KL_OK);
     compare_summary(&plan->after[0], &again);
     kl_rebalance_plan_free(plan);
     fixture_free(&x);
@@ -411,9 +402,9 @@ START_TEST(test_every_move_independent)
                 continue;
             rot[i] = r;
             kl_rebalance_summary mine, ind;
-            ck_assert_int_eq(kl_rebalance_evaluate(x.rp, &opt, rot, &mine, &x.err), KL_OK);
+            ck_assert_int_eq(kl_rebalance_evaluate(x.rp, &opt, rot, &mine, &x.h.err), KL_OK);
             kl_rephase_feeder_rotations(x.rp, rot, sec_rot, load_rot);
-            ck_assert_int_eq(kl_feeder_write(x.f, sec_rot, load_rot, path, &x.err), KL_OK);
+            ck_assert_int_eq(kl_feeder_write(x.f, sec_rot, load_rot, path, &x.h.err), KL_OK);
             independent_flow(path, 1.0, &ind);
             compare_summary(&mine, &ind);
             rot[i] = 0;
@@ -448,7 +439,7 @@ START_TEST(test_write_hostile_names)
     char path[256];
     snprintf(path, sizeof path, "%s/rebalance-names-%ld.yaml", KILTER_BINARY_DIR, (long)getpid());
     int sec_rot[2] = {0, 1}, load_rot[1] = {1};
-    ck_assert_int_eq(kl_feeder_write(x.f, sec_rot, load_rot, path, &x.err), KL_OK);
+    ck_assert_int_eq(kl_feeder_write(x.f, sec_rot, load_rot, path, &x.h.err), KL_OK);
     fixture y;
     fixture_load_file(&y, path);
     ck_assert_int_eq(y.f->nsections, 2);
@@ -473,7 +464,7 @@ START_TEST(test_write_roundtrip)
     snprintf(path, sizeof path, "%s/rebalance-rt-%ld.yaml", KILTER_BINARY_DIR, (long)getpid());
     fixture x;
     fixture_load_file(&x, KILTER_SOURCE_DIR "/feeders/demo/quillmere-f3.yaml");
-    ck_assert_int_eq(kl_feeder_write(x.f, NULL, NULL, path, &x.err), KL_OK);
+    ck_assert_int_eq(kl_feeder_write(x.f, NULL, NULL, path, &x.h.err), KL_OK);
     kl_rebalance_summary a, b;
     independent_flow(KILTER_SOURCE_DIR "/feeders/demo/quillmere-f3.yaml", 1.0, &a);
     independent_flow(path, 1.0, &b);
@@ -482,7 +473,7 @@ START_TEST(test_write_roundtrip)
     ck_assert_double_eq_tol(a.v_min_pu, b.v_min_pu, 1e-12);
     remove(path);
     /* a directory that does not exist: an error, no file */
-    ck_assert_int_eq(kl_feeder_write(x.f, NULL, NULL, "/nonexistent-dir/x.yaml", &x.err), KL_EIO);
+    ck_assert_int_eq(kl_feeder_write(x.f, NULL, NULL, "/nonexistent-dir/x.yaml", &x.h.err), KL_EIO);
     fixture_free(&x);
 }
 END_TEST
@@ -548,15 +539,15 @@ START_TEST(test_bad_options)
     opt.weight[KL_OBJ_NEUTRAL] = 0;
     kl_rebalance_plan *plan = NULL;
     ck_assert_int_eq(kl_rebalance_plan_alloc(x.rp->nitems, 10, &plan), KL_OK);
-    ck_assert_int_eq(kl_rebalance_run(x.rp, &opt, plan, &x.err), KL_EARG);
-    ck_assert(x.err.count > 0);
+    ck_assert_int_eq(kl_rebalance_run(x.rp, &opt, plan, &x.h.err), KL_EARG);
+    ck_assert(x.h.err.count > 0);
     kl_rebalance_options_default(&opt);
     opt.mode = KL_SEARCH_EXHAUSTIVE;
     opt.exhaustive_limit = 5; /* 27 states */
-    ck_assert_int_eq(kl_rebalance_run(x.rp, &opt, plan, &x.err), KL_EARG);
+    ck_assert_int_eq(kl_rebalance_run(x.rp, &opt, plan, &x.h.err), KL_EARG);
     kl_rebalance_options_default(&opt);
     opt.level[0].scale = 500; /* far beyond what the feeder can carry */
-    ck_assert_int_eq(kl_rebalance_run(x.rp, &opt, plan, &x.err), KL_ENOCONV);
+    ck_assert_int_eq(kl_rebalance_run(x.rp, &opt, plan, &x.h.err), KL_ENOCONV);
     kl_rebalance_plan_free(plan);
     fixture_free(&x);
     free(text);
@@ -578,16 +569,16 @@ START_TEST(test_alloc_failures)
         kl_rephaser *rp = NULL;
         kl_rebalance_plan *plan = NULL;
         kl_alloc_fail_after(k);
-        st = kl_rephaser_alloc(x.net, &rp, &x.err);
+        st = kl_rephaser_alloc(x.net, &rp, &x.h.err);
         if (!st)
             st = kl_rebalance_plan_alloc(rp->nitems, 10, &plan);
         if (!st)
-            st = kl_rebalance_run(rp, &opt, plan, &x.err);
+            st = kl_rebalance_run(rp, &opt, plan, &x.h.err);
         kl_alloc_fail_after(-1);
         ck_assert(st == KL_OK || st == KL_ENOMEM);
         kl_rebalance_plan_free(plan);
         kl_rephaser_free(rp);
-        kl_errors_clear(&x.err);
+        kl_errors_clear(&x.h.err);
     }
     /* every allocation point was failed once before the run went through */
     ck_assert_int_eq(st, KL_OK);

@@ -7,75 +7,31 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include "kilter/flow.h"
-#include "kilter/lines.h"
-#include "kilter/network.h"
+#include "harness.h"
 #include "kilter/study.h"
 #include "study_fixture.h"
 
 #define PI 3.14159265358979323846
-
-typedef struct {
-    kl_feeder *f;
-    kl_network *net;
-    kl_flow_result *res;
-    kl_study_view view;
-    kl_study *s;
-} solved;
 
 static kl_errors err;
 
 static void setup(void) { kl_errors_init(&err); }
 static void teardown(void) { kl_errors_free(&err); }
 
-static void dump_errors(void)
+/* Loads, derives, solves and studies a feeder file into x (freed by the
+ * caller with harness_free); `ungrounded` isolates every construction's
+ * neutral before the line constants are derived. */
+static void solve_file(const char *rel, int ungrounded, harness *x)
 {
-    char buf[1200];
-    for (int k = 0; k < err.count; k++) {
-        kl_error_format(&err.items[k], buf, sizeof buf);
-        fprintf(stderr, "%s\n", buf);
-    }
-}
-
-/* Loads, derives, solves and studies a feeder file; `ungrounded` isolates
- * every construction's neutral before the line constants are derived. */
-static void solve_file(const char *rel, int ungrounded, solved *x)
-{
-    char path[1024];
-    kl_flow_options fo;
-    kl_study_options so;
-    memset(x, 0, sizeof *x);
-    snprintf(path, sizeof path, "%s/%s", KILTER_SOURCE_DIR, rel);
-    kl_status st = kl_feeder_load(path, &x->f, &err);
-    if (st == KL_OK && ungrounded)
+    harness_init(x);
+    HARNESS_OK(x, harness_load(x, rel));
+    if (ungrounded)
         for (int c = 0; c < x->f->nconstructions; c++)
             x->f->constructions[c].neutral_grounded = 0;
-    if (st == KL_OK)
-        st = kl_lines_derive(x->f, KL_CARSON_APPROX, &err);
-    if (st == KL_OK)
-        st = kl_network_build(x->f, &x->net, &err);
-    if (st == KL_OK)
-        st = kl_flow_result_alloc(x->net, &x->res, &err);
-    kl_flow_options_default(&fo);
-    if (st == KL_OK)
-        st = kl_flow_solve(x->net, &fo, x->res, &err);
-    if (st == KL_OK)
-        st = kl_study_view_init(&x->view, x->net, x->res, &err);
-    kl_study_options_default(&so);
-    if (st == KL_OK)
-        st = kl_study_run(x->f, &x->view.ph, &x->view.paths, &so, &x->s, &err);
-    if (st != KL_OK)
-        dump_errors();
-    ck_assert_int_eq(st, KL_OK);
-}
-
-static void solved_free(solved *x)
-{
-    kl_study_free(x->s);
-    kl_study_view_free(&x->view);
-    kl_flow_result_free(x->res);
-    kl_network_free(x->net);
-    kl_feeder_free(x->f);
+    HARNESS_OK(x, harness_derive(x, KL_CARSON_APPROX));
+    HARNESS_OK(x, harness_build(x));
+    HARNESS_OK(x, harness_solve(x, NULL));
+    HARNESS_OK(x, harness_study(x, NULL));
 }
 
 /* Published node voltages of the IEEE PES 13-node test feeder (results of
@@ -115,25 +71,25 @@ static void pub_seq(const pub_v *p, double m012[3])
 
 START_TEST(ieee13_sequence_matches_published)
 {
-    solved x;
+    harness x;
     solve_file("feeders/reference/ieee-13-node.yaml", 0, &x);
     for (size_t k = 0; k < sizeof pub / sizeof pub[0]; k++) {
         double m012[3];
         int b = kl_feeder_find_bus(x.f, pub[k].node);
         ck_assert_msg(b >= 0, "bus %s missing", pub[k].node);
         pub_seq(&pub[k], m012);
-        const kl_seq_point *v = &x.s->vbus[b];
+        const kl_seq_point *v = &x.study->vbus[b];
         ck_assert(v->defined & KL_SEQ_DEF_SEQUENCE);
         for (int q = 0; q < 3; q++) {
             double got = cabs(v->x012[q]) / x.res->v_base_ln[b];
             ck_assert_msg(fabs(got - m012[q]) <= SEQ_TOL, "bus %s |V%d| %.5f pu, published %.5f",
                           pub[k].node, q, got, m012[q]);
         }
-        ck_assert_msg(fabs(x.s->unb[b].vuf - m012[2] / m012[1]) <= VUF_TOL,
+        ck_assert_msg(fabs(x.study->unb[b].vuf - m012[2] / m012[1]) <= VUF_TOL,
                       "bus %s VUF %.5f, published phasors give %.5f", pub[k].node,
-                      x.s->unb[b].vuf, m012[2] / m012[1]);
+                      x.study->unb[b].vuf, m012[2] / m012[1]);
     }
-    solved_free(&x);
+    harness_free(&x);
 }
 END_TEST
 
@@ -142,26 +98,26 @@ END_TEST
  * from the construction's tn rows equals the study's (physics). */
 START_TEST(neutral_identity_grounded)
 {
-    solved x;
+    harness x;
     int checked = 0;
     solve_file("feeders/reference/ieee-13-node.yaml", 0, &x);
     for (int k = 0; k < x.f->nsections; k++) {
         const kl_section *sec = &x.f->sections[k];
-        if (isnan(creal(x.s->i_n1[k])) || sec->kind != KL_SEC_LINE)
+        if (isnan(creal(x.study->i_n1[k])) || sec->kind != KL_SEC_LINE)
             continue;
         const kl_construction *c = &x.f->constructions[sec->construction];
         kl_complex in = 0;
-        double scale = cabs(x.s->isec[k].sum) + cabs(x.res->i[3 * k]) + 1.0;
+        double scale = cabs(x.study->isec[k].sum) + cabs(x.res->i[3 * k]) + 1.0;
         for (int r = 0; r < c->ntn; r++)
             for (int p = 0; p < 3; p++)
                 if (sec->phases & (1 << p))
                     in += c->tn[r][p] * x.res->i[3 * k + p];
-        ck_assert(cabs(x.s->i_n1[k] + x.s->isec[k].sum + x.s->i_e[k]) <= 1e-9 * scale + 1e-9);
-        ck_assert(cabs(in - x.s->i_n1[k]) <= 1e-9 * (cabs(in) + 1.0));
+        ck_assert(cabs(x.study->i_n1[k] + x.study->isec[k].sum + x.study->i_e[k]) <= 1e-9 * scale + 1e-9);
+        ck_assert(cabs(in - x.study->i_n1[k]) <= 1e-9 * (cabs(in) + 1.0));
         checked++;
     }
     ck_assert_int_ge(checked, 5);
-    solved_free(&x);
+    harness_free(&x);
 }
 END_TEST
 
@@ -169,22 +125,22 @@ END_TEST
  * I_n = -(Ia + Ib + Ic) (physics). */
 START_TEST(neutral_identity_ungrounded)
 {
-    solved x;
+    harness x;
     int checked = 0;
     solve_file("feeders/reference/ieee-13-node.yaml", 1, &x);
     for (int k = 0; k < x.f->nsections; k++) {
         const kl_section *sec = &x.f->sections[k];
-        if (isnan(creal(x.s->i_n1[k])) || sec->kind != KL_SEC_LINE
+        if (isnan(creal(x.study->i_n1[k])) || sec->kind != KL_SEC_LINE
             || x.f->constructions[sec->construction].kind != KL_CONS_OVERHEAD)
             continue;
-        double scale = cabs(x.s->isec[k].sum) + 1.0;
-        ck_assert_msg(cabs(x.s->i_n1[k] + x.s->isec[k].sum) <= 1e-6 * scale,
+        double scale = cabs(x.study->isec[k].sum) + 1.0;
+        ck_assert_msg(cabs(x.study->i_n1[k] + x.study->isec[k].sum) <= 1e-6 * scale,
                       "section %s: In %.4f A, -sum %.4f A", sec->name,
-                      cabs(x.s->i_n1[k]), cabs(x.s->isec[k].sum));
+                      cabs(x.study->i_n1[k]), cabs(x.study->isec[k].sum));
         checked++;
     }
     ck_assert_int_ge(checked, 5);
-    solved_free(&x);
+    harness_free(&x);
 }
 END_TEST
 
@@ -193,16 +149,16 @@ END_TEST
  * whose shares, with the rest, add to 1 (construction of the remainder). */
 START_TEST(demo_has_broken_limit_and_contributors)
 {
-    solved x;
+    harness x;
     solve_file("feeders/demo/quillmere-f3.yaml", 0, &x);
-    ck_assert_int_ge(x.s->n_vuf_compat, 1);
-    ck_assert(x.s->contrib_done);
-    ck_assert_int_ge(x.s->ncbus, 1);
-    ck_assert_int_ge(x.s->cstart[1] - x.s->cstart[0], 1);
-    ck_assert(x.s->cshare[0] > 0);
-    ck_assert_double_eq_tol(x.s->c_unbal_total[0] + x.s->c_three_phase[0] + x.s->c_remainder[0],
+    ck_assert_int_ge(x.study->n_vuf_compat, 1);
+    ck_assert(x.study->contrib_done);
+    ck_assert_int_ge(x.study->ncbus, 1);
+    ck_assert_int_ge(x.study->cstart[1] - x.study->cstart[0], 1);
+    ck_assert(x.study->cshare[0] > 0);
+    ck_assert_double_eq_tol(x.study->c_unbal_total[0] + x.study->c_three_phase[0] + x.study->c_remainder[0],
                             1.0, 1e-9);
-    solved_free(&x);
+    harness_free(&x);
 }
 END_TEST
 
