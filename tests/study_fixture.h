@@ -11,6 +11,7 @@
 #include <math.h>
 #include <string.h>
 #include "kilter/study.h"
+#include "ref_ieee13.h"
 
 #define FX_MAX 16
 #define FX_PI 3.14159265358979323846
@@ -187,15 +188,12 @@ static inline void fx_solve(fx_feeder *x, const kl_complex *zs)
 }
 
 /* Phase impedance of IEEE 13-node configuration 601 (ohm/mile, published
- * data sheet, /work/shared/reference/ieee-13-node.md), times miles. */
+ * data sheet, tests/ref_ieee13.c), times miles. */
 static inline void fx_z601(double miles, kl_complex z[9])
 {
-    const kl_complex aa = 0.3465 + 1.0179 * I, ab = 0.1560 + 0.5017 * I,
-                     ac = 0.1580 + 0.4236 * I, bb = 0.3375 + 1.0478 * I,
-                     bc = 0.1535 + 0.3849 * I, cc = 0.3414 + 1.0348 * I;
-    const kl_complex m[9] = { aa, ab, ac, ab, bb, bc, ac, bc, cc };
+    const ref_ieee13_config *c = ref_ieee13_config_find("601");
     for (int e = 0; e < 9; e++)
-        z[e] = miles * m[e];
+        z[e] = miles * ref_ieee13_z(c, e / 3, e % 3);
 }
 
 /* A transposed line: self zs, mutual zm everywhere (sequence-decoupled). */

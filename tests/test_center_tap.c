@@ -8,13 +8,15 @@
  * across them at no load (common practice; the nameplate ratio 7200/240 V
  * of a 12.47Y/7.2 kV service transformer is common practice too).  The line
  * impedances are the published IEEE PES 13-node test feeder configurations
- * 601 (three-phase) and 605 (single-phase), used here only as realistic data. */
+ * 601 (three-phase) and 605 (single-phase, its phase-c entry; tests/ref_ieee13.c),
+ * used here only as realistic data. */
 #include <check.h>
 #include <complex.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
 #include "harness.h"
+#include "ref_ieee13.h"
 
 static const char *FEEDER_FMT =
     "kilter-feeder: 1\n"
@@ -23,12 +25,11 @@ static const char *FEEDER_FMT =
     "constructions:\n"
     "  - name: m3\n"
     "    phases: abc\n"
-    "    impedance: {aa: 0.3465 + j1.0179 ohm/mi, ab: 0.1560 + j0.5017 ohm/mi, ac: 0.1580 + j0.4236 ohm/mi,\n"
-    "                bb: 0.3375 + j1.0478 ohm/mi, bc: 0.1535 + j0.3849 ohm/mi, cc: 0.3414 + j1.0348 ohm/mi}\n"
+    "    impedance: {%s}\n"
     "    susceptance: {aa: 0 uS/mi, bb: 0 uS/mi, cc: 0 uS/mi}\n"
     "  - name: l1\n"
     "    phases: %s\n"
-    "    impedance: {%s%s: 1.3292 + j1.3475 ohm/mi}\n"
+    "    impedance: {%s%s: %s}\n"
     "    susceptance: {%s%s: 0 uS/mi}\n"
     "sections:\n"
     "  - {name: s1, from: sub, to: m1, length: 2000 ft, construction: m3}\n"
@@ -41,12 +42,25 @@ static const char *FEEDER_FMT =
     "  - {name: lights, bus: house, connection: wye, model: constant-power, power: {a: %s kVA}}\n"
     "  - {name: oven, bus: house, connection: delta, model: constant-impedance, power: {ab: %s kVA}}\n";
 
+/* "0.3465 + j1.0179 ohm/mi" */
+static void z_text(char *buf, size_t n, double complex z)
+{
+    snprintf(buf, n, "%.4f %c j%.4f ohm/mi", creal(z), cimag(z) < 0 ? '-' : '+', fabs(cimag(z)));
+}
+
 /* Loads the feeder with the primary phase ph and the two loads' powers and
  * runs it through to a solved flow; the caller checks the status. */
 static kl_status solve(harness *r, const char *ph, const char *p_leg, const char *p_240)
 {
-    char text[4096];
-    snprintf(text, sizeof text, FEEDER_FMT, ph, ph, ph, ph, ph, ph, p_leg, p_240);
+    static const char *const entry[6] = {"aa", "ab", "ac", "bb", "bc", "cc"};
+    const ref_ieee13_config *c601 = ref_ieee13_config_find("601"), *c605 = ref_ieee13_config_find("605");
+    char text[4096], m3[512] = "", l1[64], z[64];
+    for (int e = 0; e < 6; e++) {
+        z_text(z, sizeof z, c601->z[e]);
+        snprintf(m3 + strlen(m3), sizeof m3 - strlen(m3), "%s%s: %s", e ? ", " : "", entry[e], z);
+    }
+    z_text(l1, sizeof l1, ref_ieee13_z(c605, 2, 2));
+    snprintf(text, sizeof text, FEEDER_FMT, m3, ph, ph, ph, l1, ph, ph, ph, p_leg, p_240);
     harness_init(r);
     kl_status st = harness_load_text(r, text, "center-tap.yaml");
     if (!st)

@@ -14,6 +14,7 @@
 #include <stdlib.h>
 #include "flow_fixture.h"
 #include "harness.h"
+#include "ref_ieee13.h"
 #include "kl_flow.h"
 
 #define AGREE_PU 1e-6 /* the issue's agreement requirement */
@@ -95,25 +96,24 @@ static void check_agree(kl_feeder *f, const char *what)
     harness_free(&hn);
 }
 
-/* IEEE 13-node configuration 601 and 603/605 impedances (ohm/mile) and
- * susceptances (uS/mile), published data sheet; used as realistic lines. */
-static const double complex Z601[6] = {0.3465 + 1.0179 * I, 0.1560 + 0.5017 * I,
-    0.1580 + 0.4236 * I, 0.3375 + 1.0478 * I, 0.1535 + 0.3849 * I, 0.3414 + 1.0348 * I};
-static const double B601[6] = {6.2998, -1.9958, -1.2595, 5.9597, -0.7417, 5.6386};
-static const double complex Z603[6] = {0, 0, 0, 1.3294 + 1.3471 * I, 0.2066 + 0.4591 * I,
-    1.3238 + 1.3569 * I};
-static const double B603[6] = {0, 0, 0, 4.7097, -0.8999, 4.6658};
-static const double complex Z605[6] = {0, 0, 0, 0, 0, 1.3292 + 1.3475 * I};
-static const double B605[6] = {0, 0, 0, 0, 0, 4.5193};
+/* IEEE 13-node configurations 601, 603 and 605 (tests/ref_ieee13.c: the
+ * published impedances, ohm/mile, and susceptances, uS/mile); used as
+ * realistic lines. */
+static const ref_ieee13_config *cfg(const char *name)
+{
+    const ref_ieee13_config *c = ref_ieee13_config_find(name);
+    ck_assert_ptr_nonnull(c);
+    return c;
+}
 
 /* A three-phase main with a two-phase and a single-phase tap, loads of every
  * model in wye and delta, capacitors, a closed switch. */
 static void build_taps(hand_feeder *h)
 {
     hf_init(h, "taps (hand-built)", "src", 12.47);
-    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
-    int c2 = hf_matrix(h, "603", "bc", Z603, B603);
-    int c1 = hf_matrix(h, "605", "c", Z605, B605);
+    int c3 = hf_matrix(h, "601", "abc", cfg("601")->z, cfg("601")->b);
+    int c2 = hf_matrix(h, "603", "bc", cfg("603")->z, cfg("603")->b);
+    int c1 = hf_matrix(h, "605", "c", cfg("605")->z, cfg("605")->b);
     hf_line(h, "m1", "src", "b1", 3000, c3);
     hf_line(h, "m2", "b1", "b2", 2500, c3);
     hf_section(h, "sw", "b2", "b3", KL_SEC_SWITCH);
@@ -182,7 +182,7 @@ static const xf_case XF[] = {
 static void build_xf(hand_feeder *h, const xf_case *c)
 {
     hf_init(h, c->what, "src", 12.47);
-    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
+    int c3 = hf_matrix(h, "601", "abc", cfg("601")->z, cfg("601")->b);
     hf_line(h, "m1", "src", "hv", 2000, c3);
     double kva = 1500;
     if (c->high == KL_WINDING_SINGLE)
@@ -252,7 +252,7 @@ static void add_regulator(hand_feeder *h, const char *from, const char *to, kl_r
 static void build_reg(hand_feeder *h, kl_reg_connection conn, kl_reg_mode mode)
 {
     hf_init(h, "regulated (hand-built)", "src", 4.16);
-    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
+    int c3 = hf_matrix(h, "601", "abc", cfg("601")->z, cfg("601")->b);
     add_regulator(h, "src", "rg", conn, mode, (int[]){5, 3, 7});
     hf_line(h, "m1", "rg", "b1", 2000, c3);
     hf_line(h, "m2", "b1", "b2", 2000, c3);
@@ -319,34 +319,20 @@ START_TEST(test_feeder_files)
 }
 END_TEST
 
-/* Published IEEE 13-node node voltages (pu, degrees), IEEE PES Distribution
- * System Analysis Subcommittee, "IEEE 13 Node Test Feeder" power-flow
- * results (2004): a second reference for the nodal solution of the file,
- * to the issue's 0.002 pu and 0.2 degrees; taps A 10, B 8, C 11 (same source). */
-static const struct {
-    const char *bus;
-    double mag[3], ang[3]; /* mag 0: phase absent */
-} V13[] = {
-    {"rg60", {1.0625, 1.0500, 1.0687}, {0.00, -120.00, 120.00}},
-    {"632", {1.0210, 1.0420, 1.0174}, {-2.49, -121.72, 117.83}},
-    {"634", {0.9940, 1.0218, 0.9960}, {-3.23, -122.22, 117.34}},
-    {"646", {0, 1.0311, 1.0134}, {0, -121.98, 117.90}},
-    {"671", {0.9900, 1.0529, 0.9778}, {-5.30, -122.34, 116.02}},
-    {"611", {0, 0, 0.9738}, {0, 0, 115.78}},
-    {"652", {0.9825, 0, 0}, {-5.25, 0, 0}},
-    {"675", {0.9835, 1.0553, 0.9758}, {-5.56, -122.52, 116.03}},
-};
-
+/* Published IEEE 13-node node voltages and final taps (tests/ref_ieee13.c,
+ * IEEE PES Distribution System Analysis Subcommittee, "IEEE 13 Node Test
+ * Feeder" power-flow results, 2004): a second reference for the nodal
+ * solution of the file, to the issue's 0.002 pu and 0.2 degrees. */
 START_TEST(test_ieee13_published)
 {
     harness hf, h;
     kl_feeder *f = load_derived(&hf, "feeders/reference/ieee-13-node.yaml");
     ck_assert_msg(solve_with(&h, f, KL_SOLVER_NODAL, 0) == KL_OK, "%s", harness_first_error(&h));
     const kl_flow_result *r = h.res;
-    static const int taps[3] = {10, 8, 11};
     for (int p = 0; p < 3; p++)
-        ck_assert_int_eq(r->tap[p], taps[p]);
-    for (size_t k = 0; k < sizeof V13 / sizeof V13[0]; k++) {
+        ck_assert_int_eq(r->tap[p], ref_ieee13_taps[p]);
+    const ref_ieee13_voltage *V13 = ref_ieee13_voltages;
+    for (size_t k = 0; k < REF_IEEE13_NVOLTAGES; k++) {
         int b = kl_feeder_find_bus(f, V13[k].bus);
         ck_assert_msg(b >= 0, "bus %s", V13[k].bus);
         for (int p = 0; p < 3; p++) {
@@ -391,7 +377,7 @@ static void build_loop(hand_feeder *h, int tie_is_switch)
 {
     hf_init(h, "loop (hand-built)", "src", 12.47);
     h->f.radial = 0;
-    int c3 = hf_matrix(h, "601", "abc", Z601, B601);
+    int c3 = hf_matrix(h, "601", "abc", cfg("601")->z, cfg("601")->b);
     hf_line(h, "m1", "src", "b1", 3000, c3);
     hf_line(h, "m2", "b1", "b2", 2500, c3);
     hf_line(h, "m3", "b2", "b3", 2000, c3);
@@ -553,14 +539,14 @@ START_TEST(test_parallel_lines_equivalent)
     double complex zh[6];
     double b2[6];
     for (int k = 0; k < 6; k++) {
-        zh[k] = Z601[k] / 2;
-        b2[k] = B601[k] * 2;
+        zh[k] = cfg("601")->z[k] / 2;
+        b2[k] = cfg("601")->b[k] * 2;
     }
     harness h1, h2;
 
     hf_init(&H, "parallel pair", "src", 12.47);
     H.f.radial = 0;
-    int c = hf_matrix(&H, "601", "abc", Z601, B601);
+    int c = hf_matrix(&H, "601", "abc", cfg("601")->z, cfg("601")->b);
     hf_line(&H, "p1", "src", "b1", 4000, c);
     hf_line(&H, "p2", "src", "b1", 4000, c);
     hf_load(&H, "l", "b1", KL_CONN_WYE, KL_LOAD_PQ, (double[]){900, 500, 700},

@@ -12,6 +12,7 @@
 #include <gsl/gsl_rng.h>
 #include <gsl/gsl_vector.h>
 #include "kilter/sequence.h"
+#include "ref_ieee13.h"
 
 #define PI 3.14159265358979323846
 #define DEG (PI / 180.0)
@@ -21,24 +22,13 @@ static kl_complex polar(double mag, double deg)
     return mag * cexp(I * deg * DEG);
 }
 
-/* Published node voltages of the IEEE PES 13-node test feeder (results of
- * 2004-06-24; pu of the line-to-neutral base, degrees), three-phase nodes. */
-typedef struct { const char *node; double m[3], a[3]; } ieee13_v;
-static const ieee13_v ieee13[] = {
-    { "RG60", { 1.0625, 1.0500, 1.0687 }, { 0.00, -120.00, 120.00 } },
-    { "632", { 1.0210, 1.0420, 1.0174 }, { -2.49, -121.72, 117.83 } },
-    { "633", { 1.0180, 1.0401, 1.0148 }, { -2.56, -121.77, 117.82 } },
-    { "634", { 0.9940, 1.0218, 0.9960 }, { -3.23, -122.22, 117.34 } },
-    { "671", { 0.9900, 1.0529, 0.9778 }, { -5.30, -122.34, 116.02 } },
-    { "692", { 0.9900, 1.0529, 0.9777 }, { -5.31, -122.34, 116.02 } },
-    { "675", { 0.9835, 1.0553, 0.9758 }, { -5.56, -122.52, 116.03 } },
-};
-#define NIEEE13 ((int)(sizeof ieee13 / sizeof ieee13[0]))
-
-static void ieee13_phasors(const ieee13_v *v, kl_complex abc[3])
+/* Published node voltages of the IEEE PES 13-node test feeder
+ * (tests/ref_ieee13.c: results of 2004-06-24; pu of the line-to-neutral
+ * base, degrees). */
+static void ieee13_phasors(const ref_ieee13_voltage *v, kl_complex abc[3])
 {
     for (int k = 0; k < 3; k++)
-        abc[k] = polar(v->m[k], v->a[k]);
+        abc[k] = polar(v->mag[k], v->ang[k]);
 }
 
 /* Independent computation: the Fortescue matrix A^-1 = 1/3 [[1,1,1],[1,a,a^2],
@@ -129,15 +119,19 @@ END_TEST
  * the independent GSL matrix product; the inverse returns the published set. */
 START_TEST(ieee13_against_gsl)
 {
-    for (int n = 0; n < NIEEE13; n++) {
+    /* the three-phase nodes */
+    for (int n = 0; n < REF_IEEE13_NVOLTAGES; n++) {
+        const ref_ieee13_voltage *v = &ref_ieee13_voltages[n];
         kl_complex abc[3], s[3], ref[3], back[3];
-        ieee13_phasors(&ieee13[n], abc);
+        if (!ref_ieee13_voltage_three_phase(v))
+            continue;
+        ieee13_phasors(v, abc);
         kl_seq_from_phase(abc, s);
         gsl_fortescue(abc, ref);
         kl_seq_to_phase(s, back);
         for (int k = 0; k < 3; k++) {
             ck_assert_msg(cabs(s[k] - ref[k]) <= 1e-12, "node %s seq %d",
-                          ieee13[n].node, k);
+                          v->bus, k);
             ck_assert_double_le(cabs(back[k] - abc[k]), 1e-12);
         }
     }
@@ -151,9 +145,11 @@ END_TEST
 START_TEST(ieee13_671_plausible)
 {
     kl_complex abc[3], s[3];
-    ieee13_phasors(&ieee13[4], abc);
+    const ref_ieee13_voltage *v = ref_ieee13_voltage_find("671");
+    ck_assert_ptr_nonnull(v);
+    ieee13_phasors(v, abc);
     kl_seq_from_phase(abc, s);
-    ck_assert_double_le(cabs(s[1]), (0.9900 + 1.0529 + 0.9778) / 3.0);
+    ck_assert_double_le(cabs(s[1]), (v->mag[0] + v->mag[1] + v->mag[2]) / 3.0);
     ck_assert_double_lt(cabs(s[2]) / cabs(s[1]), 0.05);
 }
 END_TEST
@@ -167,10 +163,12 @@ START_TEST(line_sequence_identity)
     gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
     ck_assert_ptr_nonnull(r);
     gsl_rng_set(r, 7);
-    for (int n = 0; n < NIEEE13 + 200; n++) {
+    for (int n = 0; n < REF_IEEE13_NVOLTAGES + 200; n++) {
         kl_complex vln[3], vll[3], s[3], sll[3];
-        if (n < NIEEE13)
-            ieee13_phasors(&ieee13[n], vln);
+        if (n < REF_IEEE13_NVOLTAGES && !ref_ieee13_voltage_three_phase(&ref_ieee13_voltages[n]))
+            continue;
+        if (n < REF_IEEE13_NVOLTAGES)
+            ieee13_phasors(&ref_ieee13_voltages[n], vln);
         else
             for (int k = 0; k < 3; k++)
                 vln[k] = polar(1 + 0.2 * (gsl_rng_uniform(r) - 0.5), -120.0 * k + 20 * gsl_rng_uniform(r))
@@ -191,7 +189,9 @@ END_TEST
  * voltages and Vbc are defined, nothing else; no zeros stand in for phase a. */
 START_TEST(two_phase_point)
 {
-    kl_complex v[3] = { 0, polar(1.0329, -121.90), polar(1.0155, 117.86) };
+    const ref_ieee13_voltage *pub = ref_ieee13_voltage_find("645");
+    ck_assert_ptr_nonnull(pub);
+    kl_complex v[3] = { 0, polar(pub->mag[1], pub->ang[1]), polar(pub->mag[2], pub->ang[2]) };
     kl_seq_point p;
     kl_errors err;
     kl_errors_init(&err);

@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "harness.h"
+#include "ref_ieee13.h"
 #include "kilter/study.h"
 #include "study_fixture.h"
 
@@ -34,28 +35,17 @@ static void solve_file(const char *rel, int ungrounded, harness *x)
     HARNESS_OK(x, harness_study(x, NULL));
 }
 
-/* Published node voltages of the IEEE PES 13-node test feeder (results of
- * 2004-06-24, /work/shared/reference/ieee-13-node.md): pu of the
- * line-to-neutral base, degrees; the three-phase nodes. */
-typedef struct { const char *node; double m[3], a[3]; } pub_v;
-static const pub_v pub[] = {
-    { "632", { 1.0210, 1.0420, 1.0174 }, { -2.49, -121.72, 117.83 } },
-    { "633", { 1.0180, 1.0401, 1.0148 }, { -2.56, -121.77, 117.82 } },
-    { "634", { 0.9940, 1.0218, 0.9960 }, { -3.23, -122.22, 117.34 } },
-    { "671", { 0.9900, 1.0529, 0.9778 }, { -5.30, -122.34, 116.02 } },
-    { "680", { 0.9900, 1.0529, 0.9778 }, { -5.30, -122.34, 116.02 } },
-    { "692", { 0.9900, 1.0529, 0.9777 }, { -5.31, -122.34, 116.02 } },
-    { "675", { 0.9835, 1.0553, 0.9758 }, { -5.56, -122.52, 116.03 } },
-};
-
+/* The published node voltages of the IEEE PES 13-node test feeder
+ * (tests/ref_ieee13.c: results of 2004-06-24, pu of the line-to-neutral
+ * base, degrees); the three-phase nodes are checked. */
 /* Sequence magnitudes from the published phasors, written out from the
  * Fortescue definitions (AIEE Trans. 37, 1918) with cexp for the operator a,
  * independently of src/sequence.c. */
-static void pub_seq(const pub_v *p, double m012[3])
+static void pub_seq(const ref_ieee13_voltage *p, double m012[3])
 {
     kl_complex v[3], a = cexp(I * 2.0 * PI / 3.0);
     for (int k = 0; k < 3; k++)
-        v[k] = p->m[k] * cexp(I * p->a[k] * PI / 180.0);
+        v[k] = p->mag[k] * cexp(I * p->ang[k] * PI / 180.0);
     m012[0] = cabs(v[0] + v[1] + v[2]) / 3.0;
     m012[1] = cabs(v[0] + a * v[1] + a * a * v[2]) / 3.0;
     m012[2] = cabs(v[0] + a * a * v[1] + a * v[2]) / 3.0;
@@ -73,20 +63,23 @@ START_TEST(ieee13_sequence_matches_published)
 {
     harness x;
     solve_file("feeders/reference/ieee-13-node.yaml", 0, &x);
-    for (size_t k = 0; k < sizeof pub / sizeof pub[0]; k++) {
+    for (size_t k = 0; k < REF_IEEE13_NVOLTAGES; k++) {
+        const ref_ieee13_voltage *pub = &ref_ieee13_voltages[k];
         double m012[3];
-        int b = kl_feeder_find_bus(x.f, pub[k].node);
-        ck_assert_msg(b >= 0, "bus %s missing", pub[k].node);
-        pub_seq(&pub[k], m012);
+        if (!ref_ieee13_voltage_three_phase(pub))
+            continue;
+        int b = kl_feeder_find_bus(x.f, pub->bus);
+        ck_assert_msg(b >= 0, "bus %s missing", pub->bus);
+        pub_seq(pub, m012);
         const kl_seq_point *v = &x.study->vbus[b];
         ck_assert(v->defined & KL_SEQ_DEF_SEQUENCE);
         for (int q = 0; q < 3; q++) {
             double got = cabs(v->x012[q]) / x.res->v_base_ln[b];
             ck_assert_msg(fabs(got - m012[q]) <= SEQ_TOL, "bus %s |V%d| %.5f pu, published %.5f",
-                          pub[k].node, q, got, m012[q]);
+                          pub->bus, q, got, m012[q]);
         }
         ck_assert_msg(fabs(x.study->unb[b].vuf - m012[2] / m012[1]) <= VUF_TOL,
-                      "bus %s VUF %.5f, published phasors give %.5f", pub[k].node,
+                      "bus %s VUF %.5f, published phasors give %.5f", pub->bus,
                       x.study->unb[b].vuf, m012[2] / m012[1]);
     }
     harness_free(&x);
