@@ -33,7 +33,7 @@ declare -A pub
 for h in types error units progress; do pub[$h]=base; done
 for h in sequence unbalance; do pub[$h]=math; done
 pub[feeder]=model; pub[lines]=lines; pub[network]=flow; pub[flow]=flow
-pub[limits]=study; pub[study]=study; pub[rebalance]=rebalance; pub[report]=report
+pub[limits]=study; pub[study]=study; pub[rebalance]=rebalance; pub[report]=report; pub[table]=report
 
 allowed() { # LAYER TARGET_LAYER
   case " ${may[$1]} " in *" $2 "*) return 0 ;; esac

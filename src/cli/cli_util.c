@@ -8,6 +8,7 @@
 #include <string.h>
 #include <unistd.h>
 #include "cli.h"
+#include "kilter/table.h"
 
 #ifndef KILTER_DEMO_FEEDER
 #define KILTER_DEMO_FEEDER "feeders/demo/quillmere-f3.yaml"
@@ -244,36 +245,16 @@ int kl_cli_load(const kl_cli_args *a, kl_feeder **f)
     return kl_cli_exit_code(s);
 }
 
+/* The escapes are the library's (kilter/table.h), so the bespoke parts of an
+ * output and its tables quote alike. */
 void kl_cli_json_str(FILE *f, const char *s)
 {
-    fputc('"', f);
-    for (; s && *s; s++) {
-        unsigned char c = (unsigned char)*s;
-        if (c == '"' || c == '\\')
-            fprintf(f, "\\%c", c);
-        else if (c < 0x20)
-            fprintf(f, "\\u%04x", c);
-        else
-            fputc(c, f);
-    }
-    fputc('"', f);
+    kl_table_json_str(f, s ? s : "");
 }
 
 void kl_cli_csv_str(FILE *f, const char *s)
 {
-    if (!s)
-        s = "";
-    if (!strpbrk(s, ",\"\n\r")) {
-        fputs(s, f);
-        return;
-    }
-    fputc('"', f);
-    for (; *s; s++) {
-        if (*s == '"')
-            fputc('"', f);
-        fputc(*s, f);
-    }
-    fputc('"', f);
+    kl_table_csv_str(f, s);
 }
 
 int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form)
@@ -291,8 +272,5 @@ int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form)
 
 void kl_cli_json_num(FILE *f, double x)
 {
-    if (!isfinite(x))
-        fputs("null", f);
-    else
-        fprintf(f, "%.8g", x);
+    kl_table_json_num(f, x);
 }

@@ -9,10 +9,10 @@
 #include "kilter/flow.h"
 #include "kilter/lines.h"
 #include "kilter/network.h"
+#include "kilter/table.h"
 #include "cli.h"
 #include "kilter/units.h"
 
-static const double RAD2DEG = KL_DEG_PER_RAD;
 static const char PH[3] = {'a', 'b', 'c'};
 
 enum { OPT_TABLE, OPT_SOLVER, OPT_CARSON, OPT_SCALE, NOPTS };
@@ -28,58 +28,8 @@ typedef struct {
     const kl_feeder *f;
     const kl_flow_result *r;
     const char *solver;
+    kl_flow_rows rows;  /* the tables' row record: f and r again */
 } view;
-
-static double deg(kl_complex z)
-{
-    return cabs(z) > 0 ? carg(z) * RAD2DEG : 0.0;
-}
-
-/* Phases to print for a section: its own mask, or the sending bus's. */
-static int section_phases(const view *w, int s)
-{
-    const kl_section *sc = &w->f->sections[s];
-    int up = sc->reversed ? sc->to : sc->from;
-    return sc->phases ? sc->phases : w->r->phases[up];
-}
-
-static void table_buses(FILE *o, const view *w)
-{
-    fprintf(o, "%-16s %-5s %12s %9s %9s\n", "bus", "phase", "volts", "pu", "angle");
-    for (int b = 0; b < w->f->nbuses; b++)
-        for (int p = 0; p < 3; p++) {
-            if (!(w->r->phases[b] & (1 << p)))
-                continue;
-            kl_complex v = w->r->v[3 * b + p];
-            fprintf(o, "%-16s %-5c %12.1f %9.4f %9.2f\n", w->f->buses[b].name, PH[p], cabs(v),
-                    cabs(v) / w->r->v_base_ln[b], deg(v));
-        }
-}
-
-static void table_sections(FILE *o, const view *w)
-{
-    fprintf(o, "%-16s %-5s %10s %9s %11s %11s %10s\n", "section", "phase", "amps", "angle",
-            "in kW", "in kvar", "loss kW");
-    for (int s = 0; s < w->f->nsections; s++) {
-        if (!w->r->sec_solved[s]) {
-            fprintf(o, "%-16s (open)\n", w->f->sections[s].name);
-            continue;
-        }
-        int m = section_phases(w, s);
-        for (int p = 0; p < 3; p++) {
-            if (!(m & (1 << p)))
-                continue;
-            kl_complex i = w->r->i[3 * s + p], si = w->r->s_in[3 * s + p];
-            fprintf(o, "%-16s %-5c %10.2f %9.2f %11.2f %11.2f %10.3f\n", w->f->sections[s].name,
-                    PH[p], cabs(i), deg(i), creal(si) / 1e3, cimag(si) / 1e3,
-                    creal(w->r->s_loss[3 * s + p]) / 1e3);
-        }
-        if (w->f->sections[s].kind == KL_SEC_LINE)
-            fprintf(o, "%-16s %-5s %10.2f %9.2f   (earth return %.2f A)\n", w->f->sections[s].name,
-                    "n", cabs(w->r->i_neutral[s]), deg(w->r->i_neutral[s]),
-                    cabs(w->r->i_earth[s]));
-    }
-}
 
 static void table_totals(FILE *o, const view *w)
 {
@@ -107,103 +57,8 @@ static void print_table(FILE *o, const view *w, int sections)
             w->r->reg_rounds, w->r->mismatch_pu);
     fprintf(o, "caution: planning estimates from the feeder model as given; check against "
             "measurements before acting on them.\n\n");
-    if (sections)
-        table_sections(o, w);
-    else
-        table_buses(o, w);
+    kl_table_text(o, sections ? &kl_table_flow_sections : &kl_table_flow_buses, &w->rows);
     table_totals(o, w);
-}
-
-static void csv_buses(FILE *o, const view *w)
-{
-    fprintf(o, "bus,phase,v_volts,v_pu,angle_deg,base_ln_volts\n");
-    for (int b = 0; b < w->f->nbuses; b++)
-        for (int p = 0; p < 3; p++) {
-            if (!(w->r->phases[b] & (1 << p)))
-                continue;
-            kl_complex v = w->r->v[3 * b + p];
-            kl_cli_csv_str(o, w->f->buses[b].name);
-            fprintf(o, ",%c,%.6f,%.8f,%.6f,%.6f\n", PH[p], cabs(v), cabs(v) / w->r->v_base_ln[b],
-                    deg(v), w->r->v_base_ln[b]);
-        }
-}
-
-static void csv_sections(FILE *o, const view *w)
-{
-    fprintf(o, "section,phase,i_amps,i_angle_deg,p_in_kw,q_in_kvar,p_loss_kw,q_loss_kvar,"
-               "i_neutral_amps,i_neutral_angle_deg,i_earth_amps,i_earth_angle_deg\n");
-    for (int s = 0; s < w->f->nsections; s++) {
-        if (!w->r->sec_solved[s])
-            continue;
-        int m = section_phases(w, s);
-        kl_complex in = w->r->i_neutral[s], ie = w->r->i_earth[s];
-        for (int p = 0; p < 3; p++) {
-            if (!(m & (1 << p)))
-                continue;
-            kl_complex i = w->r->i[3 * s + p], si = w->r->s_in[3 * s + p];
-            kl_complex sl = w->r->s_loss[3 * s + p];
-            kl_cli_csv_str(o, w->f->sections[s].name);
-            fprintf(o, ",%c,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f,%.6f\n", PH[p], cabs(i),
-                    deg(i), creal(si) / 1e3, cimag(si) / 1e3, creal(sl) / 1e3, cimag(sl) / 1e3,
-                    cabs(in), deg(in), cabs(ie), deg(ie));
-        }
-    }
-}
-
-static void json_phasor(FILE *o, const char *key, kl_complex z, const char *unit, int comma)
-{
-    fprintf(o, "\"%s\": {\"%s\": %.8g, \"angle_deg\": %.6f}%s", key, unit, cabs(z), deg(z),
-            comma ? ", " : "");
-}
-
-static void json_buses(FILE *o, const view *w)
-{
-    fprintf(o, "  \"buses\": [\n");
-    for (int b = 0; b < w->f->nbuses; b++) {
-        fprintf(o, "    {\"name\": ");
-        kl_cli_json_str(o, w->f->buses[b].name);
-        fprintf(o, ", \"base_ln_volts\": %.8g, \"phases\": {", w->r->v_base_ln[b]);
-        int first = 1;
-        for (int p = 0; p < 3; p++) {
-            if (!(w->r->phases[b] & (1 << p)))
-                continue;
-            kl_complex v = w->r->v[3 * b + p];
-            fprintf(o, "%s\"%c\": {\"volts\": %.8g, \"pu\": %.8g, \"angle_deg\": %.6f}",
-                    first ? "" : ", ", PH[p], cabs(v), cabs(v) / w->r->v_base_ln[b], deg(v));
-            first = 0;
-        }
-        fprintf(o, "}}%s\n", b + 1 < w->f->nbuses ? "," : "");
-    }
-    fprintf(o, "  ],\n");
-}
-
-static void json_sections(FILE *o, const view *w)
-{
-    fprintf(o, "  \"sections\": [\n");
-    for (int s = 0; s < w->f->nsections; s++) {
-        const kl_section *sc = &w->f->sections[s];
-        fprintf(o, "    {\"name\": ");
-        kl_cli_json_str(o, sc->name);
-        fprintf(o, ", \"solved\": %s, \"phases\": {", w->r->sec_solved[s] ? "true" : "false");
-        int m = w->r->sec_solved[s] ? section_phases(w, s) : 0, first = 1;
-        for (int p = 0; p < 3; p++) {
-            if (!(m & (1 << p)))
-                continue;
-            kl_complex si = w->r->s_in[3 * s + p], sl = w->r->s_loss[3 * s + p];
-            fprintf(o, "%s\"%c\": {", first ? "" : ", ", PH[p]);
-            json_phasor(o, "current", w->r->i[3 * s + p], "amps", 1);
-            json_phasor(o, "current_receiving", w->r->i_recv[3 * s + p], "amps", 1);
-            fprintf(o, "\"p_in_kw\": %.8g, \"q_in_kvar\": %.8g, \"p_loss_kw\": %.8g, "
-                    "\"q_loss_kvar\": %.8g}", creal(si) / 1e3, cimag(si) / 1e3, creal(sl) / 1e3,
-                    cimag(sl) / 1e3);
-            first = 0;
-        }
-        fprintf(o, "}, ");
-        json_phasor(o, "neutral", w->r->i_neutral[s], "amps", 1);
-        json_phasor(o, "earth_return", w->r->i_earth[s], "amps", 0);
-        fprintf(o, "}%s\n", s + 1 < w->f->nsections ? "," : "");
-    }
-    fprintf(o, "  ],\n");
 }
 
 static void json_elements(FILE *o, const view *w)
@@ -261,8 +116,10 @@ static void print_json(FILE *o, const view *w)
             "  \"regulator_rounds\": %d,\n  \"mismatch_pu\": %.3g,\n", w->solver,
             w->r->converged ? "true" : "false", w->r->total_iterations, w->r->reg_rounds,
             w->r->mismatch_pu);
-    json_buses(o, w);
-    json_sections(o, w);
+    kl_table_json(o, &kl_table_flow_buses, &w->rows);
+    fputs(",\n", o);
+    kl_table_json(o, &kl_table_flow_sections, &w->rows);
+    fputs(",\n", o);
     json_elements(o, w);
     fprintf(o, "  \"totals\": {\n");
     json_triple(o, "input", w->r->s_head, 1);
@@ -310,10 +167,8 @@ static int emit(const kl_cli_args *a, const view *w, int sections)
         return rc;
     if (a->format == KL_FMT_JSON)
         print_json(out.f, w);
-    else if (a->format == KL_FMT_CSV && sections)
-        csv_sections(out.f, w);
     else if (a->format == KL_FMT_CSV)
-        csv_buses(out.f, w);
+        kl_table_csv(out.f, sections ? &kl_table_flow_sections : &kl_table_flow_buses, &w->rows);
     else
         print_table(out.f, w, sections);
     return kl_cli_out_close(&out);
@@ -350,7 +205,7 @@ int kl_cmd_flow(int argc, char **argv)
     kl_cli_print_errors(&e);
     rc = kl_cli_exit_code(st);
     if (!st) {
-        view w = {f, res, o.solver == KL_SOLVER_NODAL ? "nodal" : "sweep"};
+        view w = {f, res, o.solver == KL_SOLVER_NODAL ? "nodal" : "sweep", {f, res}};
         rc = emit(&a, &w, sections);
     } else if (st == KL_ENOMEM && e.count == 0) {
         kl_cli_error("flow: out of memory");

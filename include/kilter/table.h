@@ -1,0 +1,134 @@
+/* kilter: one description per result table, read by every output format.
+ *
+ * A table is a list of columns.  A column says once what a figure is (its
+ * key, unit and definition), how to get it for row i (and sub-row j: a phase
+ * of a bus, a ranked contributor of a bus) from the result, and how each
+ * format shows it.  The writers below stream a table as text, CSV, JSON or
+ * HTML from that one description, so a figure is computed in one place and
+ * every format prints that number.  Nothing is allocated per cell; the
+ * writers print as they go (the HTML ranking allocates one array per table).
+ *
+ * The tables of the flow, the study and the rebalancing plan are declared at
+ * the end with the row records they read (src/report/table_*.c define them,
+ * next to the getters of their figures). */
+#ifndef KILTER_TABLE_H
+#define KILTER_TABLE_H
+
+#include <stdio.h>
+#include "kilter/error.h"
+#include "kilter/feeder.h"
+#include "kilter/flow.h"
+#include "kilter/rebalance.h"
+#include "kilter/study.h"
+
+typedef enum { KL_TABLE_TEXT = 0, KL_TABLE_CSV = 1, KL_TABLE_JSON = 2, KL_TABLE_HTML = 3 } kl_table_format;
+
+/* Formats a column appears in (kl_column.in). */
+#define KL_IN_TEXT (1u << KL_TABLE_TEXT)
+#define KL_IN_CSV (1u << KL_TABLE_CSV)
+#define KL_IN_JSON (1u << KL_TABLE_JSON)
+#define KL_IN_HTML (1u << KL_TABLE_HTML)
+
+typedef enum {
+    KL_CELL_NUM = 0, /* double; NAN (or any non-finite) when not defined */
+    KL_CELL_INT,     /* int */
+    KL_CELL_STR,     /* string; NULL when not defined */
+    KL_CELL_CHAR,    /* one character (a phase letter) */
+    KL_CELL_BOOL     /* 0 or 1 */
+} kl_cell_type;
+
+/* One value, as a getter fills it. */
+typedef struct {
+    double num;       /* KL_CELL_NUM */
+    int i;            /* KL_CELL_INT, _CHAR, _BOOL */
+    const char *str;  /* KL_CELL_STR */
+    const char *cls;  /* HTML: class added to the cell ("ok", "bad"); NULL none */
+    char buf[32];     /* room for a string the getter builds (str may point here) */
+} kl_cell;
+
+/* The value of a column at row `row`, sub-row `sub` (-1 for a row's own
+ * columns); ctx is the table's row record (below). */
+typedef void (*kl_cell_get)(const void *ctx, int row, int sub, kl_cell *c);
+
+/* How the formats show a value that is not defined: text a dash right-aligned
+ * in the field's width (the field's separator and suffix left out), CSV an
+ * empty field, JSON null, HTML a dash cell.  Strings are escaped for CSV
+ * (quoted when needed), JSON and HTML. */
+typedef struct {
+    const char *key;       /* the figure's name: CSV header field and JSON key */
+    const char *unit;      /* "V", "pu", "%", "A", "kW", ... ("" none) */
+    const char *help;      /* its definition (docs/<command>.md says the same) */
+    kl_cell_type type;
+    kl_cell_get get;
+    unsigned in;           /* formats that show it (KL_IN_*); a figure shown two ways
+                              is two columns with one getter or two getters of one figure */
+    int sub;               /* 1: a column of the sub-rows (one value per sub-row) */
+    const char *json_key;  /* JSON key when not `key`: "a.b" puts b inside object a,
+                              and consecutive columns keyed "a[]" form the array a */
+    const char *text_head; /* text header ("": none) */
+    const char *text;      /* text printf format with its separator, width and suffix,
+                              e.g. " %9.4f", "  %-14s", " %7.0f%%"; the header takes
+                              the same separator and width */
+    const char *csv;       /* CSV printf format of a number (NULL: %.6f) */
+    const char *json;      /* JSON printf format of a number (NULL: %.8g) */
+    const char *html_head; /* HTML header cell */
+    const char *html;      /* HTML printf format of a number shown (the cell's data-v
+                              attribute holds it as the CSV prints it, %.6f) */
+} kl_column;
+
+#define KL_TABLE_JSON_EMPTY_INLINE 1u /* an empty JSON array prints as [] (else [ newline ]) */
+
+typedef struct {
+    const char *name;      /* the table's name (`--table NAME`) */
+    const char *json_key;  /* key of its JSON array (NULL: name) */
+    const char *help;      /* one line: what a row is */
+    const kl_column *col;
+    int ncol;
+    int (*rows)(const void *ctx); /* number of rows */
+    /* Whether the format shows row `row` (NULL: every row). */
+    int (*keep)(const void *ctx, int row, kl_table_format fmt);
+    /* Sub-rows: the one after `sub` (-1: the first), -1 after the last; NULL:
+     * none.  Text and CSV print a line per sub-row (the row's own columns
+     * repeated), JSON an object (sub_name given) or an array under sub_key. */
+    int (*next_sub)(const void *ctx, int row, int sub);
+    const char *sub_key;
+    const char *(*sub_name)(const void *ctx, int row, int sub, char buf[8]);
+    /* Text: bespoke lines written after a row's lines (a note, an open section). */
+    void (*text_after)(FILE *o, const void *ctx, int row);
+    /* HTML: the ranking key, largest first; rows with a non-finite key are left
+     * out (NULL: file order, as `keep` says). */
+    double (*rank)(const void *ctx, int row);
+    unsigned flags;        /* KL_TABLE_* */
+} kl_table;
+
+/* ---- writers (table.c) */
+
+void kl_table_text_head(FILE *o, const kl_table *t);
+/* The text line of one (row, sub) pair; sub -1 for a table without sub-rows. */
+void kl_table_text_line(FILE *o, const kl_table *t, const void *ctx, int row, int sub);
+/* The rows the text format keeps, each with its lines and text_after. */
+void kl_table_text_rows(FILE *o, const kl_table *t, const void *ctx);
+/* Header and rows. */
+void kl_table_text(FILE *o, const kl_table *t, const void *ctx);
+
+void kl_table_csv(FILE *o, const kl_table *t, const void *ctx); /* header and rows */
+/* The member `"json_key": [ rows ]`, indented as a member of the top object;
+ * the caller writes what separates it from the next member. */
+void kl_table_json(FILE *o, const kl_table *t, const void *ctx);
+/* The members of one row's JSON object, without the braces. */
+void kl_table_json_members(FILE *o, const kl_table *t, const void *ctx, int row);
+
+/* Escapes shared with the program's bespoke parts. */
+void kl_table_json_str(FILE *o, const char *s); /* quoted and escaped; NULL -> null */
+void kl_table_json_num(FILE *o, double x);      /* %.8g; non-finite -> null */
+void kl_table_csv_str(FILE *o, const char *s);  /* quoted when it holds , " or a newline */
+
+/* ---- the flow's tables (table_flow.c); docs/flow.md has the contract */
+typedef struct {
+    const kl_feeder *feeder;
+    const kl_flow_result *flow;
+} kl_flow_rows;
+extern const kl_table kl_table_flow_buses;    /* a line per bus and phase */
+extern const kl_table kl_table_flow_sections; /* a line per section and phase */
+
+#endif

@@ -1,0 +1,277 @@
+/* kilter: the load flow's tables (kilter/table.h): bus voltages and section
+ * currents and powers, a line per bus or section and phase.  The columns are
+ * the contract of docs/flow.md: CSV fields and JSON keys as documented there.
+ * Magnitudes are |z|, angles arg z in degrees (0 for a zero phasor), powers
+ * in kW and kvar (S = V I*, computed by the flow). */
+#include <complex.h>
+#include <math.h>
+#include "kl_report.h"
+#include "kilter/table.h"
+#include "kilter/units.h"
+
+#define ROWS(ctx) ((const kl_flow_rows *)(ctx))
+
+static double deg(kl_complex z)
+{
+    return cabs(z) > 0 ? carg(z) * KL_DEG_PER_RAD : 0.0;
+}
+
+static int next_phase(int mask, int p)
+{
+    for (p++; p < 3; p++)
+        if (mask & (1 << p))
+            return p;
+    return -1;
+}
+
+static const char *phase_name(const void *ctx, int row, int sub, char buf[8])
+{
+    (void)ctx;
+    (void)row;
+    buf[0] = (char)('a' + sub);
+    buf[1] = '\0';
+    return buf;
+}
+
+static void phase_letter(const void *ctx, int row, int sub, kl_cell *c)
+{
+    (void)ctx;
+    (void)row;
+    c->i = 'a' + sub;
+}
+
+/* ---- buses: a line per bus and phase present (the flow's phase mask) */
+
+static int bus_rows(const void *ctx)
+{
+    return ROWS(ctx)->feeder->nbuses;
+}
+
+static int bus_next(const void *ctx, int b, int p)
+{
+    return next_phase(ROWS(ctx)->flow->phases[b], p);
+}
+
+static void bus_name(const void *ctx, int b, int p, kl_cell *c)
+{
+    (void)p;
+    c->str = ROWS(ctx)->feeder->buses[b].name;
+}
+
+static void bus_base(const void *ctx, int b, int p, kl_cell *c)
+{
+    (void)p;
+    c->num = ROWS(ctx)->flow->v_base_ln[b];
+}
+
+static void bus_volts(const void *ctx, int b, int p, kl_cell *c)
+{
+    c->num = cabs(ROWS(ctx)->flow->v[3 * b + p]);
+}
+
+static void bus_pu(const void *ctx, int b, int p, kl_cell *c)
+{
+    const kl_flow_result *r = ROWS(ctx)->flow;
+    c->num = cabs(r->v[3 * b + p]) / r->v_base_ln[b];
+}
+
+static void bus_angle(const void *ctx, int b, int p, kl_cell *c)
+{
+    c->num = deg(ROWS(ctx)->flow->v[3 * b + p]);
+}
+
+#define TCJ (KL_IN_TEXT | KL_IN_CSV | KL_IN_JSON)
+#define TC (KL_IN_TEXT | KL_IN_CSV)
+#define CJ (KL_IN_CSV | KL_IN_JSON)
+
+static const kl_column bus_cols[] = {
+    {.key = "bus", .help = "bus name", .type = KL_CELL_STR, .get = bus_name, .in = TCJ,
+     .json_key = "name", .text_head = "bus", .text = "%-16s"},
+    {.key = "base_ln_volts", .unit = "V", .help = "the bus's line-to-neutral base voltage",
+     .type = KL_CELL_NUM, .get = bus_base, .in = KL_IN_JSON},
+    {.key = "phase", .help = "phase letter", .type = KL_CELL_CHAR, .get = phase_letter, .in = TC,
+     .sub = 1, .text_head = "phase", .text = " %-5c"},
+    {.key = "v_volts", .unit = "V", .help = "phase-to-neutral voltage magnitude |V|",
+     .type = KL_CELL_NUM, .get = bus_volts, .in = TCJ, .sub = 1, .json_key = "volts",
+     .text_head = "volts", .text = " %12.1f"},
+    {.key = "v_pu", .unit = "pu", .help = "|V| over the bus's line-to-neutral base",
+     .type = KL_CELL_NUM, .get = bus_pu, .in = TCJ, .sub = 1, .json_key = "pu",
+     .text_head = "pu", .text = " %9.4f", .csv = "%.8f"},
+    {.key = "angle_deg", .unit = "deg", .help = "voltage angle, source phase a at 0",
+     .type = KL_CELL_NUM, .get = bus_angle, .in = TCJ, .sub = 1, .text_head = "angle",
+     .text = " %9.2f", .json = "%.6f"},
+    {.key = "base_ln_volts", .unit = "V", .help = "the bus's line-to-neutral base voltage",
+     .type = KL_CELL_NUM, .get = bus_base, .in = KL_IN_CSV}, /* last in CSV, first in JSON */
+};
+
+const kl_table kl_table_flow_buses = {
+    .name = "buses", .help = "bus voltages, a line per bus and phase", .col = bus_cols,
+    .ncol = (int)(sizeof bus_cols / sizeof bus_cols[0]), .rows = bus_rows, .next_sub = bus_next,
+    .sub_key = "phases", .sub_name = phase_name,
+};
+
+/* ---- sections: a line per solved section and phase */
+
+/* Phases of a section: its own mask, or the sending bus's. */
+static int section_phases(const kl_flow_rows *w, int s)
+{
+    const kl_section *sc = &w->feeder->sections[s];
+    int up = sc->reversed ? sc->to : sc->from;
+    return sc->phases ? sc->phases : w->flow->phases[up];
+}
+
+static int sec_rows(const void *ctx)
+{
+    return ROWS(ctx)->feeder->nsections;
+}
+
+static int sec_next(const void *ctx, int s, int p)
+{
+    const kl_flow_rows *w = ROWS(ctx);
+    return w->flow->sec_solved[s] ? next_phase(section_phases(w, s), p) : -1;
+}
+
+static void sec_name(const void *ctx, int s, int p, kl_cell *c)
+{
+    (void)p;
+    c->str = ROWS(ctx)->feeder->sections[s].name;
+}
+
+static void sec_solved(const void *ctx, int s, int p, kl_cell *c)
+{
+    (void)p;
+    c->i = ROWS(ctx)->flow->sec_solved[s] != 0;
+}
+
+static void sec_amps(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = cabs(ROWS(ctx)->flow->i[3 * s + p]);
+}
+
+static void sec_angle(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = deg(ROWS(ctx)->flow->i[3 * s + p]);
+}
+
+static void sec_recv_amps(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = cabs(ROWS(ctx)->flow->i_recv[3 * s + p]);
+}
+
+static void sec_recv_angle(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = deg(ROWS(ctx)->flow->i_recv[3 * s + p]);
+}
+
+static void sec_p_in(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = creal(ROWS(ctx)->flow->s_in[3 * s + p]) / 1e3;
+}
+
+static void sec_q_in(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = cimag(ROWS(ctx)->flow->s_in[3 * s + p]) / 1e3;
+}
+
+static void sec_p_loss(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = creal(ROWS(ctx)->flow->s_loss[3 * s + p]) / 1e3;
+}
+
+static void sec_q_loss(const void *ctx, int s, int p, kl_cell *c)
+{
+    c->num = cimag(ROWS(ctx)->flow->s_loss[3 * s + p]) / 1e3;
+}
+
+static void sec_in_amps(const void *ctx, int s, int p, kl_cell *c)
+{
+    (void)p;
+    c->num = cabs(ROWS(ctx)->flow->i_neutral[s]);
+}
+
+static void sec_in_angle(const void *ctx, int s, int p, kl_cell *c)
+{
+    (void)p;
+    c->num = deg(ROWS(ctx)->flow->i_neutral[s]);
+}
+
+static void sec_ie_amps(const void *ctx, int s, int p, kl_cell *c)
+{
+    (void)p;
+    c->num = cabs(ROWS(ctx)->flow->i_earth[s]);
+}
+
+static void sec_ie_angle(const void *ctx, int s, int p, kl_cell *c)
+{
+    (void)p;
+    c->num = deg(ROWS(ctx)->flow->i_earth[s]);
+}
+
+/* Text: an open section is one line; a line section's neutral and earth
+ * return follow its phases. */
+static void sec_text_after(FILE *o, const void *ctx, int s)
+{
+    const kl_flow_rows *w = ROWS(ctx);
+    const kl_section *sc = &w->feeder->sections[s];
+    if (!w->flow->sec_solved[s])
+        fprintf(o, "%-16s (open)\n", sc->name);
+    else if (sc->kind == KL_SEC_LINE)
+        fprintf(o, "%-16s %-5s %10.2f %9.2f   (earth return %.2f A)\n", sc->name, "n",
+                cabs(w->flow->i_neutral[s]), deg(w->flow->i_neutral[s]),
+                cabs(w->flow->i_earth[s]));
+}
+
+#define SECTION_NUM(k, jk, u, h, g, in_, hd, tf, jf) \
+    {.key = k, .unit = u, .help = h, .type = KL_CELL_NUM, .get = g, .in = in_, .sub = 1, \
+     .json_key = jk, .text_head = hd, .text = tf, .json = jf}
+
+static const kl_column sec_cols[] = {
+    {.key = "section", .help = "section name", .type = KL_CELL_STR, .get = sec_name, .in = TCJ,
+     .json_key = "name", .text_head = "section", .text = "%-16s"},
+    {.key = "solved", .help = "false for an open section", .type = KL_CELL_BOOL,
+     .get = sec_solved, .in = KL_IN_JSON},
+    {.key = "phase", .help = "phase letter", .type = KL_CELL_CHAR, .get = phase_letter, .in = TC,
+     .sub = 1, .text_head = "phase", .text = " %-5c"},
+    SECTION_NUM("i_amps", "current.amps", "A", "phase current magnitude at the sending end",
+                sec_amps, TCJ, "amps", " %10.2f", NULL),
+    SECTION_NUM("i_angle_deg", "current.angle_deg", "deg", "phase current angle, sending end",
+                sec_angle, TCJ, "angle", " %9.2f", "%.6f"),
+    SECTION_NUM("i_recv_amps", "current_receiving.amps", "A",
+                "phase current magnitude at the receiving end", sec_recv_amps, KL_IN_JSON, "",
+                NULL, NULL),
+    SECTION_NUM("i_recv_angle_deg", "current_receiving.angle_deg", "deg",
+                "phase current angle, receiving end", sec_recv_angle, KL_IN_JSON, "", NULL,
+                "%.6f"),
+    SECTION_NUM("p_in_kw", NULL, "kW", "real power into the section", sec_p_in, TCJ, "in kW",
+                " %11.2f", NULL),
+    SECTION_NUM("q_in_kvar", NULL, "kvar", "reactive power into the section", sec_q_in, TCJ,
+                "in kvar", " %11.2f", NULL),
+    SECTION_NUM("p_loss_kw", NULL, "kW", "real power lost in the section", sec_p_loss, TCJ,
+                "loss kW", " %10.3f", NULL),
+    SECTION_NUM("q_loss_kvar", NULL, "kvar", "reactive power lost in the section", sec_q_loss,
+                CJ, "", NULL, NULL),
+    {.key = "i_neutral_amps", .unit = "A", .help = "neutral conductor current magnitude",
+     .type = KL_CELL_NUM, .get = sec_in_amps, .in = KL_IN_CSV},
+    {.key = "i_neutral_angle_deg", .unit = "deg", .help = "neutral conductor current angle",
+     .type = KL_CELL_NUM, .get = sec_in_angle, .in = KL_IN_CSV},
+    {.key = "i_earth_amps", .unit = "A", .help = "earth-return current magnitude",
+     .type = KL_CELL_NUM, .get = sec_ie_amps, .in = KL_IN_CSV},
+    {.key = "i_earth_angle_deg", .unit = "deg", .help = "earth-return current angle",
+     .type = KL_CELL_NUM, .get = sec_ie_angle, .in = KL_IN_CSV},
+    /* JSON: the neutral and the earth return once per section, as phasors */
+    {.key = "i_neutral_amps", .json_key = "neutral.amps", .type = KL_CELL_NUM,
+     .get = sec_in_amps, .in = KL_IN_JSON},
+    {.key = "i_neutral_angle_deg", .json_key = "neutral.angle_deg", .type = KL_CELL_NUM,
+     .get = sec_in_angle, .in = KL_IN_JSON, .json = "%.6f"},
+    {.key = "i_earth_amps", .json_key = "earth_return.amps", .type = KL_CELL_NUM,
+     .get = sec_ie_amps, .in = KL_IN_JSON},
+    {.key = "i_earth_angle_deg", .json_key = "earth_return.angle_deg", .type = KL_CELL_NUM,
+     .get = sec_ie_angle, .in = KL_IN_JSON, .json = "%.6f"},
+};
+
+const kl_table kl_table_flow_sections = {
+    .name = "sections", .help = "section currents and powers, a line per section and phase",
+    .col = sec_cols, .ncol = (int)(sizeof sec_cols / sizeof sec_cols[0]), .rows = sec_rows,
+    .next_sub = sec_next, .sub_key = "phases", .sub_name = phase_name,
+    .text_after = sec_text_after,
+};
