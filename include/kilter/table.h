@@ -51,7 +51,8 @@ typedef struct {
 typedef void (*kl_cell_get)(const void *ctx, int row, int sub, kl_cell *c);
 
 /* How the formats show a value that is not defined: text a dash right-aligned
- * in the field's width (the field's separator and suffix left out), CSV an
+ * in the field's width after its separator less one space (the study's tables
+ * have always printed it so, one column left of the figures), CSV an
  * empty field, JSON null, HTML a dash cell.  Strings are escaped for CSV
  * (quoted when needed), JSON and HTML. */
 typedef struct {
@@ -69,6 +70,7 @@ typedef struct {
     const char *text;      /* text printf format with its separator, width and suffix,
                               e.g. " %9.4f", "  %-14s", " %7.0f%%"; the header takes
                               the same separator and width */
+    const char *text_hfmt; /* text header format when it is not the line's (NULL: derived) */
     const char *csv;       /* CSV printf format of a number (NULL: %.6f) */
     const char *json;      /* JSON printf format of a number (NULL: %.8g) */
     const char *html_head; /* HTML header cell */
@@ -111,6 +113,14 @@ void kl_table_text_rows(FILE *o, const kl_table *t, const void *ctx);
 /* Header and rows. */
 void kl_table_text(FILE *o, const kl_table *t, const void *ctx);
 
+/* The value of the column `key` shown in format fmt at (row, sub), for prose
+ * that quotes a table's figure; 0, or -1 (v untouched) when there is no such
+ * column. */
+int kl_table_get(const kl_table *t, const void *ctx, const char *key, kl_table_format fmt,
+                 int row, int sub, kl_cell *v);
+/* Rows the format keeps. */
+int kl_table_count(const kl_table *t, const void *ctx, kl_table_format fmt);
+
 void kl_table_csv(FILE *o, const kl_table *t, const void *ctx); /* header and rows */
 /* The member `"json_key": [ rows ]`, indented as a member of the top object;
  * the caller writes what separates it from the next member. */
@@ -130,5 +140,19 @@ typedef struct {
 } kl_flow_rows;
 extern const kl_table kl_table_flow_buses;    /* a line per bus and phase */
 extern const kl_table kl_table_flow_sections; /* a line per section and phase */
+
+/* ---- the unbalance study's tables (table_study.c); docs/study.md */
+typedef struct {
+    const kl_feeder *feeder;
+    const kl_study *study;
+    const kl_study_phases *ph; /* the flow's phases the study read (bases) */
+    int only_bus;              /* CSV and JSON buses: this bus alone (--at); -1 all */
+} kl_study_rows;
+extern const kl_table kl_table_study_buses;        /* text: three-phase buses */
+extern const kl_table kl_table_study_small_buses;  /* text: single- and two-phase buses */
+extern const kl_table kl_table_study_sections;
+extern const kl_table kl_table_study_neutrals;
+extern const kl_table kl_table_study_runs;
+extern const kl_table kl_table_study_contributors;
 
 #endif

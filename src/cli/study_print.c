@@ -5,6 +5,7 @@
 #include <math.h>
 #include <stdio.h>
 #include "kilter/limits.h"
+#include "kilter/table.h"
 #include "cli.h"
 #include "study_print.h"
 #include "kilter/units.h"
@@ -17,50 +18,20 @@ static const char PH[3] = { 'a', 'b', 'c' };
 
 /* ---- small formatters */
 
-static void num(FILE *o, const char *fmt, double x, int width)
-{
-    if (isnan(x))
-        fprintf(o, "%*s", width, "-");
-    else
-        fprintf(o, fmt, width, x);
-}
-
-static void csv_num(FILE *o, double x)
-{
-    if (!isnan(x))
-        fprintf(o, "%.6f", x);
-}
-
-
 static double pct(double x) { return 100.0 * x; }
 
-static double seq_pu(const kl_study_print *p, int b, int q)
+/* The study's tables read this record (kilter/table.h). */
+static kl_study_rows rows_of(const kl_study_print *p)
 {
-    const kl_seq_point *v = &p->s->vbus[b];
-    if (!(v->defined & KL_SEQ_DEF_SEQUENCE) || !(p->ph->v_base_ln[b] > 0))
-        return NAN;
-    return cabs(v->x012[q]) / p->ph->v_base_ln[b];
+    return (kl_study_rows){p->f, p->s, p->ph, p->ci ? p->ci->bus : -1};
 }
 
-static const char *vuf_level_str(int flags)
+/* The bus table's text of a column (the figures are the tables'). */
+static const char *bus_text(const kl_study_print *p, const char *key, int b, kl_cell *v)
 {
-    if (flags < 0)
-        return "";
-    if (flags & KL_VUF_OVER_SUPPLY)
-        return "over supply limit";
-    if (flags & KL_VUF_OVER_COMPAT)
-        return "over compatibility level";
-    return "within";
-}
-
-static const char *derate_str(const kl_study *s, int b, char *buf, size_t n)
-{
-    if (s->derate_zone[b] < 0)
-        return "";
-    if (s->derate_zone[b] == KL_DERATE_NOT_RECOMMENDED)
-        return "not recommended";
-    snprintf(buf, n, "%.2f", s->derate_factor[b]);
-    return buf;
+    kl_study_rows rows = rows_of(p);
+    kl_table_get(&kl_table_study_buses, &rows, key, KL_TABLE_TEXT, b, -1, v);
+    return v->str ? v->str : "";
 }
 
 /* A service class counts as broken under the chosen range. */
@@ -228,34 +199,14 @@ static void print_broken(FILE *o, const kl_study_print *p)
 
 /* ---- contributors */
 
-static void contrib_name(const kl_study_print *p, int j, const char **kind, const char **name,
-                         int *phases)
-{
-    const kl_study *s = p->s;
-    if (s->ckind[j] == KL_CONTRIB_TAP) {
-        *kind = "tap";
-        *name = p->f->sections[s->cid[j]].name;
-        *phases = p->f->sections[s->cid[j]].phases;
-    } else {
-        *kind = "load";
-        *name = p->f->loads[s->cid[j]].name;
-        *phases = p->f->loads[s->cid[j]].phases;
-    }
-}
-
 static void print_contrib_bus(FILE *o, const kl_study_print *p, int c)
 {
     const kl_study *s = p->s;
+    kl_study_rows rows = rows_of(p);
     int b = s->cbus[c];
-    char buf[4];
     fprintf(o, "  at bus %s (VUF %.2f %%):\n", p->f->buses[b].name, pct(s->unb[b].vuf));
-    for (int j = s->cstart[c]; j < s->cstart[c + 1]; j++) {
-        const char *kind, *name;
-        int phases;
-        contrib_name(p, j, &kind, &name, &phases);
-        fprintf(o, "    %2d  %-4s  %-24s %-3s %7.1f %%\n", j - s->cstart[c] + 1, kind, name,
-                kl_phases_str(phases, buf), pct(s->cshare[j]));
-    }
+    for (int j = s->cstart[c]; j < s->cstart[c + 1]; j++)
+        kl_table_text_line(o, &kl_table_study_contributors, &rows, c, j);
     fprintf(o, "    all single- and two-phase loads %.1f %%, three-phase loads %.1f %%, "
                "remainder %.1f %% (regulator taps, capacitors, line charging, nonlinearity)\n",
             pct(s->c_unbal_total[c]), pct(s->c_three_phase[c]), pct(s->c_remainder[c]));
@@ -274,124 +225,31 @@ static void print_contributors(FILE *o, const kl_study_print *p)
                 s->ncbus - MAX_LIST);
 }
 
-/* ---- detail tables */
+/* ---- detail tables (kilter/table.h: the study's tables) */
 
 static void print_buses(FILE *o, const kl_study_print *p)
 {
-    const kl_study *s = p->s;
-    char buf[32];
+    kl_study_rows rows = rows_of(p);
     fprintf(o, "\nThree-phase buses (per unit of the line-to-neutral base; %% of V1)\n");
-    fprintf(o, "  %-14s %7s %7s %7s  %7s %7s %7s  %6s %6s %6s %6s  %-24s %s\n", "bus", "Va", "Vb",
-            "Vc", "V0", "V1", "V2", "VUF", "V0/V1", "LVUR", "PVUR", "unbalance", "motor derating");
-    for (int b = 0; b < s->nbuses; b++) {
-        if (!s->unb[b].defined)
-            continue;
-        fprintf(o, "  %-14s", p->f->buses[b].name);
-        for (int q = 0; q < 3; q++)
-            num(o, " %*.4f", s->v_pu[3 * b + q], 7);
-        fputc(' ', o);
-        for (int q = 0; q < 3; q++)
-            num(o, " %*.4f", seq_pu(p, b, q), 7);
-        fputc(' ', o);
-        num(o, " %*.2f", pct(s->unb[b].vuf), 6);
-        num(o, " %*.2f", pct(s->unb[b].v0_v1), 6);
-        num(o, " %*.2f", pct(s->unb[b].lvur), 6);
-        num(o, " %*.2f", pct(s->unb[b].pvur), 6);
-        fprintf(o, "  %-24s %s\n", vuf_level_str(s->vuf_flags[b]), derate_str(s, b, buf, sizeof buf));
-    }
-}
-
-static void print_small_buses(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
-    char buf[4];
-    int any = 0;
-    for (int b = 0; b < s->nbuses; b++) {
-        int m = s->vbus[b].phases;
-        if (m == 0 || m == KL_PH_ABC)
-            continue;
-        if (!any++)
-            fprintf(o, "\nSingle- and two-phase buses (per unit; no sequence components)\n"
-                       "  %-14s %-3s %7s %7s %7s\n", "bus", "ph", "Va", "Vb", "Vc");
-        fprintf(o, "  %-14s %-3s", p->f->buses[b].name, kl_phases_str(m, buf));
-        for (int q = 0; q < 3; q++)
-            num(o, " %*.4f", s->v_pu[3 * b + q], 7);
-        fputc('\n', o);
-    }
+    kl_table_text(o, &kl_table_study_buses, &rows);
+    if (kl_table_count(&kl_table_study_small_buses, &rows, KL_TABLE_TEXT) == 0)
+        return;
+    fprintf(o, "\nSingle- and two-phase buses (per unit; no sequence components)\n");
+    kl_table_text(o, &kl_table_study_small_buses, &rows);
 }
 
 static void print_sections(FILE *o, const kl_study_print *p)
 {
-    const kl_study *s = p->s;
-    char buf[4];
+    kl_study_rows rows = rows_of(p);
     fprintf(o, "\nSection currents, A (sending end; I2/I1 and I0/I1 in %%)\n");
-    fprintf(o, "  %-16s %-3s %8s %8s %8s  %8s %8s %8s  %6s %6s %8s\n", "section", "ph", "Ia", "Ib",
-            "Ic", "I0", "I1", "I2", "I2/I1", "I0/I1", "3I0");
-    for (int k = 0; k < s->nsections; k++) {
-        const kl_seq_point *x = &s->isec[k];
-        if (x->phases == 0)
-            continue;
-        fprintf(o, "  %-16s %-3s", p->f->sections[k].name, kl_phases_str(x->phases, buf));
-        for (int q = 0; q < 3; q++)
-            num(o, " %*.1f", (x->phases >> q & 1) ? cabs(x->x[q]) : NAN, 8);
-        fputc(' ', o);
-        for (int q = 0; q < 3; q++)
-            num(o, " %*.1f", (x->defined & KL_SEQ_DEF_SEQUENCE) ? cabs(x->x012[q]) : NAN, 8);
-        num(o, " %*.2f", pct(s->iunb[k].i2_i1), 6);
-        num(o, " %*.2f", pct(s->iunb[k].i0_i1), 6);
-        num(o, " %*.1f", cabs(x->sum), 8);
-        fputc('\n', o);
-    }
-}
-
-static double installed(const kl_study_print *p, int k)
-{
-    const kl_section *sec = &p->f->sections[k];
-    double a = sec->kind == KL_SEC_LINE ? p->f->constructions[sec->construction].neutral_ampacity_a : 0;
-    return a > 0 ? a : NAN;
-}
-
-static void print_neutrals(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
+    kl_table_text(o, &kl_table_study_sections, &rows);
     fprintf(o, "\nNeutral current, A (fundamental, triplen, combined RMS; earth return)\n");
-    fprintf(o, "  %-16s %8s %8s %8s %8s %9s %8s\n", "section", "In1", "In3", "In rms", "Iearth",
-            "ampacity", "loading");
-    for (int k = 0; k < s->nsections; k++) {
-        if (isnan(s->i_n_rms[k]))
-            continue;
-        fprintf(o, "  %-16s", p->f->sections[k].name);
-        num(o, " %*.1f", cabs(s->i_n1[k]), 8);
-        num(o, " %*.1f", s->i_n3[k], 8);
-        num(o, " %*.1f", s->i_n_rms[k], 8);
-        num(o, " %*.1f", cabs(s->i_e[k]), 8);
-        num(o, " %*.0f", installed(p, k), 9);
-        num(o, " %*.0f%%", pct(s->neutral_ratio[k]), 7);
-        fprintf(o, "%s\n", s->neutral_flag[k] == 1 ? "  OVER" : "");
-    }
-}
-
-static void print_runs(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
-    if (s->nruns == 0)
+    kl_table_text(o, &kl_table_study_neutrals, &rows);
+    if (p->s->nruns == 0)
         return;
     fprintf(o, "\nNeutral runs (sections of one construction; required = %.0f %% of the worst current)\n",
             100.0 * (1.0 + p->opt->sizing_margin));
-    fprintf(o, "  %-4s %-16s %-16s %4s %8s %9s %9s  %s\n", "run", "construction", "first section",
-            "secs", "worst A", "needed A", "fitted A", "smallest library conductor that carries it");
-    for (int r = 0; r < s->nruns; r++) {
-        int c = s->run_conductor[r];
-        fprintf(o, "  %-4d %-16s %-16s %4d", r + 1, p->f->constructions[s->run_construction[r]].name,
-                p->f->sections[s->run_first[r]].name, s->run_sections[r]);
-        num(o, " %*.1f", s->run_current[r], 8);
-        num(o, " %*.1f", s->run_required[r], 9);
-        num(o, " %*.0f", s->run_installed[r], 9);
-        fprintf(o, "  %s", c >= 0 ? p->f->conductors[c].name : "none in the library");
-        if (!isnan(s->run_installed[r]) && s->run_installed[r] < s->run_required[r])
-            fprintf(o, "  (fitted neutral too small)");
-        fputc('\n', o);
-    }
+    kl_table_text(o, &kl_table_study_runs, &rows);
 }
 
 void kl_study_print_table(FILE *o, const kl_study_print *p)
@@ -402,10 +260,7 @@ void kl_study_print_table(FILE *o, const kl_study_print *p)
     print_broken(o, p);
     print_contributors(o, p);
     print_buses(o, p);
-    print_small_buses(o, p);
     print_sections(o, p);
-    print_neutrals(o, p);
-    print_runs(o, p);
     fprintf(o, "\nCaution: %s.\n", KL_STUDY_CAUTION);
 }
 
@@ -441,7 +296,7 @@ static void at_indices(FILE *o, const kl_study_print *p, int b)
 {
     const kl_study *s = p->s;
     const kl_limits *l = &p->opt->limits;
-    char buf[32];
+    kl_cell v;
     if (!s->unb[b].defined)
         return;
     fprintf(o, "\nUnbalance\n  VUF %.2f %%  V0/V1 %.2f %%  LVUR %.2f %%  PVUR %.2f %%\n",
@@ -451,7 +306,7 @@ static void at_indices(FILE *o, const kl_study_print *p, int b)
     fprintf(o, "  against %.1f %% (EN 50160 / IEC 61000-2-2): %s\n", pct(l->vuf_compat),
             s->vuf_flags[b] & KL_VUF_OVER_COMPAT ? "OVER" : "within");
     if (s->derate_zone[b] >= 0)
-        fprintf(o, "  motor derating (NEMA MG 1): %s\n", derate_str(s, b, buf, sizeof buf));
+        fprintf(o, "  motor derating (NEMA MG 1): %s\n", bus_text(p, "motor_derating", b, &v));
 }
 
 static void at_measurement(FILE *o, const kl_study_print *p)
@@ -501,113 +356,15 @@ void kl_study_print_at(FILE *o, const kl_study_print *p)
 
 /* ---- CSV (contract in docs/study.md) */
 
-static void csv_buses(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
-    char buf[32];
-    fprintf(o, "bus,phases,va_pu,vb_pu,vc_pu,v0_pu,v1_pu,v2_pu,vuf_pct,v0_v1_pct,lvur_pct,pvur_pct,"
-               "service_a,service_b,service_c,unbalance,motor_derating\n");
-    for (int b = 0; b < s->nbuses; b++) {
-        if (s->vbus[b].phases == 0 || (p->ci && p->ci->bus != b))
-            continue;
-        kl_cli_csv_str(o, p->f->buses[b].name);
-        fprintf(o, ",%s", kl_phases_str(s->vbus[b].phases, buf));
-        for (int q = 0; q < 3; q++) { fputc(',', o); csv_num(o, s->v_pu[3 * b + q]); }
-        for (int q = 0; q < 3; q++) { fputc(',', o); csv_num(o, seq_pu(p, b, q)); }
-        fputc(',', o); csv_num(o, pct(s->unb[b].vuf));
-        fputc(',', o); csv_num(o, pct(s->unb[b].v0_v1));
-        fputc(',', o); csv_num(o, pct(s->unb[b].lvur));
-        fputc(',', o); csv_num(o, pct(s->unb[b].pvur));
-        for (int q = 0; q < 3; q++)
-            fprintf(o, ",%s", s->service[3 * b + q] >= 0 ? kl_service_class_str(s->service[3 * b + q]) : "");
-        fprintf(o, ",%s,%s\n", vuf_level_str(s->vuf_flags[b]), derate_str(s, b, buf, sizeof buf));
-    }
-}
-
-static void csv_sections(FILE *o, const kl_study_print *p, int neutrals)
-{
-    const kl_study *s = p->s;
-    char buf[4];
-    fprintf(o, neutrals ? "section,neutral_a,triplen_a,neutral_rms_a,earth_a,neutral_ampacity_a,"
-                          "neutral_loading_pct,run\n"
-                        : "section,phases,ia_a,ib_a,ic_a,i0_a,i1_a,i2_a,i2_i1_pct,i0_i1_pct,residual_a\n");
-    for (int k = 0; k < s->nsections; k++) {
-        const kl_seq_point *x = &s->isec[k];
-        if (x->phases == 0 || (neutrals && isnan(s->i_n_rms[k])))
-            continue;
-        kl_cli_csv_str(o, p->f->sections[k].name);
-        if (neutrals) {
-            double v[6] = { cabs(s->i_n1[k]), s->i_n3[k], s->i_n_rms[k], cabs(s->i_e[k]),
-                            installed(p, k), pct(s->neutral_ratio[k]) };
-            for (int q = 0; q < 6; q++) { fputc(',', o); csv_num(o, v[q]); }
-            fprintf(o, ",%d\n", s->run[k] + 1);
-            continue;
-        }
-        fprintf(o, ",%s", kl_phases_str(x->phases, buf));
-        for (int q = 0; q < 3; q++) { fputc(',', o); csv_num(o, (x->phases >> q & 1) ? cabs(x->x[q]) : NAN); }
-        for (int q = 0; q < 3; q++) {
-            fputc(',', o);
-            csv_num(o, (x->defined & KL_SEQ_DEF_SEQUENCE) ? cabs(x->x012[q]) : NAN);
-        }
-        fputc(',', o); csv_num(o, pct(s->iunb[k].i2_i1));
-        fputc(',', o); csv_num(o, pct(s->iunb[k].i0_i1));
-        fputc(',', o); csv_num(o, cabs(x->sum));
-        fputc('\n', o);
-    }
-}
-
-static void csv_runs(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
-    fprintf(o, "run,construction,first_section,sections,worst_section,current_a,required_a,"
-               "installed_a,suggested_conductor\n");
-    for (int r = 0; r < s->nruns; r++) {
-        fprintf(o, "%d,", r + 1);
-        kl_cli_csv_str(o, p->f->constructions[s->run_construction[r]].name);
-        fputc(',', o);
-        kl_cli_csv_str(o, p->f->sections[s->run_first[r]].name);
-        fprintf(o, ",%d,", s->run_sections[r]);
-        kl_cli_csv_str(o, p->f->sections[s->run_worst[r]].name);
-        fputc(',', o); csv_num(o, s->run_current[r]);
-        fputc(',', o); csv_num(o, s->run_required[r]);
-        fputc(',', o); csv_num(o, s->run_installed[r]);
-        fputc(',', o);
-        if (s->run_conductor[r] >= 0)
-            kl_cli_csv_str(o, p->f->conductors[s->run_conductor[r]].name);
-        fputc('\n', o);
-    }
-}
-
-static void csv_contrib(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
-    char buf[4];
-    fprintf(o, "bus,vuf_pct,rank,kind,name,phases,share_pct\n");
-    for (int c = 0; c < s->ncbus; c++)
-        for (int j = s->cstart[c]; j < s->cstart[c + 1]; j++) {
-            const char *kind, *name;
-            int phases;
-            contrib_name(p, j, &kind, &name, &phases);
-            kl_cli_csv_str(o, p->f->buses[s->cbus[c]].name);
-            fputc(',', o);
-            csv_num(o, pct(s->unb[s->cbus[c]].vuf));
-            fprintf(o, ",%d,%s,", j - s->cstart[c] + 1, kind);
-            kl_cli_csv_str(o, name);
-            fprintf(o, ",%s,", kl_phases_str(phases, buf));
-            csv_num(o, pct(s->cshare[j]));
-            fputc('\n', o);
-        }
-}
-
 void kl_study_print_csv(FILE *o, const kl_study_print *p, kl_study_table t)
 {
-    switch (t) {
-    case KL_TAB_SECTIONS: csv_sections(o, p, 0); break;
-    case KL_TAB_NEUTRALS: csv_sections(o, p, 1); break;
-    case KL_TAB_RUNS: csv_runs(o, p); break;
-    case KL_TAB_CONTRIB: csv_contrib(o, p); break;
-    case KL_TAB_BUSES: default: csv_buses(o, p); break;
-    }
+    static const kl_table *const table[] = {
+        [KL_TAB_BUSES] = &kl_table_study_buses, [KL_TAB_SECTIONS] = &kl_table_study_sections,
+        [KL_TAB_NEUTRALS] = &kl_table_study_neutrals, [KL_TAB_RUNS] = &kl_table_study_runs,
+        [KL_TAB_CONTRIB] = &kl_table_study_contributors,
+    };
+    kl_study_rows rows = rows_of(p);
+    kl_table_csv(o, table[(unsigned)t <= KL_TAB_CONTRIB ? t : KL_TAB_BUSES], &rows);
 }
 
 /* ---- JSON (contract in docs/study.md) */
@@ -629,110 +386,6 @@ static void json_name_or_null(FILE *o, const char *key, const char *name, int co
         fputs("null", o);
     if (comma)
         fputs(", ", o);
-}
-
-static void json_bus(FILE *o, const kl_study_print *p, int b)
-{
-    const kl_study *s = p->s;
-    char buf[32];
-    fputs("    {", o);
-    json_name_or_null(o, "bus", p->f->buses[b].name, 1);
-    fprintf(o, "\"phases\": \"%s\", ", kl_phases_str(s->vbus[b].phases, buf));
-    json_key_num(o, "va_pu", s->v_pu[3 * b], 1);
-    json_key_num(o, "vb_pu", s->v_pu[3 * b + 1], 1);
-    json_key_num(o, "vc_pu", s->v_pu[3 * b + 2], 1);
-    json_key_num(o, "v0_pu", seq_pu(p, b, 0), 1);
-    json_key_num(o, "v1_pu", seq_pu(p, b, 1), 1);
-    json_key_num(o, "v2_pu", seq_pu(p, b, 2), 1);
-    json_key_num(o, "vuf_pct", pct(s->unb[b].vuf), 1);
-    json_key_num(o, "v0_v1_pct", pct(s->unb[b].v0_v1), 1);
-    json_key_num(o, "lvur_pct", pct(s->unb[b].lvur), 1);
-    json_key_num(o, "pvur_pct", pct(s->unb[b].pvur), 1);
-    fputs("\"service\": [", o);
-    for (int q = 0; q < 3; q++) {
-        int c = s->service[3 * b + q];
-        if (c >= 0)
-            fprintf(o, "\"%s\"", kl_service_class_str(c));
-        else
-            fputs("null", o);
-        fputs(q < 2 ? ", " : "], ", o);
-    }
-    fprintf(o, "\"unbalance\": \"%s\", ", vuf_level_str(s->vuf_flags[b]));
-    json_key_num(o, "motor_derating", s->derate_factor[b], 0);
-    fputs("}", o);
-}
-
-static void json_section(FILE *o, const kl_study_print *p, int k)
-{
-    const kl_study *s = p->s;
-    const kl_seq_point *x = &s->isec[k];
-    char buf[4];
-    int seq = (x->defined & KL_SEQ_DEF_SEQUENCE) != 0;
-    fputs("    {", o);
-    json_name_or_null(o, "section", p->f->sections[k].name, 1);
-    fprintf(o, "\"phases\": \"%s\", ", kl_phases_str(x->phases, buf));
-    json_key_num(o, "ia_a", (x->phases & 1) ? cabs(x->x[0]) : NAN, 1);
-    json_key_num(o, "ib_a", (x->phases & 2) ? cabs(x->x[1]) : NAN, 1);
-    json_key_num(o, "ic_a", (x->phases & 4) ? cabs(x->x[2]) : NAN, 1);
-    json_key_num(o, "i0_a", seq ? cabs(x->x012[0]) : NAN, 1);
-    json_key_num(o, "i1_a", seq ? cabs(x->x012[1]) : NAN, 1);
-    json_key_num(o, "i2_a", seq ? cabs(x->x012[2]) : NAN, 1);
-    json_key_num(o, "i2_i1_pct", pct(s->iunb[k].i2_i1), 1);
-    json_key_num(o, "i0_i1_pct", pct(s->iunb[k].i0_i1), 1);
-    json_key_num(o, "residual_a", cabs(x->sum), 1);
-    json_key_num(o, "neutral_a", cabs(s->i_n1[k]), 1);
-    json_key_num(o, "triplen_a", isnan(s->i_n_rms[k]) ? NAN : s->i_n3[k], 1);
-    json_key_num(o, "neutral_rms_a", s->i_n_rms[k], 1);
-    json_key_num(o, "earth_a", cabs(s->i_e[k]), 1);
-    json_key_num(o, "neutral_loading_pct", pct(s->neutral_ratio[k]), 0);
-    fputs("}", o);
-}
-
-static void json_runs(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
-    fputs("  \"neutral_runs\": [", o);
-    for (int r = 0; r < s->nruns; r++) {
-        fputs(r ? ",\n    {" : "\n    {", o);
-        json_name_or_null(o, "construction", p->f->constructions[s->run_construction[r]].name, 1);
-        json_name_or_null(o, "first_section", p->f->sections[s->run_first[r]].name, 1);
-        fprintf(o, "\"sections\": %d, ", s->run_sections[r]);
-        json_key_num(o, "current_a", s->run_current[r], 1);
-        json_key_num(o, "required_a", s->run_required[r], 1);
-        json_key_num(o, "installed_a", s->run_installed[r], 1);
-        json_name_or_null(o, "suggested_conductor",
-                          s->run_conductor[r] >= 0 ? p->f->conductors[s->run_conductor[r]].name : NULL, 0);
-        fputs("}", o);
-    }
-    fputs(s->nruns ? "\n  ],\n" : "],\n", o);
-}
-
-static void json_contrib(FILE *o, const kl_study_print *p)
-{
-    const kl_study *s = p->s;
-    char buf[4];
-    fputs("  \"contributors\": [", o);
-    for (int c = 0; c < s->ncbus; c++) {
-        fputs(c ? ",\n    {" : "\n    {", o);
-        json_name_or_null(o, "bus", p->f->buses[s->cbus[c]].name, 1);
-        json_key_num(o, "vuf_pct", pct(s->unb[s->cbus[c]].vuf), 1);
-        json_key_num(o, "single_two_phase_pct", pct(s->c_unbal_total[c]), 1);
-        json_key_num(o, "three_phase_pct", pct(s->c_three_phase[c]), 1);
-        json_key_num(o, "remainder_pct", pct(s->c_remainder[c]), 1);
-        fputs("\"ranked\": [", o);
-        for (int j = s->cstart[c]; j < s->cstart[c + 1]; j++) {
-            const char *kind, *name;
-            int phases;
-            contrib_name(p, j, &kind, &name, &phases);
-            fprintf(o, "%s{\"kind\": \"%s\", ", j > s->cstart[c] ? ", " : "", kind);
-            json_name_or_null(o, "name", name, 1);
-            fprintf(o, "\"phases\": \"%s\", ", kl_phases_str(phases, buf));
-            json_key_num(o, "share_pct", pct(s->cshare[j]), 0);
-            fputs("}", o);
-        }
-        fputs("]}", o);
-    }
-    fputs(s->ncbus ? "\n  ],\n" : "],\n", o);
 }
 
 static void json_summary(FILE *o, const kl_study_print *p)
@@ -792,32 +445,19 @@ static void json_complaint(FILE *o, const kl_study_print *p)
 
 void kl_study_print_json(FILE *o, const kl_study_print *p)
 {
-    const kl_study *s = p->s;
-    int first = 1;
+    kl_study_rows rows = rows_of(p);
     fputs("{\n  ", o);
     json_name_or_null(o, "feeder", p->f->name, 0);
     fprintf(o, ",\n  \"flow\": {\"converged\": true, \"iterations\": %d},\n", p->iterations);
     json_summary(o, p);
     json_complaint(o, p);
-    fputs("  \"buses\": [", o);
-    for (int b = 0; b < s->nbuses; b++) {
-        if (s->vbus[b].phases == 0 || (p->ci && p->ci->bus != b))
-            continue;
-        fputs(first ? "\n" : ",\n", o);
-        json_bus(o, p, b);
-        first = 0;
-    }
-    fputs("\n  ],\n  \"sections\": [", o);
-    first = 1;
-    for (int k = 0; k < s->nsections; k++) {
-        if (s->isec[k].phases == 0)
-            continue;
-        fputs(first ? "\n" : ",\n", o);
-        json_section(o, p, k);
-        first = 0;
-    }
-    fputs("\n  ],\n", o);
-    json_runs(o, p);
-    json_contrib(o, p);
+    kl_table_json(o, &kl_table_study_buses, &rows);
+    fputs(",\n", o);
+    kl_table_json(o, &kl_table_study_sections, &rows);
+    fputs(",\n", o);
+    kl_table_json(o, &kl_table_study_runs, &rows);
+    fputs(",\n", o);
+    kl_table_json(o, &kl_table_study_contributors, &rows);
+    fputs(",\n", o);
     fprintf(o, "  \"caution\": \"%s\"\n}\n", KL_STUDY_CAUTION);
 }

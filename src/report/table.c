@@ -78,6 +78,25 @@ static void cell_of(const kl_column *c, const void *ctx, int row, int sub, kl_ce
     c->get(ctx, row, sub, v);
 }
 
+int kl_table_get(const kl_table *t, const void *ctx, const char *key, kl_table_format fmt,
+                 int row, int sub, kl_cell *v)
+{
+    for (int k = 0; k < t->ncol; k++)
+        if (shows(&t->col[k], fmt) && strcmp(t->col[k].key, key) == 0) {
+            cell_of(&t->col[k], ctx, row, sub, v);
+            return 0;
+        }
+    return -1;
+}
+
+int kl_table_count(const kl_table *t, const void *ctx, kl_table_format fmt)
+{
+    int n = t->rows(ctx), k = 0;
+    for (int r = 0; r < n; r++)
+        k += kept(t, ctx, r, fmt) != 0;
+    return k;
+}
+
 /* ---- text */
 
 /* A text format taken apart: prefix, then %[-]width[.prec]conv, then suffix. */
@@ -116,6 +135,10 @@ void kl_table_text_head(FILE *o, const kl_table *t)
         text_spec s;
         if (!shows(c, KL_TABLE_TEXT) || !c->text_head || !c->text_head[0])
             continue;
+        if (c->text_hfmt) {
+            fprintf(o, c->text_hfmt, c->text_head);
+            continue;
+        }
         text_parse(c->text, &s);
         fwrite(c->text, 1, (size_t)s.prefix, o);
         fprintf(o, s.left ? "%-*s" : "%*s", s.width + s.suffix_len, c->text_head);
@@ -128,9 +151,12 @@ static void text_cell(FILE *o, const kl_column *c, const kl_cell *v)
     switch (c->type) {
     case KL_CELL_NUM:
         if (isnan(v->num)) {
-            /* a dash in the field's width, as the study's tables always had it */
+            /* a dash in the field's width, its separator one space short: as
+             * the study's tables have always printed it */
             text_spec s;
             text_parse(c->text, &s);
+            if (s.prefix > 1)
+                fwrite(c->text, 1, (size_t)s.prefix - 1, o);
             fprintf(o, "%*s", s.width, "-");
         } else {
             fprintf(o, c->text, v->num);
