@@ -75,7 +75,9 @@ typedef struct {
     const char *json;      /* JSON printf format of a number (NULL: %.8g) */
     const char *html_head; /* HTML header cell */
     const char *html;      /* HTML printf format of a number shown (the cell's data-v
-                              attribute holds it as the CSV prints it, %.6f) */
+                              attribute holds it as the CSV prints it, %.6f); for a
+                              string, "%s" says the getter writes markup of ours, not
+                              data (printed unescaped) */
 } kl_column;
 
 #define KL_TABLE_JSON_EMPTY_INLINE 1u /* an empty JSON array prints as [] (else [ newline ]) */
@@ -93,6 +95,7 @@ typedef struct {
      * none.  Text and CSV print a line per sub-row (the row's own columns
      * repeated), JSON an object (sub_name given) or an array under sub_key. */
     int (*next_sub)(const void *ctx, int row, int sub);
+    unsigned sub_in;       /* formats with sub-rows (KL_IN_*; 0: every format) */
     const char *sub_key;
     const char *(*sub_name)(const void *ctx, int row, int sub, char buf[8]);
     /* Text: bespoke lines written after a row's lines (a note, an open section). */
@@ -101,6 +104,8 @@ typedef struct {
      * out (NULL: file order, as `keep` says). */
     double (*rank)(const void *ctx, int row);
     unsigned flags;        /* KL_TABLE_* */
+    int json_indent;       /* JSON: spaces before the member, twice that before a row
+                              (0: 2) */
 } kl_table;
 
 /* ---- writers (table.c) */
@@ -128,6 +133,26 @@ void kl_table_json(FILE *o, const kl_table *t, const void *ctx);
 /* The members of one row's JSON object, without the braces. */
 void kl_table_json_members(FILE *o, const kl_table *t, const void *ctx, int row);
 
+/* HTML: the rows shown, ranked by t->rank (or in file order) and cut to at most
+ * max_rows; one array owned by the record (kl_table_shown_free). */
+typedef struct {
+    double key;
+    int row;
+} kl_table_rank;
+typedef struct {
+    kl_table_rank *r; /* [total] the rows that qualify, in the order shown */
+    int shown;        /* rows shown: the first min(total, max_rows) */
+    int total;
+} kl_table_shown;
+kl_status kl_table_html_select(const kl_table *t, const void *ctx, int max_rows,
+                               kl_table_shown *out, kl_errors *err);
+void kl_table_shown_free(kl_table_shown *s);
+/* <table class="cls"> with its header and the rows of s, closed. */
+void kl_table_html(FILE *o, const kl_table *t, const void *ctx, const char *cls,
+                   const kl_table_shown *s);
+void kl_table_html_head(FILE *o, const kl_table *t);
+void kl_table_html_row(FILE *o, const kl_table *t, const void *ctx, int row);
+
 /* Escapes shared with the program's bespoke parts. */
 void kl_table_json_str(FILE *o, const char *s); /* quoted and escaped; NULL -> null */
 void kl_table_json_num(FILE *o, double x);      /* %.8g; non-finite -> null */
@@ -147,6 +172,7 @@ typedef struct {
     const kl_study *study;
     const kl_study_phases *ph; /* the flow's phases the study read (bases) */
     int only_bus;              /* CSV and JSON buses: this bus alone (--at); -1 all */
+    /* ph may be NULL for the HTML columns, which read the study alone */
 } kl_study_rows;
 extern const kl_table kl_table_study_buses;        /* text: three-phase buses */
 extern const kl_table kl_table_study_small_buses;  /* text: single- and two-phase buses */
@@ -154,5 +180,18 @@ extern const kl_table kl_table_study_sections;
 extern const kl_table kl_table_study_neutrals;
 extern const kl_table kl_table_study_runs;
 extern const kl_table kl_table_study_contributors;
+extern const kl_table kl_table_study_motors;       /* HTML: motor buses */
+
+/* ---- the rebalancing plan's tables (table_plan.c); docs/rebalance.md */
+typedef struct {
+    const kl_feeder *feeder;
+    const kl_rephaser *rp;
+    const kl_rebalance_plan *plan;
+    int level;      /* steps: the rows of this load level; -1 every level, one after another */
+    const kl_rebalance_summary *levels; /* levels: plan->before or plan->after */
+} kl_plan_rows;
+extern const kl_table kl_table_plan_steps;  /* text and HTML: set level; CSV and JSON: -1 */
+extern const kl_table kl_table_plan_levels; /* JSON members of one level's summary */
+extern const kl_table kl_table_plan_items;  /* text: the movable items */
 
 #endif

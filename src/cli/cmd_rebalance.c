@@ -14,6 +14,7 @@
 #include "kilter/rebalance.h"
 #include "kilter/report.h"
 #include "kilter/study.h"
+#include "kilter/table.h"
 #include "cli.h"
 #include "cli_progress.h"
 
@@ -281,47 +282,23 @@ typedef struct {
     const kl_rebalance_plan *p;
 } view;
 
-static const char *kind_name(const kl_rephase_item *it)
-{
-    if (it->kind == KL_ITEM_LOAD)
-        return "load";
-    return (it->phases & (it->phases - 1)) ? "tap-2ph" : "lateral";
-}
-
 static const char *bus_name(const kl_feeder *f, int b)
 {
     return b >= 0 && b < f->nbuses ? f->buses[b].name : "-";
 }
 
-static void table_row(FILE *o, int step, const char *item, const char *kind, double kva,
-                      const char *from, const char *to, const kl_rebalance_summary *s,
-                      double score)
+/* The plan's tables (kilter/table.h) at one load level, or every level (-1). */
+static kl_plan_rows rows_of(const view *w, int level)
 {
-    char kv[16] = "";
-    if (kva >= 0)
-        snprintf(kv, sizeof kv, "%.1f", kva);
-    fprintf(o, "%4d  %-24s %-8s %8s  %-4s %-4s %9.2f %8.3f %10.2f %9.2f %8.4f %8.4f\n", step,
-            item, kind, kv, from, to, s->i_residual_at, 100 * s->vuf_max, s->losses_w / 1e3,
-            s->obj[KL_OBJ_CURRENT], s->v_min_pu, score);
+    return (kl_plan_rows){w->f, w->rp, w->p, level, NULL};
 }
 
 static void table_plan(FILE *o, const view *w, int l)
 {
-    char b1[4], b2[4];
+    kl_plan_rows rows = rows_of(w, l);
     fprintf(o, "\nplan at load level %g x (weight %g); stop after any step:\n",
             w->p->level[l].scale, w->p->level[l].weight);
-    fprintf(o, "%4s  %-24s %-8s %8s  %-4s %-4s %9s %8s %10s %9s %8s %8s\n", "step", "item",
-            "kind", "kVA", "from", "to", "neutral A", "VUF %", "losses kW", "max I A",
-            "low pu", "score");
-    table_row(o, 0, "(as given)", "", -1, "", "", &w->p->before[l], w->p->score_before);
-    for (int s = 0; s < w->p->nsteps; s++) {
-        const kl_plan_step *st = &w->p->steps[s];
-        const kl_rephase_item *it = &w->rp->items[st->item];
-        table_row(o, s + 1, it->name, kind_name(it), it->kva, kl_phases_str(st->from_phases, b1),
-                  kl_phases_str(st->to_phases, b2), &st->after[l], st->score);
-        if (!st->voltage_ok)
-            fprintf(o, "      (service voltage outside the range after this step)\n");
-    }
+    kl_table_text(o, &kl_table_plan_steps, &rows);
 }
 
 static void table_summary(FILE *o, const view *w, int l)
@@ -368,58 +345,22 @@ static void print_table(FILE *o, const view *w)
         fprintf(o, "\nno move improves the objective within the limits.\n");
 }
 
-static void csv_summary(FILE *o, const kl_rebalance_summary *s)
-{
-    fprintf(o, ",%.6f,%.6f,%.6f,%.6f,%.6f,%.8f,%.6f,%.8f,%.8f", s->i_head[0], s->i_head[1],
-            s->i_head[2], s->i_residual, s->i_residual_at, s->vuf_max, s->losses_w / 1e3,
-            s->v_min_pu, s->v_max_pu);
-}
-
 static void print_csv(FILE *o, const view *w)
 {
-    char b1[4], b2[4];
-    fprintf(o, "step,level_scale,item,kind,from,to,i_head_a,i_head_b,i_head_c,i_residual,"
-               "i_residual_at,vuf,losses_kw,v_min_pu,v_max_pu,score\n");
-    for (int l = 0; l < w->p->nlevels; l++) {
-        fprintf(o, "0,%g,,,,", w->p->level[l].scale);
-        csv_summary(o, &w->p->before[l]);
-        fprintf(o, ",%.8f\n", w->p->score_before);
-        for (int s = 0; s < w->p->nsteps; s++) {
-            const kl_plan_step *st = &w->p->steps[s];
-            const kl_rephase_item *it = &w->rp->items[st->item];
-            fprintf(o, "%d,%g,", s + 1, w->p->level[l].scale);
-            kl_cli_csv_str(o, it->name);
-            fprintf(o, ",%s,%s,%s", kind_name(it), kl_phases_str(st->from_phases, b1),
-                    kl_phases_str(st->to_phases, b2));
-            csv_summary(o, &st->after[l]);
-            fprintf(o, ",%.8f\n", st->score);
-        }
-    }
+    kl_plan_rows rows = rows_of(w, -1);
+    kl_table_csv(o, &kl_table_plan_steps, &rows);
 }
 
-static void json_summary(FILE *o, const kl_rebalance_summary *s)
+/* [{summary}, ...]: one per load level. */
+static void json_levels(FILE *o, const view *w, const kl_rebalance_summary *s)
 {
-    const char *key[] = {"i_residual", "i_residual_at", "vuf", "losses_kw", "v_min_pu", "v_max_pu"};
-    double val[] = {s->i_residual, s->i_residual_at, s->vuf_max, s->losses_w / 1e3, s->v_min_pu,
-                    s->v_max_pu};
-    fputs("{\"i_head\": [", o);
-    for (int p = 0; p < 3; p++) {
-        kl_cli_json_num(o, s->i_head[p]);
-        fputs(p < 2 ? ", " : "]", o);
-    }
-    for (size_t k = 0; k < sizeof val / sizeof val[0]; k++) {
-        fprintf(o, ", \"%s\": ", key[k]);
-        kl_cli_json_num(o, val[k]);
-    }
-    fputc('}', o);
-}
-
-static void json_levels(FILE *o, const kl_rebalance_plan *p, const kl_rebalance_summary *s)
-{
+    kl_plan_rows rows = rows_of(w, -1);
+    rows.levels = s;
     fputc('[', o);
-    for (int l = 0; l < p->nlevels; l++) {
-        fprintf(o, "%s", l ? ", " : "");
-        json_summary(o, &s[l]);
+    for (int l = 0; l < w->p->nlevels; l++) {
+        fputs(l ? ", {" : "{", o);
+        kl_table_json_members(o, &kl_table_plan_levels, &rows, l);
+        fputc('}', o);
     }
     fputc(']', o);
 }
@@ -427,7 +368,6 @@ static void json_levels(FILE *o, const kl_rebalance_plan *p, const kl_rebalance_
 static void print_json(FILE *o, const view *w)
 {
     const kl_rebalance_plan *p = w->p;
-    char b1[4], b2[4];
     fputs("{\"feeder\": ", o);
     kl_cli_json_str(o, w->f->name);
     fprintf(o, ", \"method\": \"%s\", \"movable_items\": %d, \"load_flows\": %ld, "
@@ -445,45 +385,22 @@ static void print_json(FILE *o, const view *w)
     kl_cli_json_str(o, CAUTION);
     fprintf(o, ",\n \"score_before\": %.8f, \"score_after\": %.8f,\n \"before\": ",
             p->score_before, p->score_after);
-    json_levels(o, p, p->before);
+    json_levels(o, w, p->before);
     fputs(",\n \"after\": ", o);
-    json_levels(o, p, p->after);
-    fputs(",\n \"steps\": [", o);
-    for (int s = 0; s < p->nsteps; s++) {
-        const kl_plan_step *st = &p->steps[s];
-        const kl_rephase_item *it = &w->rp->items[st->item];
-        fprintf(o, "%s\n  {\"step\": %d, \"item\": ", s ? "," : "", s + 1);
-        kl_cli_json_str(o, it->name);
-        fprintf(o, ", \"kind\": \"%s\", \"kva\": %.3f, \"from\": \"%s\", \"to\": \"%s\", "
-                "\"cost\": %g, \"score\": %.8f, \"voltage_ok\": %s, \"after\": ", kind_name(it),
-                it->kva, kl_phases_str(st->from_phases, b1), kl_phases_str(st->to_phases, b2),
-                st->cost, st->score, st->voltage_ok ? "true" : "false");
-        json_levels(o, p, st->after);
-        fputc('}', o);
-    }
-    fputs("\n ]\n}\n", o);
+    json_levels(o, w, p->after);
+    fputs(",\n", o);
+    kl_plan_rows rows = rows_of(w, -1);
+    kl_table_json(o, &kl_table_plan_steps, &rows);
+    fputs("\n}\n", o);
 }
 
 static void print_items(FILE *o, const view *w)
 {
-    char b1[4], b2[4];
-    fprintf(o, "%-24s %-8s %-6s %-8s %8s %6s %s\n", "item", "kind", "phases", "may go", "kVA",
-            "cost", "notes");
-    for (int i = 0; i < w->rp->nitems; i++) {
-        const kl_rephase_item *it = &w->rp->items[i];
-        int to = 0;
-        for (int r = 1; r < 3; r++)
-            if (it->allowed & (1 << r))
-                to |= kl_phases_rotate(it->phases, r);
-        fprintf(o, "%-24s %-8s %-6s %-8s %8.1f %6g %s%s%s\n", it->name, kind_name(it),
-                kl_phases_str(it->phases, b1), kl_phases_str(to, b2), it->kva, it->cost,
-                it->pinned ? "pinned " : "", it->outer >= 0 ? "inside " : "",
-                it->outer >= 0 ? w->rp->items[it->outer].name : "");
-    }
+    kl_plan_rows rows = rows_of(w, -1);
+    kl_table_text(o, &kl_table_plan_items, &rows);
     for (int k = 0; k < w->rp->nskipped; k++)
         fprintf(o, "not movable: %s\n", w->rp->skipped[k]);
 }
-
 static int emit(const kl_cli_args *a, const view *w, int items)
 {
     kl_cli_out out;

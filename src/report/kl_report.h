@@ -79,7 +79,8 @@ const char *kl_report_map_index_name(kl_map_index ix);
  * three-phase part and say so (a browser slows badly past ~10^5 elements). */
 #define KL_PLOT_MAX_SECTIONS 20000
 
-/* report_tables.c: table cells and the tables built from the phase arrays. */
+/* table_html.c: the cells of every report table; report_tables.c: the
+ * tables built from the phase arrays. */
 typedef struct {
     double key;
     int id;
@@ -93,9 +94,9 @@ kl_status kl_report_table_neutral(FILE *out, const kl_report_input *in, kl_error
 
 /* report_study.c: the study's tables (in->study must be set). */
 kl_status kl_report_study_neutral(FILE *out, const kl_report_input *in, kl_errors *err);
-void kl_report_study_runs(FILE *out, const kl_report_input *in);
+kl_status kl_report_study_runs(FILE *out, const kl_report_input *in, kl_errors *err);
 void kl_report_study_contrib(FILE *out, const kl_report_input *in);
-void kl_report_study_motors(FILE *out, const kl_report_input *in);
+kl_status kl_report_study_motors(FILE *out, const kl_report_input *in, kl_errors *err);
 
 /* plot_moves.c: the body of "Suggested phase moves" (in->plan set). */
 kl_status kl_report_moves(FILE *out, const kl_report_input *in, kl_errors *err);

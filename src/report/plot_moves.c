@@ -6,6 +6,7 @@
 #include <math.h>
 #include "kl_report.h"
 #include "kilter/rebalance.h"
+#include "kilter/table.h"
 
 #define W 900.0
 #define H 300.0
@@ -82,24 +83,6 @@ kl_status kl_plot_moves_write(FILE *out, const kl_report_input *in, kl_errors *e
     return KL_OK;
 }
 
-static void move_row(FILE *out, const kl_report_input *in, int k)
-{
-    const kl_plan_step *st = &in->plan->steps[k];
-    const kl_rephase_item *it = in->rephaser && st->item >= 0 && st->item < in->rephaser->nitems
-        ? &in->rephaser->items[st->item] : NULL;
-    char a[4], b[4];
-    fprintf(out, "<tr><td>%d</td>", k + 1);
-    kl_html_td_name(out, it && it->name ? it->name : "?");
-    fprintf(out, "<td class=\"n\">%s</td><td class=\"n\">%s &rarr; %s</td>",
-            !it ? "?" : it->kind == KL_ITEM_LATERAL ? "lateral" : "load",
-            kl_phases_str(st->from_phases, a), kl_phases_str(st->to_phases, b));
-    kl_html_td_num(out, KL_NUM_AMP, st->after[0].i_residual);
-    kl_html_td_num(out, KL_NUM_PCT, 100 * st->after[0].vuf_max);
-    kl_html_td_num(out, KL_NUM_PU, st->after[0].v_min_pu);
-    fprintf(out, "<td class=\"n %s\">%s</td></tr>\n", st->voltage_ok ? "ok" : "bad",
-            st->voltage_ok ? "yes" : "no");
-}
-
 /* The body of "Suggested phase moves" when a plan was computed. */
 kl_status kl_report_moves(FILE *out, const kl_report_input *in, kl_errors *err)
 {
@@ -117,12 +100,13 @@ kl_status kl_report_moves(FILE *out, const kl_report_input *in, kl_errors *err)
             a->i_residual, 100 * b->vuf_max, 100 * a->vuf_max, b->v_min_pu, a->v_min_pu);
     if (p->nsteps == 0)
         return KL_OK;
-    fputs("<table class=\"moves\">\n<tr><th>move</th><th>what</th><th>kind</th><th>phases</th>"
-          "<th>residual after A</th><th>worst VUF after %</th><th>lowest V after pu</th>"
-          "<th>voltages in range</th></tr>\n", out);
-    for (int k = 0; k < p->nsteps; k++)
-        move_row(out, in, k);
-    fputs("</table>\n<p class=\"caution\">Moving a lateral or a load to another phase is field "
+    kl_plan_rows rows = {in->feeder, in->rephaser, p, 0, NULL}; /* the first load level */
+    kl_table_shown s;
+    if ((st = kl_table_html_select(&kl_table_plan_steps, &rows, p->nsteps, &s, err)) != KL_OK)
+        return st;
+    kl_table_html(out, &kl_table_plan_steps, &rows, "moves", &s);
+    kl_table_shown_free(&s);
+    fputs("<p class=\"caution\">Moving a lateral or a load to another phase is field "
           "work on energized equipment: it follows the utility's switching and safety rules, "
           "local codes and a licensed engineer's review. These are planning estimates.</p>\n",
           out);

@@ -291,15 +291,15 @@ static kl_status section_tables(FILE *out, const kl_report_input *in, kl_errors 
     kl_status st = kl_report_table_unbalance(out, in, err);
     if (st != KL_OK)
         return st;
-    if (in->study)
-        kl_report_study_motors(out, in);
+    if (in->study && (st = kl_report_study_motors(out, in, err)) != KL_OK)
+        return st;
     fputs("</section>\n", out);
     if (!in->study)
         return kl_report_table_neutral(out, in, err);
     kl_report_study_contrib(out, in);
     st = kl_report_study_neutral(out, in, err);
     if (st == KL_OK)
-        kl_report_study_runs(out, in);
+        st = kl_report_study_runs(out, in, err);
     return st;
 }
 

@@ -1,157 +1,246 @@
-/* kilter: the report's tables (unbalance by bus, neutral current by
- * section) and the cell helpers every table uses.
- *
- * Figures use the KL_NUM_* formats of report.h, the same the CSV outputs
- * use; a value that is not defined prints as a dash, never as 0 or "nan".
- * Long tables keep the worst rows first and say how many were left out. */
+/* kilter: the report's tables built from the load flow's phases (no study):
+ * unbalance by bus and neutral current by section, as schema tables
+ * (kilter/table.h) read from the kl_report_input, and written by the HTML
+ * table writer (table_html.c: ranking, cut, cells). */
 #include <complex.h>
 #include <math.h>
-#include <stdlib.h>
 #include "kl_report.h"
+#include "kilter/table.h"
 
-int kl_report_rank_cmp(const void *a, const void *b)
-{
-    double x = ((const kl_ranked *)a)->key, y = ((const kl_ranked *)b)->key;
-    if (x != y)
-        return x < y ? 1 : -1;
-    return ((const kl_ranked *)a)->id - ((const kl_ranked *)b)->id; /* ties: file order */
-}
+#define IN(ctx) ((const kl_report_input *)(ctx))
 
 const char *kl_report_bus_name(const kl_feeder *f, int b)
 {
     return b >= 0 && f->buses[b].name ? f->buses[b].name : "?";
 }
 
-void kl_html_td_num(FILE *out, const char *fmt, double v)
+/* ---- unbalance: a row per three-phase bus, largest VUF first */
+
+static int bus_rows(const void *ctx)
 {
-    if (!isfinite(v)) {
-        fputs("<td>&ndash;</td>", out);
-        return;
-    }
-    /* data-v: the full figure as the CSV outputs print it, for machines;
-     * the cell text: rounded for people */
-    fprintf(out, "<td data-v=\"" KL_NUM_CSV "\">", v);
-    fprintf(out, fmt, v);
-    fputs("</td>", out);
+    return IN(ctx)->feeder->nbuses;
 }
 
-void kl_html_td_name(FILE *out, const char *name)
+static double bus_rank(const void *ctx, int b)
 {
-    fputs("<td class=\"n\">", out);
-    kl_xml_escape(out, name);
-    fputs("</td>", out);
+    return kl_report_vuf_pct(IN(ctx), b);
 }
 
-static void unbalance_row(FILE *out, const kl_report_input *in, int b)
+static void bus_name(const void *ctx, int b, int j, kl_cell *c)
+{
+    c->str = kl_report_bus_name(IN(ctx)->feeder, b);
+}
+
+#define BY_PHASE(name, expr)                                                          \
+    static void name##_0(const void *ctx, int b, int j, kl_cell *c) { int q = 0; expr; } \
+    static void name##_1(const void *ctx, int b, int j, kl_cell *c) { int q = 1; expr; } \
+    static void name##_2(const void *ctx, int b, int j, kl_cell *c) { int q = 2; expr; }
+
+BY_PHASE(v_pu, c->num = kl_report_v_pu(IN(ctx), b, q))
+
+static void v_seq(const void *ctx, int b, int q, kl_cell *c)
 {
     double v012[3];
     kl_unb_voltage u;
-    kl_report_bus_unbalance(in, b, v012, &u);
-    int over = kl_limits_vuf(&in->opt.limits, u.vuf);
-    fputs("<tr>", out);
-    kl_html_td_name(out, kl_report_bus_name(in->feeder, b));
-    for (int p = 0; p < 3; p++)
-        kl_html_td_num(out, KL_NUM_PU, kl_report_v_pu(in, b, p));
-    for (int q = 0; q < 3; q++)
-        kl_html_td_num(out, KL_NUM_PU, v012[q]);
-    kl_html_td_num(out, KL_NUM_PCT, 100 * u.vuf);
-    kl_html_td_num(out, KL_NUM_PCT, 100 * u.lvur);
-    const kl_limits *l = &in->opt.limits;
-    if (over < 0)
-        fputs("<td class=\"n\">&ndash;</td></tr>\n", out);
-    else if (over & KL_VUF_OVER_SUPPLY)
-        fprintf(out, "<td class=\"n bad\">over %g %%</td></tr>\n", 100 * l->vuf_supply);
-    else if (over & KL_VUF_OVER_COMPAT)
-        fprintf(out, "<td class=\"n bad\">over %g %%</td></tr>\n", 100 * l->vuf_compat);
-    else
-        fprintf(out, "<td class=\"n ok\">within %g %%</td></tr>\n", 100 * l->vuf_compat);
+    kl_report_bus_unbalance(IN(ctx), b, v012, &u);
+    c->num = v012[q];
 }
+BY_PHASE(v012, v_seq(ctx, b, q, c))
+
+static void vuf_pct(const void *ctx, int b, int j, kl_cell *c)
+{
+    double v012[3];
+    kl_unb_voltage u;
+    kl_report_bus_unbalance(IN(ctx), b, v012, &u);
+    c->num = 100 * u.vuf;
+}
+
+static void lvur_pct(const void *ctx, int b, int j, kl_cell *c)
+{
+    double v012[3];
+    kl_unb_voltage u;
+    kl_report_bus_unbalance(IN(ctx), b, v012, &u);
+    c->num = 100 * u.lvur;
+}
+
+/* VUF against the supply limit and the compatibility level (limits.h). */
+static void vuf_verdict(const void *ctx, int b, int j, kl_cell *c)
+{
+    const kl_limits *l = &IN(ctx)->opt.limits;
+    double v012[3];
+    kl_unb_voltage u;
+    kl_report_bus_unbalance(IN(ctx), b, v012, &u);
+    int over = kl_limits_vuf(l, u.vuf);
+    c->str = c->buf;
+    if (over < 0) {
+        c->str = "&ndash;";
+    } else if (over & KL_VUF_OVER_SUPPLY) {
+        snprintf(c->buf, sizeof c->buf, "over %g %%", 100 * l->vuf_supply);
+        c->cls = "bad";
+    } else if (over & KL_VUF_OVER_COMPAT) {
+        snprintf(c->buf, sizeof c->buf, "over %g %%", 100 * l->vuf_compat);
+        c->cls = "bad";
+    } else {
+        snprintf(c->buf, sizeof c->buf, "within %g %%", 100 * l->vuf_compat);
+        c->cls = "ok";
+    }
+}
+
+#define HNUM(g, hd, fmt) {.key = hd, .type = KL_CELL_NUM, .get = g, .in = KL_IN_HTML, \
+                          .html_head = hd, .html = fmt}
+
+static const kl_column unbalance_cols[] = {
+    {.key = "bus", .type = KL_CELL_STR, .get = bus_name, .in = KL_IN_HTML, .html_head = "bus"},
+    HNUM(v_pu_0, "Va pu", KL_NUM_PU), HNUM(v_pu_1, "Vb pu", KL_NUM_PU),
+    HNUM(v_pu_2, "Vc pu", KL_NUM_PU), HNUM(v012_0, "V0 pu", KL_NUM_PU),
+    HNUM(v012_1, "V1 pu", KL_NUM_PU), HNUM(v012_2, "V2 pu", KL_NUM_PU),
+    HNUM(vuf_pct, "VUF %", KL_NUM_PCT), HNUM(lvur_pct, "LVUR %", KL_NUM_PCT),
+    {.key = "against", .type = KL_CELL_STR, .get = vuf_verdict, .in = KL_IN_HTML,
+     .html_head = "against the limits", .html = "%s"},
+};
+
+static const kl_table unbalance = {
+    .name = "unbalance", .help = "three-phase buses, largest VUF first", .col = unbalance_cols,
+    .ncol = (int)(sizeof unbalance_cols / sizeof unbalance_cols[0]), .rows = bus_rows,
+    .rank = bus_rank,
+};
 
 kl_status kl_report_table_unbalance(FILE *out, const kl_report_input *in, kl_errors *err)
 {
-    const kl_feeder *f = in->feeder;
-    kl_ranked *r = kl_malloc(sizeof *r * (size_t)(f->nbuses + 1));
-    if (!r) {
-        kl_errors_add(err, f->path, 0, 0, NULL, "out of memory ranking buses for the report");
-        return KL_ENOMEM;
-    }
-    int n = 0;
-    for (int b = 0; b < f->nbuses; b++) {
-        double v = kl_report_vuf_pct(in, b);
-        if (isfinite(v))
-            r[n++] = (kl_ranked){v, b};
-    }
-    qsort(r, (size_t)n, sizeof *r, kl_report_rank_cmp);
-    int rows = n < in->opt.max_table_rows ? n : in->opt.max_table_rows;
+    kl_table_shown s;
+    kl_status st = kl_table_html_select(&unbalance, in, in->opt.max_table_rows, &s, err);
+    if (st)
+        return st;
     fputs("<section id=\"unbalance\">\n<h2>Unbalance</h2>\n", out);
     fprintf(out, "<p class=\"note\">Three-phase buses, largest voltage unbalance factor first "
             "(%d of %d shown; the CSV output lists all). VUF = |V2|/|V1| (IEC 61000-4-30); "
             "LVUR = largest deviation of a line voltage from their average, over the average "
-            "(NEMA MG 1).</p>\n", rows, n);
-    fputs("<table class=\"unbalance\">\n<tr><th>bus</th><th>Va pu</th><th>Vb pu</th><th>Vc pu</th>"
-          "<th>V0 pu</th><th>V1 pu</th><th>V2 pu</th><th>VUF %</th><th>LVUR %</th>"
-          "<th>against the limits</th></tr>\n", out);
-    for (int k = 0; k < rows; k++)
-        unbalance_row(out, in, r[k].id);
-    fputs("</table>\n", out); /* the caller closes the section */
-    kl_free(r);
+            "(NEMA MG 1).</p>\n", s.shown, s.total);
+    kl_table_html(out, &unbalance, in, "unbalance", &s); /* the caller closes the section */
+    kl_table_shown_free(&s);
     return KL_OK;
 }
 
-static void neutral_row(FILE *out, const kl_report_input *in, int s)
+/* ---- neutral current: a row per line section, largest neutral current
+ * first; loading = the flow's neutral current over the neutral's ampacity */
+
+static int sec_rows(const void *ctx)
 {
-    const kl_feeder *f = in->feeder;
-    const kl_section *sec = &f->sections[s];
-    char ph[4];
-    fputs("<tr>", out);
-    kl_html_td_name(out, sec->name);
-    kl_html_td_name(out, kl_report_bus_name(f, sec->from));
-    kl_html_td_name(out, kl_report_bus_name(f, sec->to));
-    kl_html_td_name(out, kl_phases_str(sec->phases, ph));
-    for (int p = 0; p < 3; p++)
-        kl_html_td_num(out, KL_NUM_AMP, (sec->phases >> p) & 1 ? cabs(in->ph.i[3 * s + p]) : NAN);
-    double a = kl_report_neutral_a(in, s), amp = NAN, ratio = NAN;
-    if (sec->kind == KL_SEC_LINE && sec->construction >= 0
-        && sec->construction < f->nconstructions)
-        amp = f->constructions[sec->construction].neutral_ampacity_a;
-    int over = kl_limits_share(a, amp, in->opt.limits.neutral_share, &ratio);
-    kl_html_td_num(out, KL_NUM_AMP, a);
-    kl_html_td_num(out, "%.0f", amp > 0 ? amp : NAN);
-    kl_html_td_num(out, "%.0f", 100 * ratio);
-    fprintf(out, "<td class=\"n %s\">%s</td></tr>\n", over > 0 ? "bad" : "ok",
-            over < 0 ? "rating not known" : over ? "over" : "within");
+    return IN(ctx)->feeder->nsections;
 }
+
+static double sec_rank(const void *ctx, int s)
+{
+    double a = kl_report_neutral_a(IN(ctx), s);
+    return IN(ctx)->feeder->sections[s].kind == KL_SEC_LINE ? a : NAN;
+}
+
+static const kl_section *SEC(const void *ctx, int s)
+{
+    return &IN(ctx)->feeder->sections[s];
+}
+
+static void sec_name(const void *ctx, int s, int j, kl_cell *c)
+{
+    c->str = SEC(ctx, s)->name;
+}
+
+static void sec_from(const void *ctx, int s, int j, kl_cell *c)
+{
+    c->str = kl_report_bus_name(IN(ctx)->feeder, SEC(ctx, s)->from);
+}
+
+static void sec_to(const void *ctx, int s, int j, kl_cell *c)
+{
+    c->str = kl_report_bus_name(IN(ctx)->feeder, SEC(ctx, s)->to);
+}
+
+static void sec_phases(const void *ctx, int s, int j, kl_cell *c)
+{
+    c->str = kl_phases_str(SEC(ctx, s)->phases, c->buf);
+}
+
+BY_PHASE(i_amps, c->num = (SEC(ctx, b)->phases >> q) & 1 ? cabs(IN(ctx)->ph.i[3 * b + q]) : NAN)
+
+static void neutral_a(const void *ctx, int s, int j, kl_cell *c)
+{
+    c->num = kl_report_neutral_a(IN(ctx), s);
+}
+
+static double ampacity(const void *ctx, int s)
+{
+    const kl_feeder *f = IN(ctx)->feeder;
+    const kl_section *sec = SEC(ctx, s);
+    if (sec->kind == KL_SEC_LINE && sec->construction >= 0 && sec->construction < f->nconstructions)
+        return f->constructions[sec->construction].neutral_ampacity_a;
+    return NAN;
+}
+
+static void rating(const void *ctx, int s, int j, kl_cell *c)
+{
+    double a = ampacity(ctx, s);
+    c->num = a > 0 ? a : NAN;
+}
+
+/* kl_limits_share: 1 over, 0 within, -1 rating not known; ratio = a / amp. */
+static int share(const void *ctx, int s, double *ratio)
+{
+    *ratio = NAN;
+    return kl_limits_share(kl_report_neutral_a(IN(ctx), s), ampacity(ctx, s),
+                           IN(ctx)->opt.limits.neutral_share, ratio);
+}
+
+static void loading(const void *ctx, int s, int j, kl_cell *c)
+{
+    double ratio;
+    share(ctx, s, &ratio);
+    c->num = 100 * ratio;
+}
+
+static void verdict(const void *ctx, int s, int j, kl_cell *c)
+{
+    double ratio;
+    int over = share(ctx, s, &ratio);
+    c->cls = over > 0 ? "bad" : "ok";
+    c->str = over < 0 ? "rating not known" : over ? "over" : "within";
+}
+
+static const kl_column neutral_cols[] = {
+    {.key = "section", .type = KL_CELL_STR, .get = sec_name, .in = KL_IN_HTML,
+     .html_head = "section"},
+    {.key = "from", .type = KL_CELL_STR, .get = sec_from, .in = KL_IN_HTML, .html_head = "from"},
+    {.key = "to", .type = KL_CELL_STR, .get = sec_to, .in = KL_IN_HTML, .html_head = "to"},
+    {.key = "phases", .type = KL_CELL_STR, .get = sec_phases, .in = KL_IN_HTML,
+     .html_head = "phases"},
+    HNUM(i_amps_0, "Ia A", KL_NUM_AMP), HNUM(i_amps_1, "Ib A", KL_NUM_AMP),
+    HNUM(i_amps_2, "Ic A", KL_NUM_AMP), HNUM(neutral_a, "In A", KL_NUM_AMP),
+    HNUM(rating, "neutral rating A", "%.0f"), HNUM(loading, "loading %", "%.0f"),
+    {.key = "against", .type = KL_CELL_STR, .get = verdict, .in = KL_IN_HTML,
+     .html_head = "against the rating"},
+};
+
+static const kl_table neutral = {
+    .name = "neutral", .help = "line sections, largest neutral current first",
+    .col = neutral_cols, .ncol = (int)(sizeof neutral_cols / sizeof neutral_cols[0]),
+    .rows = sec_rows, .rank = sec_rank,
+};
 
 kl_status kl_report_table_neutral(FILE *out, const kl_report_input *in, kl_errors *err)
 {
-    const kl_feeder *f = in->feeder;
+    kl_table_shown s;
     fputs("<section id=\"neutral\">\n<h2>Neutral current</h2>\n", out);
     if (!in->ph.i_neutral) {
         fputs("<p>The load flow gave no neutral currents for this run.</p>\n</section>\n", out);
         return KL_OK;
     }
-    kl_ranked *r = kl_malloc(sizeof *r * (size_t)(f->nsections + 1));
-    if (!r) {
-        kl_errors_add(err, f->path, 0, 0, NULL, "out of memory ranking sections for the report");
-        return KL_ENOMEM;
-    }
-    int n = 0;
-    for (int s = 0; s < f->nsections; s++) {
-        double a = kl_report_neutral_a(in, s);
-        if (isfinite(a) && f->sections[s].kind == KL_SEC_LINE)
-            r[n++] = (kl_ranked){a, s};
-    }
-    qsort(r, (size_t)n, sizeof *r, kl_report_rank_cmp);
-    int rows = n < in->opt.max_table_rows ? n : in->opt.max_table_rows;
+    kl_status st = kl_table_html_select(&neutral, in, in->opt.max_table_rows, &s, err);
+    if (st)
+        return st;
     fprintf(out, "<p class=\"note\">Line sections, largest neutral current first (%d of %d "
             "shown). Loading is the neutral current over the neutral conductor's ampacity.</p>\n",
-            rows, n);
-    fputs("<table class=\"neutral\">\n<tr><th>section</th><th>from</th><th>to</th><th>phases</th>"
-          "<th>Ia A</th><th>Ib A</th><th>Ic A</th><th>In A</th><th>neutral rating A</th>"
-          "<th>loading %</th><th>against the rating</th></tr>\n", out);
-    for (int k = 0; k < rows; k++)
-        neutral_row(out, in, r[k].id);
-    fputs("</table>\n</section>\n", out);
-    kl_free(r);
+            s.shown, s.total);
+    kl_table_html(out, &neutral, in, "neutral", &s);
+    fputs("</section>\n", out);
+    kl_table_shown_free(&s);
     return KL_OK;
 }

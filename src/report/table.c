@@ -64,9 +64,14 @@ static int kept(const kl_table *t, const void *ctx, int row, kl_table_format fmt
     return !t->keep || t->keep(ctx, row, fmt);
 }
 
+static int has_subs(const kl_table *t, kl_table_format fmt)
+{
+    return t->next_sub && (!t->sub_in || ((t->sub_in >> fmt) & 1u));
+}
+
 static int first_sub(const kl_table *t, const void *ctx, int row)
 {
-    return t->next_sub ? t->next_sub(ctx, row, -1) : -1;
+    return t->next_sub(ctx, row, -1);
 }
 
 static void cell_of(const kl_column *c, const void *ctx, int row, int sub, kl_cell *v)
@@ -188,10 +193,11 @@ void kl_table_text_rows(FILE *o, const kl_table *t, const void *ctx)
     for (int r = 0; r < n; r++) {
         if (!kept(t, ctx, r, KL_TABLE_TEXT))
             continue;
-        if (!t->next_sub)
+        if (!has_subs(t, KL_TABLE_TEXT))
             kl_table_text_line(o, t, ctx, r, -1);
-        for (int j = first_sub(t, ctx, r); j >= 0; j = t->next_sub(ctx, r, j))
-            kl_table_text_line(o, t, ctx, r, j);
+        else
+            for (int j = first_sub(t, ctx, r); j >= 0; j = t->next_sub(ctx, r, j))
+                kl_table_text_line(o, t, ctx, r, j);
         if (t->text_after)
             t->text_after(o, ctx, r);
     }
@@ -247,10 +253,11 @@ void kl_table_csv(FILE *o, const kl_table *t, const void *ctx)
     for (int r = 0; r < n; r++) {
         if (!kept(t, ctx, r, KL_TABLE_CSV))
             continue;
-        if (!t->next_sub)
+        if (!has_subs(t, KL_TABLE_CSV))
             csv_line(o, t, ctx, r, -1);
-        for (int j = first_sub(t, ctx, r); j >= 0; j = t->next_sub(ctx, r, j))
-            csv_line(o, t, ctx, r, j);
+        else
+            for (int j = first_sub(t, ctx, r); j >= 0; j = t->next_sub(ctx, r, j))
+                csv_line(o, t, ctx, r, j);
     }
 }
 
@@ -335,7 +342,7 @@ static void json_level(FILE *o, const kl_table *t, const void *ctx, int row, int
         if (!shows(c, KL_TABLE_JSON))
             continue;
         if (!subs && c->sub) { /* at the row level, the sub-rows' place */
-            if (subs_done || !t->next_sub)
+            if (subs_done || !has_subs(t, KL_TABLE_JSON))
                 continue;
             if (ingroup)
                 fputc(open.array ? ']' : '}', o);
@@ -379,14 +386,17 @@ void kl_table_json_members(FILE *o, const kl_table *t, const void *ctx, int row)
 
 void kl_table_json(FILE *o, const kl_table *t, const void *ctx)
 {
-    int n = t->rows(ctx), shown = 0;
-    fprintf(o, "  \"%s\": [", t->json_key ? t->json_key : t->name);
+    int n = t->rows(ctx), shown = 0, in = t->json_indent ? t->json_indent : 2;
+    fprintf(o, "%*s\"%s\": [", in, "", t->json_key ? t->json_key : t->name);
     for (int r = 0; r < n; r++) {
         if (!kept(t, ctx, r, KL_TABLE_JSON))
             continue;
-        fputs(shown++ ? ",\n    {" : "\n    {", o);
+        fprintf(o, "%s\n%*s{", shown++ ? "," : "", 2 * in, "");
         kl_table_json_members(o, t, ctx, r);
         fputc('}', o);
     }
-    fputs(shown || !(t->flags & KL_TABLE_JSON_EMPTY_INLINE) ? "\n  ]" : "]", o);
+    if (shown || !(t->flags & KL_TABLE_JSON_EMPTY_INLINE))
+        fprintf(o, "\n%*s]", in, "");
+    else
+        fputc(']', o);
 }

@@ -12,6 +12,8 @@
 #define TCJ (KL_IN_TEXT | KL_IN_CSV | KL_IN_JSON)
 #define TC (KL_IN_TEXT | KL_IN_CSV)
 #define CJ (KL_IN_CSV | KL_IN_JSON)
+#define TCH (TC | KL_IN_HTML)
+#define HTML(hd, fmt) .html_head = hd, .html = fmt
 
 static double pct(double x)
 {
@@ -127,9 +129,10 @@ static void derating(const void *ctx, int b, int j, kl_cell *c)
     c->num = ROWS(ctx)->study->derate_factor[b];
 }
 
-#define NUM(k, u, h, g, in_, hd, tf) \
-    {.key = k, .unit = u, .help = h, .type = KL_CELL_NUM, .get = g, .in = in_, \
-     .text_head = hd, .text = tf}
+#define NUMF(k, u, h, g, in_, hd, tf) \
+    .key = k, .unit = u, .help = h, .type = KL_CELL_NUM, .get = g, .in = in_, \
+    .text_head = hd, .text = tf
+#define NUM(k, u, h, g, in_, hd, tf) {NUMF(k, u, h, g, in_, hd, tf)}
 
 static const kl_column bus_cols[] = {
     {.key = "bus", .help = "bus name", .type = KL_CELL_STR, .get = bus_name, .in = TCJ,
@@ -186,6 +189,37 @@ const kl_table kl_table_study_small_buses = {
     .rows = bus_rows, .keep = small_keep,
 };
 
+/* ---- motors (HTML): buses where the NEMA MG 1 derating applies */
+
+static int motor_keep(const void *ctx, int b, kl_table_format fmt)
+{
+    return ROWS(ctx)->study->derate_zone[b] >= 0;
+}
+
+static void motor_verdict(const void *ctx, int b, int j, kl_cell *c)
+{
+    int z = ROWS(ctx)->study->derate_zone[b];
+    c->cls = z == KL_DERATE_NONE ? "ok" : "bad";
+    c->str = z == KL_DERATE_NONE ? "no derating needed" : z == KL_DERATE_CURVE
+           ? "derate the motor" : "operation not recommended";
+}
+
+static const kl_column motor_cols[] = {
+    {.key = "bus", .type = KL_CELL_STR, .get = bus_name, .in = KL_IN_HTML, .html_head = "bus"},
+    {.key = "lvur_pct", .type = KL_CELL_NUM, .get = lvur, .in = KL_IN_HTML,
+     .html_head = "LVUR %", .html = KL_NUM_PCT},
+    {.key = "motor_derating", .type = KL_CELL_NUM, .get = derating, .in = KL_IN_HTML,
+     .html_head = "derating factor", .html = "%.2f"},
+    {.key = "verdict", .type = KL_CELL_STR, .get = motor_verdict, .in = KL_IN_HTML,
+     .html_head = "verdict"},
+};
+
+const kl_table kl_table_study_motors = {
+    .name = "motors", .help = "buses with motors on an unbalanced supply (NEMA MG 1)",
+    .col = motor_cols, .ncol = (int)(sizeof motor_cols / sizeof motor_cols[0]),
+    .rows = bus_rows, .keep = motor_keep,
+};
+
 /* ---- sections and neutrals */
 
 static int sec_rows(const void *ctx)
@@ -204,7 +238,7 @@ static int neutral_keep(const void *ctx, int k, kl_table_format fmt)
     const kl_study *s = ROWS(ctx)->study;
     if (isnan(s->i_n_rms[k]))
         return 0;
-    return fmt == KL_TABLE_TEXT || s->isec[k].phases != 0;
+    return fmt == KL_TABLE_TEXT || fmt == KL_TABLE_HTML || s->isec[k].phases != 0;
 }
 
 static void sec_name(const void *ctx, int k, int j, kl_cell *c)
@@ -293,6 +327,35 @@ static void run_of(const void *ctx, int k, int j, kl_cell *c)
     c->i = ROWS(ctx)->study->run[k] + 1;
 }
 
+static void sec_from(const void *ctx, int k, int j, kl_cell *c)
+{
+    c->str = kl_report_bus_name(ROWS(ctx)->feeder, ROWS(ctx)->feeder->sections[k].from);
+}
+
+static void sec_to(const void *ctx, int k, int j, kl_cell *c)
+{
+    c->str = kl_report_bus_name(ROWS(ctx)->feeder, ROWS(ctx)->feeder->sections[k].to);
+}
+
+/* The report shows the section's own phases (the tables above, the phases
+ * that carry current). */
+static void sec_own_phases(const void *ctx, int k, int j, kl_cell *c)
+{
+    c->str = kl_phases_str(ROWS(ctx)->feeder->sections[k].phases, c->buf);
+}
+
+static double neutral_rank(const void *ctx, int k)
+{
+    return ROWS(ctx)->study->i_n_rms[k];
+}
+
+static void neutral_verdict(const void *ctx, int k, int j, kl_cell *c)
+{
+    int fl = ROWS(ctx)->study->neutral_flag[k];
+    c->cls = fl > 0 ? "bad" : "ok";
+    c->str = fl < 0 ? "rating not known" : fl ? "over" : "within";
+}
+
 static void over_mark(const void *ctx, int k, int j, kl_cell *c)
 {
     c->str = ROWS(ctx)->study->neutral_flag[k] == 1 ? "  OVER" : "";
@@ -331,19 +394,27 @@ const kl_table kl_table_study_sections = {
     .keep = sec_keep,
 };
 
+
 static const kl_column neutral_cols[] = {
-    {.key = "section", .help = "section name", .type = KL_CELL_STR, .get = sec_name, .in = TC,
-     .text_head = "section", .text = "  %-16s"},
-    NUM("neutral_a", "A", "fundamental neutral current", neutral_a, TC, "In1", " %8.1f"),
-    NUM("triplen_a", "A", "triplen neutral current (arithmetic sum of the loads' third "
-        "harmonics downstream)", triplen_a, TC, "In3", " %8.1f"),
-    NUM("neutral_rms_a", "A", "neutral RMS sqrt(In1^2 + In3^2)", neutral_rms_a, TC, "In rms",
-        " %8.1f"),
+    {.key = "section", .help = "section name", .type = KL_CELL_STR, .get = sec_name, .in = TCH,
+     .text_head = "section", .text = "  %-16s", .html_head = "section"},
+    {.key = "from", .type = KL_CELL_STR, .get = sec_from, .in = KL_IN_HTML, HTML("from", NULL)},
+    {.key = "to", .type = KL_CELL_STR, .get = sec_to, .in = KL_IN_HTML, HTML("to", NULL)},
+    {.key = "phases", .type = KL_CELL_STR, .get = sec_own_phases, .in = KL_IN_HTML,
+     HTML("phases", NULL)},
+    {NUMF("neutral_a", "A", "fundamental neutral current", neutral_a, TCH, "In1", " %8.1f"),
+     HTML("In fundamental A", KL_NUM_AMP)},
+    {NUMF("triplen_a", "A", "triplen neutral current (arithmetic sum of the loads' third "
+         "harmonics downstream)", triplen_a, TCH, "In3", " %8.1f"), HTML("In triplen A", KL_NUM_AMP)},
+    {NUMF("neutral_rms_a", "A", "neutral RMS sqrt(In1^2 + In3^2)", neutral_rms_a, TCH, "In rms",
+         " %8.1f"), HTML("In RMS A", KL_NUM_AMP)},
     NUM("earth_a", "A", "earth-return current", earth_a, TC, "Iearth", " %8.1f"),
-    NUM("neutral_ampacity_a", "A", "the neutral conductor's ampacity", ampacity, TC, "ampacity",
-        " %9.0f"),
-    NUM("neutral_loading_pct", "%", "neutral RMS over the neutral's ampacity", loading, TC,
-        "loading", " %7.0f%%"),
+    {NUMF("neutral_ampacity_a", "A", "the neutral conductor's ampacity", ampacity, TCH,
+         "ampacity", " %9.0f"), HTML("neutral rating A", "%.0f")},
+    {NUMF("neutral_loading_pct", "%", "neutral RMS over the neutral's ampacity", loading, TCH,
+         "loading", " %7.0f%%"), HTML("loading %", "%.0f")},
+    {.key = "against", .help = "loading against the neutral-share limit", .type = KL_CELL_STR,
+     .get = neutral_verdict, .in = KL_IN_HTML, HTML("against the rating", NULL)},
     {.key = "run", .help = "neutral run (1-based; 0: none)", .type = KL_CELL_INT, .get = run_of,
      .in = KL_IN_CSV},
     {.key = "over", .help = "loading over the neutral-share limit", .type = KL_CELL_STR,
@@ -353,7 +424,7 @@ static const kl_column neutral_cols[] = {
 const kl_table kl_table_study_neutrals = {
     .name = "neutrals", .help = "neutral and earth-return current of sections with a neutral",
     .col = neutral_cols, .ncol = (int)(sizeof neutral_cols / sizeof neutral_cols[0]),
-    .rows = sec_rows, .keep = neutral_keep,
+    .rows = sec_rows, .keep = neutral_keep, .rank = neutral_rank,
 };
 
 /* ---- neutral runs */
@@ -423,30 +494,43 @@ static void run_small_mark(const void *ctx, int r, int j, kl_cell *c)
         ? "  (fitted neutral too small)" : "";
 }
 
+static void run_conductor_html(const void *ctx, int r, int j, kl_cell *c)
+{
+    run_conductor(ctx, r, j, c);
+    if (!c->str)
+        c->str = "none in the file";
+}
+
 static const kl_column run_cols[] = {
     {.key = "run", .help = "run number", .type = KL_CELL_INT, .get = run_number, .in = TC,
      .text_head = "run", .text = "  %-4d"},
+    {.key = "first_section", .type = KL_CELL_STR, .get = run_first, .in = KL_IN_HTML,
+     HTML("first section", NULL)}, /* first in the report */
     {.key = "construction", .help = "the run's construction", .type = KL_CELL_STR,
-     .get = run_construction, .in = TCJ, .text_head = "construction", .text = " %-16s"},
+     .get = run_construction, .in = TCJ | KL_IN_HTML, .text_head = "construction",
+     .text = " %-16s", HTML("construction", NULL)},
     {.key = "first_section", .help = "the run's first section from the source",
      .type = KL_CELL_STR, .get = run_first, .in = TCJ, .text_head = "first section",
      .text = " %-16s"},
     {.key = "sections", .help = "sections in the run", .type = KL_CELL_INT, .get = run_sections,
-     .in = TCJ, .text_head = "secs", .text = " %4d"},
+     .in = TCJ | KL_IN_HTML, .text_head = "secs", .text = " %4d", HTML("sections", NULL)},
     {.key = "worst_section", .help = "the section carrying the run's largest neutral current",
-     .type = KL_CELL_STR, .get = run_worst, .in = KL_IN_CSV},
-    NUM("current_a", "A", "the run's largest neutral RMS current", run_current, TCJ, "worst A",
-        " %8.1f"),
-    NUM("required_a", "A", "current x (1 + sizing margin)", run_required, TCJ, "needed A",
-        " %9.1f"),
-    NUM("installed_a", "A", "the fitted neutral's ampacity", run_installed, TCJ, "fitted A",
-        " %9.0f"),
+     .type = KL_CELL_STR, .get = run_worst, .in = KL_IN_CSV | KL_IN_HTML,
+     HTML("worst section", NULL)},
+    {NUMF("current_a", "A", "the run's largest neutral RMS current", run_current,
+          TCJ | KL_IN_HTML, "worst A", " %8.1f"), HTML("largest In A", KL_NUM_AMP)},
+    {NUMF("required_a", "A", "current x (1 + sizing margin)", run_required, TCJ | KL_IN_HTML,
+          "needed A", " %9.1f"), HTML("required A", KL_NUM_AMP)},
+    {NUMF("installed_a", "A", "the fitted neutral's ampacity", run_installed, TCJ | KL_IN_HTML,
+          "fitted A", " %9.0f"), HTML("installed A", "%.0f")},
     {.key = "suggested_conductor", .help = "smallest conductor of the feeder file's library "
      "that carries the required current (null: none)", .type = KL_CELL_STR,
      .get = run_conductor, .in = CJ},
     {.key = "suggested_conductor", .type = KL_CELL_STR, .get = run_conductor_text,
      .in = KL_IN_TEXT, .text_head = "smallest library conductor that carries it",
      .text = "  %s"},
+    {.key = "suggested_conductor", .type = KL_CELL_STR, .get = run_conductor_html,
+     .in = KL_IN_HTML, HTML("smallest that carries it", NULL)},
     {.key = "too_small", .type = KL_CELL_STR, .get = run_small_mark, .in = KL_IN_TEXT,
      .text_head = "", .text = "%s"},
 };
