@@ -9,6 +9,7 @@
 #include <string.h>
 #include "harness.h"
 #include "ref_ieee13.h"
+#include "ref_unbalance.h"
 #include "kilter/study.h"
 #include "study_fixture.h"
 
@@ -157,7 +158,8 @@ END_TEST
 
 /* Complaint check: a reading equal to the model agrees; the IEEE Std 1159
  * worked example's magnitudes (230, 232, 225 V) give its 1.7 % unbalance
- * rate (IEEE Std 1159-1995 clause 4.4.4); readings 5 % off disagree. */
+ * rate (IEEE Std 1159-1995 clause 4.4.4, tests/ref_unbalance.c); readings
+ * 5 % off disagree. */
 START_TEST(complaint_agrees_and_disagrees)
 {
     static fx_feeder x;
@@ -190,12 +192,12 @@ START_TEST(complaint_agrees_and_disagrees)
     ck_assert_int_eq(r.mags_agree, 0);
     /* on the 120 V base (phase readings) */
     in.kind = KL_MEAS_PHASE;
-    in.mag[0] = 230.0 * 120.0 / 230.0;
-    in.mag[1] = 232.0 * 120.0 / 230.0;
-    in.mag[2] = 225.0 * 120.0 / 230.0;
+    const ref_unbalance_example *ex = &ref_unbalance_ieee1159;
+    for (int p = 0; p < 3; p++)
+        in.mag[p] = ex->v[p] * 120.0 / 230.0;
     ck_assert_int_eq(kl_complaint_check(&x.f, s, &x.ph, &in, &r, &err), KL_OK);
     ck_assert_int_eq(r.on_120, 1);
-    ck_assert_double_eq_tol(100.0 * r.meas_rate, 1.7, 0.05);
+    ck_assert_double_eq_tol(100.0 * r.meas_rate, ex->pct, ex->tol_pct);
     /* readings that fit no base are refused with a message */
     in.mag[0] = in.mag[1] = in.mag[2] = 50.0;
     kl_errors_clear(&err);

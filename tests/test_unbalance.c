@@ -11,6 +11,7 @@
 #include "kilter/sequence.h"
 #include "kilter/unbalance.h"
 #include "ref_ieee13.h"
+#include "ref_unbalance.h"
 
 #define PI 3.14159265358979323846
 #define DEG (PI / 180.0)
@@ -20,25 +21,27 @@ static kl_complex polar(double mag, double deg)
     return mag * cexp(I * deg * DEG);
 }
 
-/* IEEE Std 1159-1995 clause 4.4.4 worked example: 230, 232, 225 V -> 1.7 %
- * (printed to one decimal: compare within half a unit of it). */
+/* IEEE Std 1159-1995 clause 4.4.4 worked example (tests/ref_unbalance.c):
+ * 230, 232, 225 V -> 1.7 % (printed to one decimal: compare within half a
+ * unit of it). */
 START_TEST(ieee1159_example)
 {
-    double v[3] = { 230, 232, 225 };
-    ck_assert_double_le(fabs(100 * kl_unb_rate(v) - 1.7), 0.05);
+    const ref_unbalance_example *x = &ref_unbalance_ieee1159;
+    ck_assert_double_le(fabs(100 * kl_unb_rate(x->v) - x->pct), x->tol_pct);
 }
 END_TEST
 
-/* NEMA MG 1 worked figures as printed by secondary sources citing MG 1:
- * 462, 463, 455 V -> 1.1 %; 480, 476, 472 V -> 0.84 %; 203, 210, 212 V ->
- * 2.5 % (the exact ratio is 2.56 %: the source truncates, so that one is
- * compared within 0.1). */
+/* NEMA MG 1 worked figures as printed by secondary sources citing MG 1
+ * (tests/ref_unbalance.c): 462, 463, 455 V -> 1.1 %; 480, 476, 472 V ->
+ * 0.84 %; 203, 210, 212 V -> 2.5 % (the exact ratio is 2.56 %: the source
+ * truncates, so that one is compared within 0.1). */
 START_TEST(nema_mg1_examples)
 {
-    double a[3] = { 462, 463, 455 }, b[3] = { 480, 476, 472 }, c[3] = { 203, 210, 212 };
-    ck_assert_double_le(fabs(100 * kl_unb_rate(a) - 1.1), 0.05);
-    ck_assert_double_le(fabs(100 * kl_unb_rate(b) - 0.84), 0.005);
-    ck_assert_double_le(fabs(100 * kl_unb_rate(c) - 2.5), 0.1);
+    for (int k = 0; k < REF_UNBALANCE_NMG1; k++) {
+        const ref_unbalance_example *x = &ref_unbalance_mg1[k];
+        ck_assert_msg(fabs(100 * kl_unb_rate(x->v) - x->pct) <= x->tol_pct, "%g, %g, %g V: %g %%",
+                      x->v[0], x->v[1], x->v[2], 100 * kl_unb_rate(x->v));
+    }
 }
 END_TEST
 
@@ -78,11 +81,11 @@ static void closed_form_vs_phasor(const double m[3])
 
 START_TEST(closed_form_examples)
 {
-    /* the worked-example voltages above */
-    static const double m[][3] = {
-        { 230, 232, 225 }, { 462, 463, 455 }, { 203, 210, 212 }, { 480, 476, 472 },
-        { 480, 480, 400 }, { 100, 150, 200 },
-    };
+    /* the worked-example voltages above, and two more triangles */
+    static const double m[][3] = { { 480, 480, 400 }, { 100, 150, 200 } };
+    closed_form_vs_phasor(ref_unbalance_ieee1159.v);
+    for (int k = 0; k < REF_UNBALANCE_NMG1; k++)
+        closed_form_vs_phasor(ref_unbalance_mg1[k].v);
     for (size_t k = 0; k < sizeof m / sizeof m[0]; k++)
         closed_form_vs_phasor(m[k]);
 }
@@ -211,11 +214,10 @@ START_TEST(zero_sequence_current_is_undefined)
 END_TEST
 
 /* NEMA MG 1 derating curve points, read off the curve by a secondary source
- * (+/- 0.01): 0:1.00 0.5:1.00 1.5:0.97 2.0:0.95 2.5:0.93 3.0:0.89 3.5:0.85
- * 4.0:0.82 4.5:0.78 5.0:0.76. */
-static const double mg1_pct[] = { 0, 0.5, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 4.5, 5.0 };
-static const double mg1_factor[] = { 1.00, 1.00, 0.97, 0.95, 0.93, 0.89, 0.85, 0.82, 0.78, 0.76 };
-#define NMG1 ((int)(sizeof mg1_pct / sizeof mg1_pct[0]))
+ * (+/- 0.01; tests/ref_unbalance.c). */
+static const double *const mg1_pct = ref_unbalance_derate_pct;
+static const double *const mg1_factor = ref_unbalance_derate_factor;
+#define NMG1 REF_UNBALANCE_NDERATE
 
 START_TEST(derating_curve_points)
 {
@@ -223,7 +225,7 @@ START_TEST(derating_curve_points)
         kl_derate_zone zone;
         double f;
         ck_assert_int_eq(kl_derating_factor(mg1_pct[k] / 100, &zone, &f, NULL), KL_OK);
-        ck_assert_msg(fabs(f - mg1_factor[k]) <= 0.01, "%g %%: %g", mg1_pct[k], f);
+        ck_assert_msg(fabs(f - mg1_factor[k]) <= REF_UNBALANCE_DERATE_TOL, "%g %%: %g", mg1_pct[k], f);
         /* NEMA MG 1: no derating up to 1 % */
         ck_assert_int_eq(zone, mg1_pct[k] <= 1.0 ? KL_DERATE_NONE : KL_DERATE_CURVE);
     }
@@ -256,9 +258,18 @@ END_TEST
  * reference library). */
 START_TEST(derating_against_steffen)
 {
-    static const double x[] = { 0, 0.5, 1.0, 1.5, 2.0, 2.5, 3.0, 3.5, 4.0, 4.5, 5.0 };
-    static const double y[] = { 1.00, 1.00, 1.00, 0.97, 0.95, 0.93, 0.89, 0.85, 0.82, 0.78, 0.76 };
-    const size_t n = sizeof x / sizeof x[0];
+    /* the curve points with MG 1's 1.00 at 1 % put in after 0.5 % */
+    double x[NMG1 + 1], y[NMG1 + 1];
+    const size_t n = NMG1 + 1;
+    for (int k = 0, j = 0; k < NMG1; k++) {
+        x[j] = mg1_pct[k];
+        y[j++] = mg1_factor[k];
+        if (mg1_pct[k] == 0.5) {
+            x[j] = 1.0;
+            y[j++] = 1.00;
+        }
+    }
+    ck_assert(x[2] == 1.0 && x[n - 1] == 5.0);
     gsl_interp *it = gsl_interp_alloc(gsl_interp_steffen, n);
     gsl_interp_accel *acc = gsl_interp_accel_alloc();
     ck_assert(it && acc);
