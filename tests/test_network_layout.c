@@ -4,15 +4,17 @@
  * bus-id arrays and against the published feeder's topology.
  *
  * Topology facts (IEEE PES Distribution System Analysis Subcommittee, "IEEE
- * 13 Node Test Feeder" data sheet; W. H. Kersting, "Radial distribution test
- * feeders", 2001; from memory): 652 is fed by a phase-a-only line from 684,
- * 611 by a phase-c-only line from 684, 634 is the 480 V side of the in-line
- * transformer XFM-1 (4.16 kV : 480 V, grounded wye both sides), and one
- * distributed load lies on the line 632-671. */
+ * 13 Node Test Feeder" data sheet, kept in tests/ref_ieee13.c; W. H. Kersting,
+ * "Radial distribution test feeders", 2001): 652 is fed from 684 by a line of
+ * configuration 607 (phase a only), 611 from 684 by one of 605 (phase c
+ * only), 634 is the 480 V side of the in-line transformer XFM-1 (4.16 kV :
+ * 480 V, grounded wye both sides), and one distributed load lies on the line
+ * 632-671. */
 #include <check.h>
 #include <math.h>
 #include <stdlib.h>
 #include "harness.h"
+#include "ref_ieee13.h"
 
 static harness H;
 static kl_feeder *F;
@@ -72,13 +74,14 @@ START_TEST(test_published_topology)
     int b634 = kl_feeder_find_bus(F, "634"), b684 = kl_feeder_find_bus(F, "684");
     int b671 = kl_feeder_find_bus(F, "671"), b632 = kl_feeder_find_bus(F, "632");
     ck_assert(b652 >= 0 && b611 >= 0 && b634 >= 0 && b684 >= 0 && b671 >= 0 && b632 >= 0);
-    ck_assert_int_eq(N->phases[b652], KL_PH_A);
-    ck_assert_int_eq(N->phases[b611], KL_PH_C);
+    ck_assert_int_eq(N->phases[b652], ref_ieee13_config_find("607")->phases); /* a */
+    ck_assert_int_eq(N->phases[b611], ref_ieee13_config_find("605")->phases); /* c */
     ck_assert_int_eq(N->br_from[N->parent[b652]], b684);
     ck_assert_int_eq(N->br_from[N->parent[b611]], b684);
     /* 480 V line-to-line on the low side of XFM-1 */
-    ck_assert(fabs(N->v_base_ln[b634] - 480.0 / sqrt(3.0)) < 1e-9 * 480.0);
-    ck_assert(fabs(N->v_base_ln[b671] - 4160.0 / sqrt(3.0)) < 1e-9 * 4160.0);
+    const double lv = 1000 * ref_ieee13_xfm1.kv_low, hv = 1000 * ref_ieee13_xfm1.kv_high;
+    ck_assert(fabs(N->v_base_ln[b634] - lv / sqrt(3.0)) < 1e-9 * lv);
+    ck_assert(fabs(N->v_base_ln[b671] - hv / sqrt(3.0)) < 1e-9 * hv);
     /* the distributed load's internal node sits between 632 and 671 */
     ck_assert_int_eq(N->nbuses, N->nfeeder_buses + 1);
     int mid = N->br_from[N->parent[b671]];
