@@ -3,6 +3,7 @@
 #ifndef KILTER_FLOW_INTERNAL_H
 #define KILTER_FLOW_INTERNAL_H
 
+#include <stdio.h>
 #include "kl_model.h"
 #include "kl_lines.h"
 #include "kilter/network.h"
@@ -43,5 +44,57 @@ void kl_sweep_tree_currents(struct kl_network *net);
 kl_status kl_load_parts_build(struct kl_network *net);
 /* Actual powers at the present voltages into res->s_load, q_cap, s_loads. */
 void kl_load_powers(const struct kl_network *net, double scale, struct kl_flow_result *res);
+
+/* ---- network.c and its phases (network_*.c): the build's internals. */
+/* Every network-build error: element "kind name", the message as given. */
+static inline void kl_network_err(kl_errors *e, const kl_feeder *f, kl_loc loc, const char *kind,
+                                  const char *name, const char *msg)
+{
+    char elem[128];
+    if (name && *name)
+        snprintf(elem, sizeof elem, "%s %s", kind, name);
+    else
+        snprintf(elem, sizeof elem, "%s", kind);
+    kl_errors_add(e, f->path, loc.line, loc.col, elem, "%s", msg);
+}
+/* Distributed load (network_emit.c, network_loads.c): the exact lumped-load
+ * model (Kersting ch. 3, from memory): 2/3 of the load at an internal node a
+ * quarter of the length from the source end, 1/3 at the far end. */
+#define KL_DIST_AT 0.25          /* internal node position, share of the length */
+#define KL_DIST_NEAR (2.0 / 3.0) /* share of the load at the internal node */
+/* network_check.c */
+kl_status kl_network_check_ids(const kl_feeder *f, kl_errors *err);
+/* Buses the tree reaches only through an open switch: KL_ETOPO. */
+kl_status kl_network_check_energized(const kl_feeder_tree *t, const kl_feeder *f, kl_errors *err);
+/* network_size.c: has_dist[nsections] (out) marks sections with a
+ * distributed load, *ndist counts those loads; kl_network_size_sections
+ * returns the zy entries and counts split sections and device slots. */
+kl_status kl_network_size_distributed(const kl_feeder *f, unsigned char *has_dist, int *ndist,
+                                      kl_errors *err);
+size_t kl_network_size_sections(const kl_feeder *f, const unsigned char *has_dist, int *nsplit,
+                                int *ndev);
+/* network_alloc.c: every array of the network (kl_network_free frees them). */
+kl_status kl_network_alloc(struct kl_network *n, const kl_feeder *f, int nbus, int nbr, int nld,
+                           int ndev_max);
+/* network_emit.c: the tree's energized sections as branches (mid_of[s]: the
+ * internal node of split section s), then the links after them. */
+kl_status kl_network_emit_tree(struct kl_network *n, const kl_feeder_tree *t,
+                               const unsigned char *has_dist, int *mid_of, kl_errors *err);
+kl_status kl_network_emit_links(struct kl_network *n, const kl_feeder_tree *t,
+                                const unsigned char *has_dist, kl_errors *err);
+/* network_line.c: checks a line section's construction, phases (*mask out)
+ * and length; appends line branch k's packed Z and Y for `len` metres. */
+kl_status kl_network_line_check(const struct kl_network *n, const kl_section *sc, int construction,
+                                int phases, double length_m, int *mask, kl_errors *err);
+kl_status kl_network_line_fill(struct kl_network *n, int k, const kl_section *sc, int construction,
+                               double len, kl_errors *err);
+/* network_branch.c: device branch k of section sc (its to-bus's phases and
+ * base filled). */
+kl_status kl_network_branch_device(struct kl_network *n, int k, const kl_section *sc, kl_errors *err);
+/* network_loads.c */
+kl_status kl_network_loads_place(struct kl_network *n, const int *mid_of, const kl_feeder_tree *t,
+                                 kl_errors *err);
+kl_status kl_network_loads_check_capacitors(const struct kl_network *n, const kl_feeder_tree *t,
+                                            kl_errors *err);
 
 #endif

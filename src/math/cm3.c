@@ -68,3 +68,17 @@ int kl_cm3_inverse(const kl_complex m[9], kl_complex r[9])
         r[k] = c[k] / det;
     return 0;
 }
+
+int kl_cm3_inverse_on(const kl_complex m[9], int mask, kl_complex r[9])
+{
+    kl_complex t[9];
+    memcpy(t, m, sizeof t);
+    kl_cm3_mask(t, mask);
+    for (int p = 0; p < 3; p++)
+        if (!(mask & (1 << p)))
+            t[4 * p] = 1.0;
+    if (kl_cm3_inverse(t, r))
+        return -1;
+    kl_cm3_mask(r, mask);
+    return 0;
+}

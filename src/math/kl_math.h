@@ -13,5 +13,8 @@ void kl_cm3_vec(const kl_complex m[9], const kl_complex v[3], kl_complex r[3]);
 void kl_cm3_transpose(const kl_complex m[9], kl_complex r[9]);
 void kl_cm3_mask(kl_complex m[9], int mask);
 int kl_cm3_inverse(const kl_complex m[9], kl_complex r[9]);
+/* m^-1 on the phases of mask (identity rows stand in for the absent ones;
+ * absent rows and columns of r zero): 0, or -1 when singular there. */
+int kl_cm3_inverse_on(const kl_complex m[9], int mask, kl_complex r[9]);
 
 #endif
