@@ -21,14 +21,19 @@
 _Noreturn void kl_check_fail(const char *cond, const char *file, int line);
 
 /* ---- alloc.c: the one allocator every library allocation goes through.
- * Tests inject failures with kl_alloc_fail_after(n): the n-th allocation from
- * now (0 = the next one) and every later one fails, until kl_alloc_fail_after(-1). */
+ * In the tests' build of the library (KILTER_ALLOC_INJECT, libkilter_test)
+ * tests inject failures with kl_alloc_fail_after(n): the n-th allocation from
+ * now (0 = the next one) and every later one fails, until kl_alloc_fail_after(-1).
+ * The installed library has no such counter (it keeps no mutable state), so
+ * library code cannot call these two. */
 void *kl_malloc(size_t n);
 void *kl_calloc(size_t count, size_t size);
 void *kl_realloc(void *p, size_t n);
 void kl_free(void *p);
+#ifdef KILTER_ALLOC_INJECT
 void kl_alloc_fail_after(long n);
 long kl_alloc_count(void); /* allocations made so far (for the injection tests) */
+#endif
 
 
 /* ---- arena.c, names.c: the string arena that owns every name of a
