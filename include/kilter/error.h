@@ -3,7 +3,18 @@
  * Library functions return a kl_status; the details of every problem go into a
  * kl_errors record owned by the caller ("file:line:col: element: what").  The
  * library never prints and never exits; the command-line program reads the
- * record out once and chooses the exit code. */
+ * record out once and chooses the exit code.
+ *
+ * Threads and global state: the library keeps no mutable state of its own,
+ * so threads may work on separate feeders at once (one feeder, network or
+ * result is not for two threads at the same time).  It does not touch GSL's
+ * process-wide error handler either, whose default aborts the program on any
+ * GSL error: every GSL call the library makes has its result checked, and
+ * the one GSL error it can meet is an allocation failure of the rebalancing
+ * search's random generator (gsl_rng_alloc), reported as KL_ENOMEM.  A
+ * program using libkilter should therefore call gsl_set_error_handler_off()
+ * once at start-up, as the kilter program does; with GSL's default handler
+ * that allocation failure aborts instead. */
 #ifndef KILTER_ERROR_H
 #define KILTER_ERROR_H
 

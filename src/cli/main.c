@@ -40,6 +40,8 @@ static void usage(FILE *f)
 int main(int argc, char **argv)
 {
     int i;
+    /* GSL's default handler aborts; the library checks every GSL result and
+     * does not change this process-wide switch itself (kilter/error.h). */
     gsl_set_error_handler_off();
     if (argc < 2) {
         usage(stderr);

@@ -10,7 +10,6 @@
  * that the plan can be stopped after any step. */
 #include <math.h>
 #include <string.h>
-#include <gsl/gsl_errno.h>
 #include "kilter/rebalance.h"
 #include "kl_rebalance.h"
 
@@ -123,7 +122,6 @@ kl_status kl_rebalance_run(kl_rephaser *rp, const kl_rebalance_options *opt,
 {
     if (!rp || !opt || !plan || !err || plan->nitems != rp->nitems)
         return KL_EARG;
-    gsl_set_error_handler_off();
     kl_status st = check_options(rp, opt, err);
     if (st)
         return st;
