@@ -33,6 +33,17 @@ grep -q "broken-phase.yaml:13:5: section \"s2\": phases 'b' are not all present 
 "$kilter" --help | grep -q "64  bad command-line usage" || fail "--help lists exit codes"
 "$kilter" check --help | grep -q -- "--format table|csv|json" || fail "check --help"
 "$kilter" --version | grep -Eq "^kilter [0-9]+\.[0-9]+" || fail "--version"
+# The demo feeder of the build tree is the build's own copy beside the program (installed,
+# PREFIX/share/kilter: tests/cli_install.sh), the same file as feeders/demo/, and it is what
+# runs without a FEEDER argument, whatever the working directory.
+bdir=$(cd "$(dirname "$kilter")" && pwd -P)
+"$kilter" check --help | grep -qx "  $bdir/share/kilter/demo/quillmere-f3.yaml" ||
+  fail "check --help does not name the build's demo copy $bdir/share/kilter/demo/quillmere-f3.yaml"
+cmp -s "$bdir/share/kilter/demo/quillmere-f3.yaml" "$src/feeders/demo/quillmere-f3.yaml" ||
+  fail "the build's demo copy differs from feeders/demo/quillmere-f3.yaml"
+(cd "$tmp" && "$kilter" check >"$tmp/demo.out") || fail "check of the demo from another directory: exit $?"
+"$kilter" check "$bdir/share/kilter/demo/quillmere-f3.yaml" | cmp -s - "$tmp/demo.out" ||
+  fail "check without FEEDER differs from check of the build's demo copy"
 "$kilter" check --bogus "$good" 2>/dev/null
 [ $? -eq 64 ] || fail "unknown option: expected 64"
 "$kilter" frobnicate 2>/dev/null

@@ -62,6 +62,10 @@ void kl_cli_out_abandon(kl_cli_out *o); /* drops a file being written */
 void kl_cli_print_errors(const kl_errors *e);
 void kl_cli_error(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
 int kl_cli_exit_code(kl_status s);
+/* The bundled demo feeder, found from the program's own location: installed,
+ * PREFIX/share/kilter/demo/quillmere-f3.yaml; in the build tree, the build's
+ * copy (cli_demo.c). */
+const char *kl_cli_demo_path(void);
 /* Loads a->feeder, printing the errors; 0 or an exit code. */
 int kl_cli_load(const kl_cli_args *a, kl_feeder **f);
 

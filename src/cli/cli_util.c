@@ -10,10 +10,6 @@
 #include "cli.h"
 #include "kilter/table.h"
 
-#ifndef KILTER_DEMO_FEEDER
-#define KILTER_DEMO_FEEDER "feeders/demo/quillmere-f3.yaml"
-#endif
-
 void kl_cli_error(const char *fmt, ...)
 {
     va_list ap;
@@ -29,7 +25,7 @@ static void help(const char *cmd, const char *summary, const kl_cli_opt *opts, i
     int i;
     printf("usage: kilter %s [options] [FEEDER]\n\n%s\n\n", cmd, summary);
     printf("FEEDER is a feeder file; without it the demo feeder is used:\n  %s\n\noptions:\n",
-           KILTER_DEMO_FEEDER);
+           kl_cli_demo_path());
     printf("  %-22s %s\n", "--format table|csv|json", "output format (default table)");
     printf("  %-22s %s\n", "-o, --output FILE", "write the output to FILE (whole, or not at all)");
     for (i = 0; i < nopts; i++) {
@@ -128,7 +124,7 @@ int kl_cli_parse(kl_cli_args *a, int argc, char **argv, const char *summary,
     int i, rc;
     memset(a, 0, sizeof *a);
     a->cmd = argv[0];
-    a->feeder = KILTER_DEMO_FEEDER;
+    a->feeder = kl_cli_demo_path();
     a->feeder_is_demo = 1;
     for (i = 1; i < argc; i++) {
         if (strcmp(argv[i], "--help") == 0 || strcmp(argv[i], "-h") == 0) {

@@ -2,6 +2,7 @@
 #include <stdio.h>
 #include <string.h>
 #include <gsl/gsl_errno.h>
+#include "kilter/version.h"
 #include "cli.h"
 
 typedef struct {
@@ -52,7 +53,7 @@ int main(int argc, char **argv)
         return KL_EXIT_OK;
     }
     if (strcmp(argv[1], "--version") == 0) {
-        printf("kilter %s\n", KILTER_VERSION);
+        printf("kilter %s\n", KL_VERSION);
         return KL_EXIT_OK;
     }
     for (i = 0; i < NCOMMANDS; i++)
