@@ -99,7 +99,7 @@ static inline int hf_line(hand_feeder *h, const char *name, const char *from, co
     int s = hf_section(h, name, from, to, KL_SEC_LINE);
     h->sec[s].length_m = feet * FT;
     h->sec[s].construction = cons;
-    h->sec[s].phases = h->cons[cons].phases;
+    h->sec[s].phases = (uint8_t)h->cons[cons].phases;
     return s;
 }
 
@@ -117,7 +117,7 @@ static inline int hf_load(hand_feeder *h, const char *name, const char *bus, kl_
     for (int k = 0; k < 3; k++) {
         if (kw[k] == 0 && kvar[k] == 0)
             continue;
-        l->phases |= 1 << k;
+        l->phases = (uint8_t)(l->phases | 1 << k); /* k 0-2 */
         l->s_va[k] = 1000.0 * (kw[k] + I * kvar[k]);
     }
     return h->f.nloads++;

@@ -77,13 +77,13 @@ static inline int fx_line(fx_feeder *x, int from, const char *name, int phases,
 {
     int b = x->f.nbuses++, k = x->f.nsections++;
     x->buses[b].name = name;
-    x->buses[b].phases = phases;
+    x->buses[b].phases = (uint8_t)phases;
     x->buses[b].base_kv_ll = x->f.source.kv_ll;
     x->secs[k].name = name;
     x->secs[k].kind = KL_SEC_LINE;
     x->secs[k].from = from;
     x->secs[k].to = b;
-    x->secs[k].phases = phases;
+    x->secs[k].phases = (uint8_t)phases;
     x->secs[k].construction = cons;
     x->secs[k].device = -1;
     x->secs[k].closed = 1;
@@ -103,7 +103,7 @@ static inline int fx_load(fx_feeder *x, const char *name, int b, int p,
     x->loads[L].section = -1;
     x->loads[L].conn = KL_CONN_WYE;
     x->loads[L].model = KL_LOAD_I;
-    x->loads[L].phases |= 1 << p;
+    x->loads[L].phases = (uint8_t)(x->loads[L].phases | 1 << p); /* p 0-2 */
     x->loads[L].third_harmonic = h3;
     x->iload[L][p] = fx_polar(amps, deg - 120.0 * p);
     return L;
@@ -112,7 +112,7 @@ static inline int fx_load(fx_feeder *x, const char *name, int b, int p,
 /* Adds one more phase to load L. */
 static inline void fx_load_phase(fx_feeder *x, int L, int p, double amps, double deg)
 {
-    x->loads[L].phases |= 1 << p;
+    x->loads[L].phases = (uint8_t)(x->loads[L].phases | 1 << p); /* p 0-2 */
     x->iload[L][p] = fx_polar(amps, deg - 120.0 * p);
 }
 

@@ -593,7 +593,7 @@ static void build_random(hand_feeder *h, unsigned seed)
         int c = cons[m];
         hf_bus(h, bus_name_of(k));
         hf_line(h, bus_name_of(k), bus_name_of(parent), bus_name_of(k), 200 + 800 * rnd(), c);
-        h->sec[h->f.nsections - 1].phases = m;
+        h->sec[h->f.nsections - 1].phases = (uint8_t)m;
         double kw[3] = {0}, kvar[3] = {0};
         for (int p = 0; p < 3; p++)
             if (m & (1 << p)) {

@@ -255,10 +255,10 @@ static void gen_feeder(gen *g, int nb)
     size_t cap = 256 + (size_t)nb * 96, n;
     int k;
     g->nb = nb;
-    g->parent = malloc(nb * sizeof(int));
-    g->label = malloc(nb * sizeof(int));
-    g->order = malloc((nb - 1) * sizeof(int));
-    g->flip = malloc(nb * sizeof(int));
+    g->parent = malloc((size_t)nb * sizeof(int));
+    g->label = malloc((size_t)nb * sizeof(int));
+    g->order = malloc((size_t)(nb - 1) * sizeof(int));
+    g->flip = malloc((size_t)nb * sizeof(int));
     g->text = malloc(cap);
     ck_assert(g->parent && g->label && g->order && g->flip && g->text);
     for (k = 0; k < nb; k++) {

@@ -189,7 +189,7 @@ static void build_xf(hand_feeder *h, const xf_case *c)
         kva = 100;
     /* step-up: the 12.47 kV low winding faces the source */
     hf_transformer(h, "bank", "hv", "lv", kva, c->kv_high, c->high, c->kv_low, c->low, 1.0, 6.0);
-    h->sec[h->f.nsections - 1].phases = hf_phases(c->phases);
+    h->sec[h->f.nsections - 1].phases = (uint8_t)hf_phases(c->phases);
     if (c->high == KL_WINDING_SINGLE) {
         if (c->low == KL_WINDING_CENTER_TAP) {
             hf_load(h, "legs", "lv", KL_CONN_WYE, KL_LOAD_PQ, (double[]){12, 8, 0},

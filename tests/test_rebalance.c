@@ -495,7 +495,7 @@ START_TEST(test_rotation_restores)
     size_t len[7];
     for (int k = 0; k < 7; k++) {
         len[k] = k < 6 ? 9 * (size_t)n->ndev : nzy;
-        memcpy(copy + k * m, arr[k], len[k] * sizeof(kl_complex));
+        memcpy(copy + (size_t)k * m, arr[k], len[k] * sizeof(kl_complex));
     }
     int *ph = malloc(sizeof(int) * (size_t)n->nbuses);
     memcpy(ph, n->phases, sizeof(int) * (size_t)n->nbuses);
@@ -508,14 +508,14 @@ START_TEST(test_rotation_restores)
     }
     int moved = 0;
     for (int k = 0; k < 7; k++)
-        moved |= memcmp(copy + k * m, arr[k], len[k] * sizeof(kl_complex)) != 0;
+        moved |= memcmp(copy + (size_t)k * m, arr[k], len[k] * sizeof(kl_complex)) != 0;
     /* a single-phase line's packed Z, Y stay put: its phase moves */
     moved |= memcmp(brph, n->br_phases, sizeof(int) * nbr) != 0;
     ck_assert(moved);
     for (int i = x.rp->nitems - 1; i >= 0; i--)
         kl_rephase_set(x.rp, i, 0);
     for (int k = 0; k < 7; k++)
-        ck_assert(memcmp(copy + k * m, arr[k], len[k] * sizeof(kl_complex)) == 0);
+        ck_assert(memcmp(copy + (size_t)k * m, arr[k], len[k] * sizeof(kl_complex)) == 0);
     ck_assert(memcmp(ph, n->phases, sizeof(int) * (size_t)n->nbuses) == 0);
     ck_assert(memcmp(brph, n->br_phases, sizeof(int) * nbr) == 0);
     for (int l = 0; l < x.f->nloads; l++)

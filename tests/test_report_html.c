@@ -47,15 +47,15 @@ static void from_line_mags(double ab, double bc, double ca, kl_complex v[3])
 
 static void add_bus(fixture *x, int b, const char *name, int phases, double base, int with_xy)
 {
-    x->bus[b] = (kl_bus){.name = name, .phases = phases, .base_kv_ll = base * sqrt(3) / 1000,
-                         .x = 100.0 * b, .y = b == 4 ? -50 : 0, .has_xy = with_xy};
+    x->bus[b] = (kl_bus){.name = name, .phases = (uint8_t)phases, .base_kv_ll = base * sqrt(3) / 1000,
+                         .x = 100.0 * b, .y = b == 4 ? -50 : 0, .has_xy = with_xy != 0};
     x->vbase[b] = base;
 }
 
 static void add_sec(fixture *x, int s, const char *name, int from, int to, int phases, double len)
 {
     x->sec[s] = (kl_section){.name = name, .kind = KL_SEC_LINE, .from = from, .to = to,
-                             .phases = phases, .length_m = len, .construction = 0,
+                             .phases = (uint8_t)phases, .length_m = len, .construction = 0,
                              .device = -1, .closed = 1};
 }
 

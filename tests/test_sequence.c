@@ -43,14 +43,14 @@ static void gsl_fortescue(const kl_complex abc[3], kl_complex s012[3])
     ck_assert(m && x && y);
     for (int r = 0; r < 3; r++) {
         for (int c = 0; c < 3; c++)
-            gsl_matrix_complex_set(m, r, c,
+            gsl_matrix_complex_set(m, (size_t)r, (size_t)c,
                 gsl_complex_polar(1.0 / 3.0, power[r][c] * 2.0 * PI / 3.0));
-        gsl_vector_complex_set(x, r, gsl_complex_rect(creal(abc[r]), cimag(abc[r])));
+        gsl_vector_complex_set(x, (size_t)r, gsl_complex_rect(creal(abc[r]), cimag(abc[r])));
     }
     ck_assert_int_eq(gsl_blas_zgemv(CblasNoTrans, GSL_COMPLEX_ONE, m, x,
                                     GSL_COMPLEX_ZERO, y), GSL_SUCCESS);
     for (int r = 0; r < 3; r++) {
-        gsl_complex z = gsl_vector_complex_get(y, r);
+        gsl_complex z = gsl_vector_complex_get(y, (size_t)r);
         s012[r] = GSL_REAL(z) + I * GSL_IMAG(z);
     }
     gsl_vector_complex_free(y);

@@ -561,7 +561,7 @@ static void mutate(char *buf, size_t *len, size_t cap, unsigned long long *st)
             } else {
                 buf[pos] = POOL[rnd(st) % (sizeof POOL - 1)];
             }
-            *len = n + 1 + two;
+            *len = n + 1 + (size_t)two;
         }
         break;
     case 3:

@@ -236,7 +236,7 @@ static void parts_refresh(kl_network *n)
     for (int i = 0; i < n->nparts; i++) {
         kl_load_part *pt = &n->parts[i];
         int p = n->ld_slot[3 * pt->load + pt->entry];
-        pt->q = pt->q < 3 ? (unsigned char)((p + 1) % 3) : 3;
+        pt->q = (unsigned char)(pt->q < 3 ? (p + 1) % 3 : 3); /* slot 0-2; 3 the neutral (wye) */
         pt->p = (unsigned char)p;
     }
     n->parts_stale = 0;

@@ -123,7 +123,7 @@ static void number_unknowns(const kl_network *n, kl_nodal *w)
  * source bus is replaced by V = E, so nothing else is stamped into it. */
 static void put_raw(kl_nodal *w, int i, int j, kl_complex v);
 
-static void put(kl_nodal *w, const kl_network *n, int i, int j, kl_complex v)
+static void put(kl_nodal *w, int i, int j, kl_complex v)
 {
     if (i < 0 || j < 0)
         return;
@@ -176,10 +176,10 @@ static int stamp_line(kl_nodal *w, const kl_network *n, int k)
             if (!(m & (1 << p)) || !(m & (1 << q)))
                 continue;
             kl_complex self = Y[3 * p + q] + 0.5 * ysh[3 * p + q];
-            put(w, n, vf[p], vf[q], self);
-            put(w, n, vf[p], vt[q], -Y[3 * p + q]);
-            put(w, n, vt[p], vf[q], -Y[3 * p + q]);
-            put(w, n, vt[p], vt[q], self);
+            put(w, vf[p], vf[q], self);
+            put(w, vf[p], vt[q], -Y[3 * p + q]);
+            put(w, vt[p], vf[q], -Y[3 * p + q]);
+            put(w, vt[p], vt[q], self);
         }
     return 0;
 }
@@ -198,15 +198,15 @@ static void stamp_device(kl_nodal *w, const kl_network *n, int k)
     for (int p = 0; p < 3; p++) {
         if (!(mt & (1 << p)))
             continue;
-        put(w, n, ik[p], vt[p], 1.0);
-        put(w, n, vt[p], ik[p], -1.0);
+        put(w, ik[p], vt[p], 1.0);
+        put(w, vt[p], ik[p], -1.0);
         for (int q = 0; q < 3; q++) {
             if (mf & (1 << q)) {
-                put(w, n, ik[p], vf[q], -A[3 * p + q]);
-                put(w, n, vf[q], ik[p], d[3 * q + p]);
+                put(w, ik[p], vf[q], -A[3 * p + q]);
+                put(w, vf[q], ik[p], d[3 * q + p]);
             }
             if ((mt & (1 << q)) && B[3 * p + q] != 0)
-                put(w, n, ik[p], ik[q], B[3 * p + q]);
+                put(w, ik[p], ik[q], B[3 * p + q]);
         }
     }
 }
@@ -219,7 +219,7 @@ static void stamp_source(kl_nodal *w, const kl_network *n)
             if (w->ideal_source && p == q)
                 put_raw(w, vs[p], vs[p], 1.0);
             else if (!w->ideal_source)
-                put(w, n, vs[p], vs[q], w->ys[3 * p + q]);
+                put(w, vs[p], vs[q], w->ys[3 * p + q]);
         }
 }
 
@@ -569,7 +569,7 @@ static void branch_currents(kl_network *n, double scale)
         kl_complex *jf = kl_network_bus_j(n, n->br_from[k]), *jt = kl_network_bus_j(n, n->br_to[k]);
         const kl_complex *ito = kl_network_i_to(n, k);
         for (int p = 0; p < 3; p++) {
-            jf[p] += n->i_from_link[3 * (size_t)(k - n->nbranches) + p];
+            jf[p] += n->i_from_link[3 * (size_t)(k - n->nbranches) + (size_t)p];
             jt[p] -= ito[p];
         }
     }

@@ -125,9 +125,9 @@ static void load_place(kl_loader *L, kl_load *d, const kl_fields *fl, int i)
 
 static void load_rebalance(kl_loader *L, kl_load *d, const kl_fields *fl)
 {
-    d->pinned = kl_ld_bool(L, fl, LO_PIN, 0);
+    d->pinned = (uint8_t)kl_ld_bool(L, fl, LO_PIN, 0); /* 0 or 1 */
     if (fl->val[LO_FORBID] >= 0)
-        d->forbidden = kl_ld_phases(L, fl->val[LO_FORBID], "forbidden_phases");
+        d->forbidden = (uint8_t)kl_ld_phases(L, fl->val[LO_FORBID], "forbidden_phases"); /* a mask, 0-7 */
     kl_ld_real(L, fl, LO_COST, KL_Q_NUMBER, &d->move_cost, 1, KL_F_NONNEG);
 }
 
@@ -152,9 +152,9 @@ void kl_ld_load(kl_loader *L, int map)
     d->conn = (kl_connection)(kl_ld_enum(L, &fl, LO_CONN, connections, 0) + 1);
     d->model = (kl_load_model)(kl_ld_enum(L, &fl, LO_MODEL, load_models, 0) + 1);
     if (kl_ld_node(L, &fl, LO_POWER, 0, KL_F_REQ) >= 0)
-        d->phases = per_phase(L, fl.val[LO_POWER], "power", d->conn == KL_CONN_DELTA, 1, d->s_va);
+        d->phases = (uint8_t)per_phase(L, fl.val[LO_POWER], "power", d->conn == KL_CONN_DELTA, 1, d->s_va); /* 0-7 */
     load_zip(L, d, &fl);
-    d->motor = kl_ld_bool(L, &fl, LO_MOTOR, 0);
+    d->motor = (uint8_t)kl_ld_bool(L, &fl, LO_MOTOR, 0); /* 0 or 1 */
     kl_ld_real(L, &fl, LO_H3, KL_Q_SHARE, &d->third_harmonic, 0, KL_F_NONNEG);
     if (d->third_harmonic > 1)
         kl_ld_error(L, fl.val[LO_H3], "'third_harmonic' is a share of the fundamental current, 0 to 100 %%");

@@ -188,7 +188,7 @@ static void section_phases(kl_loader *L)
             has = f->constructions[s->construction].phases;
         else if (s->kind == KL_SEC_REGULATOR && s->device >= 0)
             has = f->regulators[s->device].phases;
-        s->phases = given ? given : has;
+        s->phases = (uint8_t)(given ? given : has); /* phase masks, 0-7 */
         if (given && has && (given & ~has)) {
             kl_ld_label(L, "section", s->name, i);
             kl_ld_error_at(L, s->loc.line, s->loc.col, "phases '%s' are not all in its %s '%s' (which has %s): "

@@ -270,7 +270,7 @@ static void section_kind(kl_loader *L, kl_section *s, const kl_fields *fl, int i
         kl_ld_error(L, fl->val[SE_LEN], "only line sections (with 'construction') have a length: remove it");
     if (fl->val[SE_SWITCH] >= 0) {
         s->kind = KL_SEC_SWITCH;
-        s->closed = kl_ld_enum(L, fl, SE_SWITCH, switch_states, 1);
+        s->closed = (uint8_t)kl_ld_enum(L, fl, SE_SWITCH, switch_states, 1); /* open 0, closed 1 */
     } else if (fl->val[SE_XF] >= 0 && (t = kl_ld_str(L, fl, SE_XF, 0))) {
         s->kind = KL_SEC_TRANSFORMER;
         kl_ld_ref(L, KL_REF_SEC_XF, i, t, fl->val[SE_XF], &s->device, &L->h_xf);

@@ -63,8 +63,8 @@ static kl_status invert(double *Pabc, int np, double *C)
 {
     size_t perm_data[3];
     gsl_permutation perm = {(size_t)np, perm_data};
-    gsl_matrix_view lu = gsl_matrix_view_array(Pabc, np, np);
-    gsl_matrix_view inv = gsl_matrix_view_array(C, np, np);
+    gsl_matrix_view lu = gsl_matrix_view_array(Pabc, (size_t)np, (size_t)np); /* np 1-3 */
+    gsl_matrix_view inv = gsl_matrix_view_array(C, (size_t)np, (size_t)np);
     int signum;
     if (gsl_linalg_LU_decomp(&lu.matrix, &perm, &signum) != 0)
         return KL_EARG;

@@ -96,7 +96,7 @@ static void engine_set(kl_search_engine *e, int i, int r)
     if (!((dr % 3 + 3) % 3))
         return;
     for (int l = 0; l < e->opt->nlevels; l++)
-        kl_rephase_shift_vector(e->rp, i, dr, e->snap + (size_t)l * 3 * e->net->nbuses);
+        kl_rephase_shift_vector(e->rp, i, dr, e->snap + (size_t)l * 3 * (size_t)e->net->nbuses);
     kl_rephase_set(e->rp, i, r);
 }
 
@@ -137,7 +137,7 @@ kl_status kl_search_engine_solve_level(kl_search_engine *e, int l, kl_rebalance_
     fo.load_scale = e->opt->level[l].scale;
     taps_reset(e);
     if (e->snap_valid[l]) {
-        memcpy(n->vs, e->snap + l * nv, nv * sizeof(kl_complex)); /* by position */
+        memcpy(n->vs, e->snap + (size_t)l * nv, nv * sizeof(kl_complex)); /* by position */
         n->v_valid = 1;
     } else {
         n->v_valid = 0;
@@ -150,7 +150,7 @@ kl_status kl_search_engine_solve_level(kl_search_engine *e, int l, kl_rebalance_
         return st;
     }
     kl_rebalance_summarize(n, 1, e->opt->neutral_section, sum);
-    memcpy(e->snap + l * nv, n->vs, nv * sizeof(kl_complex));
+    memcpy(e->snap + (size_t)l * nv, n->vs, nv * sizeof(kl_complex));
     e->snap_valid[l] = 1;
     return KL_OK;
 }

@@ -117,7 +117,7 @@ static kl_complex volt(const kl_study_phases *ph, const kl_study_paths *p,
                        int nf, int m, int slot)
 {
     if (p->v)
-        return p->v[3 * (size_t)(p->v_pos ? p->v_pos[m] : m) + slot];
+        return p->v[3 * (size_t)(p->v_pos ? p->v_pos[m] : m) + (size_t)slot];
     return m < nf ? ph->v[3 * m + slot] : CMPLX(NAN, NAN);
 }
 
