@@ -12,6 +12,9 @@
 #include <string.h>
 #include "kl_base.h"
 
+/* A slot is the hash and the index, nothing else (the figure above). */
+_Static_assert(sizeof(kl_name_slot) == 8, "kl_name_slot: 8 bytes (hash and index)");
+
 static unsigned fnv1a(const char *s, size_t len)
 {
     unsigned h = 2166136261u; /* FNV-1a, 32 bit (Fowler, Noll, Vo) */
@@ -69,6 +72,9 @@ static unsigned name_hash(const char *s, size_t len)
 
 void kl_names_init(kl_names *t, void *const *elems, size_t stride)
 {
+    /* name_of reads element i's name at *elems + i * stride: the stride is
+     * a whole element, which starts with (and is aligned for) its name */
+    KL_ASSERT(elems && stride >= sizeof(const char *) && stride % _Alignof(const char *) == 0);
     memset(t, 0, sizeof *t);
     t->elems = elems;
     t->stride = stride;
@@ -153,17 +159,33 @@ static kl_status rehash(kl_names *t)
     kl_hugepage(s, (size_t)cap * sizeof *s);
     kl_prefault(s, (size_t)cap * sizeof *s);
     for (i = 0; i < t->cap; i++)
-        if (t->slots[i].ref)
+        if (t->slots[i].ref) {
+            /* the element array, read at the stride, still holds the name
+             * the slot was filled with (its first member, names.c) */
+            KL_ASSERT(name_hash(name_of(t, t->slots[i].ref - 1),
+                                strlen(name_of(t, t->slots[i].ref - 1))) == t->slots[i].hash);
             put(s, cap, t->slots[i]);
+        }
     kl_free(t->slots);
     t->slots = s;
     t->cap = cap;
     return KL_OK;
 }
 
+/* The name added for element `index` is the one the table will read back
+ * from the element array at the stride: its first member holds that very
+ * string, or is still NULL (the loader names a load after adding it).  A
+ * wrong stride reads another member and fails here, at the second element. */
+static int names_match(const kl_names *t, const char *name, int index)
+{
+    const char *held = name_of(t, index);
+    return !held || held == name;
+}
+
 kl_status kl_names_add(kl_names *t, const char *name, int index)
 {
     kl_name_slot v;
+    KL_ASSERT(names_match(t, name, index));
     if ((unsigned)(t->count + 1) * 2 > t->cap && rehash(t) != KL_OK)
         return KL_ENOMEM;
     v.hash = name_hash(name, strlen(name));
@@ -236,6 +258,7 @@ done:
  * as long as nothing was added since and the table need not grow. */
 kl_status kl_names_add_hint(kl_names *t, const char *name, int index, const kl_name_hint *hint)
 {
+    KL_ASSERT(names_match(t, name, index));
     if (hint->cap && hint->table == t && hint->cap == t->cap && hint->count == t->count &&
         (unsigned)(t->count + 1) * 2 <= t->cap && !t->slots[hint->slot].ref &&
         strlen(name) == hint->len) {

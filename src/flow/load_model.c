@@ -98,6 +98,9 @@ static int cap_entry(const kl_network *n, const kl_complex *vv, const int *map, 
 
 /* ---- the working form: parts in sweep-position order (network.h) -------- */
 
+/* 32 bytes a part: the load pass streams them (docs/performance.md). */
+_Static_assert(sizeof(void *) != 8 || sizeof(kl_load_part) == 32, "kl_load_part: 32 bytes");
+
 /* The parts of network load m (at most 3 entries x 3 ZIP parts): for an
  * element rated S at V_n, k = conj(S) / V_n^2 (Z), conj(S) / V_n (I),
  * conj(S) (P), times the distributed-load share and the ZIP fraction, so
@@ -193,8 +196,27 @@ static void parts_fill(const kl_network *n, kl_load_part *dst, int *start, int c
     for (int m = 0; m < nitems; m++) {
         int b = caps ? n->feeder->capacitors[m].bus : n->loads[m].bus;
         int *at = &start[n->pos[b]];
-        *at += caps ? cap_parts_of(n, m, dst + *at) : load_parts_of(n, m, dst + *at);
+        int got = caps ? cap_parts_of(n, m, dst + *at) : load_parts_of(n, m, dst + *at);
+        /* the counting pass reserved exactly this many (parts_count) */
+        KL_ASSERT(got == (caps ? cap_nparts(n, m) : load_nparts(n, m)));
+        *at += got;
     }
+}
+
+/* The load pass reads the parts and the bus arrays front to back: parts
+ * in nondecreasing position, loads first, capacitors after them (their
+ * load is -1, and parts_refresh reads ld_slot for the first nparts only). */
+static void parts_check(const kl_network *n)
+{
+#ifdef KILTER_CHECKS
+    for (int i = 0; i < n->nparts + n->ncap_parts; i++) {
+        const kl_load_part *pt = &n->parts[i];
+        KL_ASSERT((pt->load >= 0) == (i < n->nparts) && pt->p < 3 && pt->q <= 3);
+        KL_ASSERT(i == 0 || i == n->nparts || n->parts[i - 1].pos <= pt->pos);
+    }
+#else
+    (void)n;
+#endif
 }
 
 kl_status kl_load_parts_build(kl_network *n)
@@ -221,6 +243,7 @@ kl_status kl_load_parts_build(kl_network *n)
     parts_count(n, start, 1);
     parts_fill(n, n->parts + np, start, 1);
     kl_free(start);
+    parts_check(n);
     n->parts_stale = 0;
     return KL_OK;
 }

@@ -102,6 +102,8 @@ static void number_unknowns(const kl_network *n, kl_nodal *w)
         int b = n->order[o], k = n->parent[b];
         if (b == n->source)
             continue;
+        /* leaves first only if every bus comes after its parent in order[] */
+        KL_ASSERT(k >= 0 && n->pos[b] == o && n->pos[n->br_from[k]] < o);
         if (k >= 0 && !is_line(n, k))
             number_currents(n, w, k, &u);
         for (int p = 0; p < 3; p++)
@@ -144,6 +146,10 @@ static void put_raw(kl_nodal *w, int i, int j, kl_complex v)
                 w->Ax[e] += v;
                 return;
             }
+        /* refactoring keeps the pattern of the first assembly: every value
+         * stamped later must fall on it (stamp_device stamps A and d in full
+         * on the masks for that reason) */
+        KL_ASSERT(!"a value stamped outside the nodal matrix's pattern");
     }
 }
 
@@ -276,6 +282,9 @@ static kl_status build_pattern(kl_nodal *w, const kl_network *n)
     w->mode = ST_ROWS;
     memset(w->fill, 0, sizeof(int) * (size_t)w->n);
     stamp_all(w, n);
+    /* the two walks stamp the same entries: each column got what it counted */
+    for (int j = 0; j < w->n; j++)
+        KL_ASSERT(w->fill[j] == w->Ap[j + 1] - w->Ap[j]);
     compress_columns(w);
     int *shrunk = kl_realloc(w->Ai, sizeof(int) * ((size_t)w->nnz + 1));
     if (shrunk)

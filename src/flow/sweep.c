@@ -283,6 +283,40 @@ static void report_noconv(const kl_network *n, int it, double worst, int where, 
                   lowtxt, why);
 }
 
+/* The sweep layout the passes rely on (network.h): the to-bus of tree
+ * branch k at position k + 1 and its from-bus at an earlier position (so the
+ * forward pass meets a parent's voltages and the backward pass a child's
+ * currents complete); the position-ordered copies of phases and bases in
+ * step with the bus-id arrays (rephasing updates both); each branch with its
+ * storage (packed Z, Y for a line, a device slot otherwise), and a closed
+ * switch's matrices zero off its phases (mv2_masked skips them).  Checked at
+ * each flat start, in the debug and sanitizer builds. */
+static void layout_check(const kl_network *n)
+{
+#ifdef KILTER_CHECKS
+    KL_ASSERT(n->order[0] == n->source && n->pos[n->source] == 0);
+    for (int i = 0; i < n->nbuses; i++) {
+        int b = n->order[i];
+        KL_ASSERT(n->pos[b] == i && n->pos_phases[i] == n->phases[b]);
+        KL_ASSERT(n->pos_inv_base[i] == 1.0 / n->v_base_ln[b]);
+    }
+    for (int k = 0; k < n->nbranches; k++) {
+        KL_ASSERT(n->pos[n->br_to[k]] == k + 1 && n->br_from_pos[k] == n->pos[n->br_from[k]]);
+        KL_ASSERT(n->br_from_pos[k] <= k);
+        KL_ASSERT((n->br_kind[k] == KL_BR_LINE) ? n->zy_at[k] >= 0 : n->dev[k] >= 0);
+        if (n->br_kind[k] != KL_BR_SWITCH)
+            continue;
+        for (int e = 0; e < 9; e++) {
+            size_t s = 9 * (size_t)n->dev[k] + (size_t)e;
+            int in = (n->br_phases[k] >> (e / 3) & 1) && (n->br_phases[k] >> (e % 3) & 1);
+            KL_ASSERT(in || (n->A[s] == 0 && n->B[s] == 0 && n->c[s] == 0 && n->d[s] == 0));
+        }
+    }
+#else
+    (void)n;
+#endif
+}
+
 /* Starts from the source voltages carried through every branch at no load. */
 static void flat_start(kl_network *n)
 {
@@ -308,8 +342,10 @@ kl_status kl_sweep_solve(kl_network *n, const kl_flow_options *opt, kl_flow_resu
         return KL_ETOPO;
     }
     double scale = opt->load_scale;
-    if (!n->v_valid)
+    if (!n->v_valid) {
+        layout_check(n);
         flat_start(n);
+    }
     double worst = INFINITY;
     int where = -1, it = 0;
     while (it < opt->max_iter) {

@@ -841,6 +841,9 @@ int kl_yfast_next(kl_yfast *s, kl_yfast_event *out)
         }
     }
     ev = &s->q[s->qhead++];
+    /* hash_event (yreader.c) reads a text a word at a time, up to 8 bytes
+     * past its end: reserve() keeps that slack after every text */
+    KL_ASSERT(!s->txt || ev->text + ev->len + 8 <= s->tcap);
     out->kind = ev->kind;
     out->line = ev->line;
     out->col = ev->col;

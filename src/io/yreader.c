@@ -13,6 +13,7 @@
  * exactly libyaml's stream, errors included.  A running hash of the handed-out
  * events is checked against libyaml's on the way; a difference is reported as
  * an internal error rather than loading what libyaml would not. */
+#include <stddef.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <string.h>
@@ -46,6 +47,10 @@ struct kl_yreader {
     int nnodes, capnodes;
     size_t ntext, captext;
 };
+/* kl_ynode_at and kl_ynode_text (kl_io.h) read the pool through a pointer to
+ * the reader: it must stay the first member. */
+_Static_assert(offsetof(struct kl_yreader, pool) == 0,
+               "kl_yreader: the node pool must be the first member (kl_ynode_at)");
 
 static kl_yreader *reader_alloc(const char *file, kl_errors *err)
 {

@@ -2,6 +2,16 @@
 #include <string.h>
 #include "kl_model.h"
 
+/* The memory target (docs/performance.md) counts on the size of these
+ * records on a 64-bit machine (feeder.h orders their members and keeps flags
+ * in bytes for it): a million-bus feeder holds a million of each.  A new
+ * member changes the figures: measure again (scripts/bench.sh) and update the
+ * sizes here. */
+#define LP64 (sizeof(void *) == 8 && sizeof(double) == 8 && sizeof(int) == 4)
+_Static_assert(!LP64 || sizeof(kl_section) == 48, "kl_section: 48 bytes, no padding");
+_Static_assert(!LP64 || sizeof(kl_bus) == 56, "kl_bus: 56 bytes");
+_Static_assert(!LP64 || sizeof(kl_load) == 136, "kl_load: 136 bytes, no padding");
+
 void kl_feeder_free(kl_feeder *f)
 {
     if (!f)

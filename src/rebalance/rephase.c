@@ -341,6 +341,10 @@ static kl_status finder_hand_over(finder *w)
     memset(&w->br, 0, sizeof w->br);
     memset(&w->bus, 0, sizeof w->bus);
     memset(&w->ld, 0, sizeof w->ld);
+    /* laterals are found in sweep order, so an enclosing item comes before
+     * the items inside it: kl_rephase_feeder_rotations relies on it */
+    for (int i = 0; i < rp->nitems; i++)
+        KL_ASSERT(rp->items[i].outer < i);
     return KL_OK;
 }
 

@@ -30,6 +30,9 @@ static const double OBJ_FLOOR[KL_OBJ_COUNT] = {1.0, 1e-4, 1.0, 1.0, 1e-3};
 
 #define CACHE_SIZE (1 << 15)
 #define CACHE_ITEMS 40 /* 3^40 < 2^64 */
+/* The Fibonacci hash keeps the top 15 bits of the product (>> 49), the
+ * slot index of a table of 2^15: the two must change together. */
+_Static_assert(CACHE_SIZE == 1 << (64 - 49), "score cache: size and hash bits differ");
 
 static double now_s(void)
 {
