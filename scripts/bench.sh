@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Scale benchmark of the load flow: builds kilter in Release, generates
 # synthetic feeders with kl_synth (fixed seed) and times each stage with
-# kl_bench.  Prints one table; figures for docs/benchmark.md.
+# kl_bench.  Prints one table; figures for docs/performance.md (method and history:
+# docs/notes/benchmark-notebook.md).
 #
 #   scripts/bench.sh [--quick] [--seed S] [--repeat R] [--keep DIR]
 #
