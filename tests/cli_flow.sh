@@ -23,7 +23,7 @@ within() {
 }
 
 # 1. CSV bus table: the contract header, and published voltages (pu, 0.002).
-if "$kilter" flow "$ieee13" --carson approx --format csv >"$work/buses.csv" 2>"$work/err"; then
+if "$kilter" flow "$ieee13" --earth-return modified --format csv >"$work/buses.csv" 2>"$work/err"; then
     [ "$(head -1 "$work/buses.csv")" = "bus,phase,v_volts,v_pu,angle_deg,base_ln_volts" ] ||
         fail "bus CSV header: $(head -1 "$work/buses.csv")"
     within "$work/buses.csv" 671 a 4 0.9900 0.002 2>/dev/null || fail "671 a v_pu (published 0.9900)"
@@ -39,7 +39,7 @@ else
 fi
 
 # 2. CSV section table with neutral current; published 632-671 phase a 478.29 A (0.5 %).
-if "$kilter" flow "$ieee13" --carson approx --format csv --table sections >"$work/sec.csv" 2>"$work/err"; then
+if "$kilter" flow "$ieee13" --earth-return modified --format csv --table sections >"$work/sec.csv" 2>"$work/err"; then
     head -1 "$work/sec.csv" | grep -q '^section,phase,i_amps,i_angle_deg,.*i_neutral_amps' ||
         fail "section CSV header: $(head -1 "$work/sec.csv")"
     within "$work/sec.csv" 632-671 a 3 478.29 2.4 2>/dev/null || fail "632-671 a current (published 478.29 A)"
@@ -49,12 +49,12 @@ else
 fi
 
 # 3. Table: caution line, totals, published taps 10 8 11.
-"$kilter" flow "$ieee13" --carson approx >"$work/table.txt" 2>&1 || fail "table exited $?"
+"$kilter" flow "$ieee13" --earth-return modified >"$work/table.txt" 2>&1 || fail "table exited $?"
 grep -q "planning estimates" "$work/table.txt" || fail "table lacks the caution line"
 grep -q "taps a 10, b 8, c 11" "$work/table.txt" || fail "published taps 10, 8, 11 not in the table"
 
 # 4. JSON: well formed (when python3 is present), converged, taps.
-if "$kilter" flow "$ieee13" --carson approx --format json >"$work/out.json" 2>"$work/err"; then
+if "$kilter" flow "$ieee13" --earth-return modified --format json >"$work/out.json" 2>"$work/err"; then
     grep -q '"converged": true' "$work/out.json" || fail "JSON converged"
     grep -q '"taps": {"a": 10, "b": 8, "c": 11}' "$work/out.json" || fail "JSON taps"
     if command -v python3 >/dev/null; then
@@ -66,28 +66,28 @@ else
 fi
 
 # 5. -o writes the file whole; an unwritable path fails with exit 4 and leaves nothing.
-"$kilter" flow "$ieee13" --carson approx --format csv -o "$work/o.csv" >/dev/null 2>&1 || fail "-o exited $?"
+"$kilter" flow "$ieee13" --earth-return modified --format csv -o "$work/o.csv" >/dev/null 2>&1 || fail "-o exited $?"
 cmp -s "$work/o.csv" "$work/buses.csv" || fail "-o output differs from standard output"
-"$kilter" flow "$ieee13" --carson approx -o "$work/nodir/x.csv" >/dev/null 2>&1
+"$kilter" flow "$ieee13" --earth-return modified -o "$work/nodir/x.csv" >/dev/null 2>&1
 [ $? -eq 4 ] || fail "unwritable -o should exit 4"
 [ -e "$work/nodir" ] && fail "unwritable -o left something behind"
 # the output is streamed to FILE.tmp.PID and renamed: when the rename fails (FILE
 # is a directory) the command fails and no temporary file is left
 mkdir "$work/adir"
-"$kilter" flow "$ieee13" --carson approx --format csv -o "$work/adir" >/dev/null 2>&1
+"$kilter" flow "$ieee13" --earth-return modified --format csv -o "$work/adir" >/dev/null 2>&1
 [ $? -eq 4 ] || fail "-o onto a directory should exit 4"
 [ -d "$work/adir" ] || fail "-o onto a directory replaced it"
 ls "$work" | grep -q '\.tmp\.' && fail "a failed -o left its temporary file"
 
 # 6. Bad usage exits 64 with a message.
-"$kilter" flow "$ieee13" --carson approx --solver magic >/dev/null 2>"$work/err"
+"$kilter" flow "$ieee13" --earth-return modified --solver magic >/dev/null 2>"$work/err"
 [ $? -eq 64 ] || fail "--solver magic should exit 64"
 grep -q "sweep or nodal" "$work/err" || fail "--solver message"
-"$kilter" flow "$ieee13" --carson approx --table nodes >/dev/null 2>&1
+"$kilter" flow "$ieee13" --earth-return modified --table nodes >/dev/null 2>&1
 [ $? -eq 64 ] || fail "--table nodes should exit 64"
 
 # 7. Load far beyond the feeder's capability: exit 3, says so, prints no results.
-"$kilter" flow "$ieee13" --carson approx --load-scale 40 >"$work/out" 2>"$work/err"
+"$kilter" flow "$ieee13" --earth-return modified --load-scale 40 >"$work/out" 2>"$work/err"
 [ $? -eq 3 ] || fail "--load-scale 40 should exit 3 (did not converge)"
 grep -q "did not converge" "$work/err" || fail "non-convergence message: $(cat "$work/err")"
 [ -s "$work/out" ] && fail "non-converged run printed results"
@@ -95,12 +95,12 @@ grep -q "did not converge" "$work/err" || fail "non-convergence message: $(cat "
 # 8. The demo feeder solves.
 "$kilter" flow >/dev/null 2>"$work/err" || { fail "demo feeder: exit $?"; cat "$work/err"; }
 
-# 9. Carson's equations: the full series is the default on every command (issue 3: "Default to
-#    (b)"), the approximate form is selectable, and the two give different (close) voltages.
+# 9. Earth return: Carson's complete series is the default on every command (issue 3: "Default to
+#    (b)"), the modified form (first terms) is selectable, and the two give different (close) voltages.
 "$kilter" flow "$ieee13" --format csv >"$work/full.csv" 2>/dev/null || fail "default form: exit $?"
-cmp -s "$work/full.csv" "$work/buses.csv" && fail "default form gave the approximate form's numbers"
-"$kilter" flow "$ieee13" --carson exact >/dev/null 2>&1
-[ $? -eq 64 ] || fail "--carson exact should be a usage error (64)"
+cmp -s "$work/full.csv" "$work/buses.csv" && fail "default form gave the modified form's numbers"
+"$kilter" flow "$ieee13" --earth-return exact >/dev/null 2>&1
+[ $? -eq 64 ] || fail "--earth-return exact should be a usage error (64)"
 
 if [ "$fails" -ne 0 ]; then
     echo "$fails failure(s)"

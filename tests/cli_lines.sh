@@ -2,14 +2,14 @@
 # kilter lines: the command on the IEEE 13-node reference feeder and on small feeders.
 #   bash tests/cli_lines.sh KILTER_BINARY SOURCE_DIR
 # Checks that:
-#  - the CSV has the documented header and, with --carson approx, reproduces
+#  - the CSV has the documented header and, with --earth-return modified, reproduces
 #    published elements of the IEEE 13-node configurations 601, 602, 606 (Z within
 #    0.1 % or 0.0005 ohm/mile, B within 0.1 %, 606 B within 0.5 %; IEEE PES 13-node
 #    test feeder data sheet);
-#  - the default (full series) differs from --carson approx (they are different forms);
+#  - the default (complete series) differs from --earth-return modified (they are different forms);
 #  - JSON parses (when python3 is present) and -o writes the same bytes as stdout;
 #  - a feeder in SI units prints _per_km columns;
-#  - overlapping cables are a located error (exit 2), a bad --carson is a usage error (64).
+#  - overlapping cables are a located error (exit 2), a bad --earth-return is a usage error (64).
 set -u
 kilter=$1
 src=$2
@@ -19,7 +19,7 @@ fails=0
 fail() { echo "FAIL: $*"; fails=$((fails + 1)); }
 ieee="$src/feeders/reference/ieee-13-node.yaml"
 
-"$kilter" lines "$ieee" --carson approx --format csv >"$work/approx.csv" || fail "kilter lines --format csv"
+"$kilter" lines "$ieee" --earth-return modified --format csv >"$work/approx.csv" || fail "kilter lines --format csv"
 head -1 "$work/approx.csv" | grep -qx 'name,row,col,r_ohm_per_mile,x_ohm_per_mile,b_us_per_mile' ||
     fail "CSV header: $(head -1 "$work/approx.csv")"
 
@@ -48,7 +48,7 @@ grep -q '^603,a,' "$work/approx.csv" && fail "603 has no phase a but a row for i
 expect 607 a a 1.3425 0.5124 88.9912 0.0001
 
 "$kilter" lines "$ieee" --format csv >"$work/full.csv" || fail "kilter lines (full)"
-cmp -s "$work/full.csv" "$work/approx.csv" && fail "--carson full and approx gave the same numbers"
+cmp -s "$work/full.csv" "$work/approx.csv" && fail "--earth-return complete and modified gave the same numbers"
 
 "$kilter" lines "$ieee" --format json >"$work/out.json" || fail "kilter lines --format json"
 if command -v python3 >/dev/null; then
@@ -97,9 +97,9 @@ grep -q 'bad.yaml:[0-9]*:[0-9]*: construction ug95: .*overlap' "$work/bad.err" |
     fail "overlapping cables: message not located: $(cat "$work/bad.err")"
 [ -s "$work/bad.out" ] && fail "overlapping cables: numbers printed anyway"
 
-"$kilter" lines "$ieee" --carson bogus >/dev/null 2>&1
+"$kilter" lines "$ieee" --earth-return bogus >/dev/null 2>&1
 rc=$?
-[ $rc -eq 64 ] || fail "--carson bogus: exit $rc, expected 64"
+[ $rc -eq 64 ] || fail "--earth-return bogus: exit $rc, expected 64"
 
 [ $fails -eq 0 ] && echo "cli_lines: all checks passed"
 exit $((fails > 0))

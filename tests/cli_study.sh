@@ -26,11 +26,11 @@ fails=0
 fail() { echo "FAIL: $*"; fails=$((fails + 1)); }
 
 # 1. IEEE 13-node table and CSV.
-"$kilter" study "$ieee" --carson approx >"$work/t.out" 2>"$work/t.err" || fail "study on IEEE 13-node exited $?"
+"$kilter" study "$ieee" --earth-return modified >"$work/t.out" 2>"$work/t.err" || fail "study on IEEE 13-node exited $?"
 grep -q "^Summary" "$work/t.out" || fail "no summary"
 grep -q "^Limits broken" "$work/t.out" || fail "no limits section"
 grep -q "review by a licensed engineer" "$work/t.out" || fail "no caution line"
-"$kilter" study "$ieee" --carson approx --format csv >"$work/b.csv" || fail "csv exited $?"
+"$kilter" study "$ieee" --earth-return modified --format csv >"$work/b.csv" || fail "csv exited $?"
 head -1 "$work/b.csv" | grep -q "^bus,phases,va_pu,vb_pu,vc_pu,v0_pu,v1_pu,v2_pu,vuf_pct,v0_v1_pct,lvur_pct,pvur_pct," \
   || fail "CSV header: $(head -1 "$work/b.csv")"
 vuf=$(awk -F, '$1 == "675" { print $9 }' "$work/b.csv")
@@ -48,7 +48,7 @@ ref=$(awk 'BEGIN { pi = atan2(0, -1); m[0] = 0.9835; m[1] = 1.0553; m[2] = 0.975
 awk -v a="$vuf" -v b="$ref" 'BEGIN { d = a - b; if (d < 0) d = -d; exit !(a != "" && d <= 0.23) }' \
   || fail "VUF at 675: kilter '$vuf' %, published phasors give $ref %"
 for t in sections neutrals runs contributors; do
-  "$kilter" study "$ieee" --carson approx --format csv --table "$t" >"$work/$t.csv" || fail "--table $t exited $?"
+  "$kilter" study "$ieee" --earth-return modified --format csv --table "$t" >"$work/$t.csv" || fail "--table $t exited $?"
   [ "$(wc -l <"$work/$t.csv")" -ge 2 ] || fail "--table $t has no rows"
 done
 
@@ -59,8 +59,8 @@ grep -q "unbalance rate (LVUR): measured 1.09 %" "$work/c.out" || fail "LVUR of 
 grep -q "closed form): measured 1.09 %" "$work/c.out" || fail "closed-form VUF of 462/463/455 V"
 grep -q "Top contributors" "$work/c.out" || fail "--at lists no contributors"
 # A reading equal to the model's line magnitudes agrees.
-mags=$("$kilter" study "$ieee" --carson approx --at 675 | awk '/^  V(ab|bc|ca) / { printf "%s%s", sep, $2; sep = "," }')
-"$kilter" study "$ieee" --carson approx --at 675 --measured-line "$mags" >"$work/m.out" || fail "--measured-line $mags exited $?"
+mags=$("$kilter" study "$ieee" --earth-return modified --at 675 | awk '/^  V(ab|bc|ca) / { printf "%s%s", sep, $2; sep = "," }')
+"$kilter" study "$ieee" --earth-return modified --at 675 --measured-line "$mags" >"$work/m.out" || fail "--measured-line $mags exited $?"
 grep -q "magnitudes AGREE" "$work/m.out" && grep -q "VUF AGREES" "$work/m.out" \
   || fail "model's own magnitudes ($mags) do not agree with the model"
 
@@ -70,7 +70,7 @@ grep -q "voltage unbalance over" "$work/d.out" || fail "demo breaks no unbalance
 grep -q "^Contributors to the negative-sequence voltage" "$work/d.out" || fail "demo names no contributors"
 
 # 4. JSON.
-"$kilter" study "$ieee" --carson approx --format json >"$work/j.json" || fail "json exited $?"
+"$kilter" study "$ieee" --earth-return modified --format json >"$work/j.json" || fail "json exited $?"
 for k in '"summary"' '"buses"' '"sections"' '"neutral_runs"' '"contributors"' '"caution"'; do
   grep -q "$k" "$work/j.json" || fail "JSON lacks $k"
 done
@@ -79,21 +79,21 @@ if command -v python3 >/dev/null 2>&1; then
 fi
 
 # 5. Files written whole.
-"$kilter" study "$ieee" --carson approx --format csv -o "$work/out.csv" --html "$work/r.html" || fail "-o/--html exited $?"
+"$kilter" study "$ieee" --earth-return modified --format csv -o "$work/out.csv" --html "$work/r.html" || fail "-o/--html exited $?"
 [ -s "$work/out.csv" ] || fail "-o wrote nothing"
 grep -qi "<html" "$work/r.html" || fail "--html wrote no HTML"
 ls "$work" | grep -q tmp && fail "temporary file left behind"
 
 # 6. Bad input.
-"$kilter" study "$ieee" --carson approx --at nosuch >/dev/null 2>"$work/e1"; rc=$?
+"$kilter" study "$ieee" --earth-return modified --at nosuch >/dev/null 2>"$work/e1"; rc=$?
 [ "$rc" -eq 2 ] && grep -q "nosuch" "$work/e1" || fail "unknown bus: exit $rc, $(cat "$work/e1")"
-"$kilter" study "$ieee" --carson approx --at 675 --measured-line "4000,4100" >/dev/null 2>"$work/e2"; rc=$?
+"$kilter" study "$ieee" --earth-return modified --at 675 --measured-line "4000,4100" >/dev/null 2>"$work/e2"; rc=$?
 [ "$rc" -eq 64 ] && grep -q "three positive voltages" "$work/e2" || fail "two readings: exit $rc"
-"$kilter" study "$ieee" --carson approx --at 675 --measured-phase "50,50,50" >/dev/null 2>"$work/e3"; rc=$?
+"$kilter" study "$ieee" --earth-return modified --at 675 --measured-phase "50,50,50" >/dev/null 2>"$work/e3"; rc=$?
 [ "$rc" -eq 2 ] && grep -q "120 V base" "$work/e3" || fail "readings on no base: exit $rc, $(cat "$work/e3")"
-"$kilter" study "$ieee" --carson approx --range C >/dev/null 2>&1; rc=$?
+"$kilter" study "$ieee" --earth-return modified --range C >/dev/null 2>&1; rc=$?
 [ "$rc" -eq 64 ] || fail "--range C: exit $rc"
-"$kilter" study "$ieee" --carson approx --limit-unbalance -1 >/dev/null 2>&1; rc=$?
+"$kilter" study "$ieee" --earth-return modified --limit-unbalance -1 >/dev/null 2>&1; rc=$?
 [ "$rc" -eq 64 ] || fail "--limit-unbalance -1: exit $rc"
 printf 'kilter-feeder: 1\nname: x\nsource: {bus: a, nominal_voltage: 12 kV, frequency: 60 Hz}\nsections:\n  - {from: a, to: b, length: 1 ft, construction: nope}\n' >"$work/bad.yaml"
 "$kilter" study "$work/bad.yaml" >/dev/null 2>"$work/e4"; rc=$?

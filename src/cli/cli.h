@@ -69,12 +69,14 @@ const char *kl_cli_demo_path(void);
 /* Loads a->feeder, printing the errors; 0 or an exit code. */
 int kl_cli_load(const kl_cli_args *a, kl_feeder **f);
 
-/* The form of Carson's equations named by --carson (NULL: the default, the
- * full series, as issue 3 and `kilter lines` have it).  0, or 64 after
- * printing what was expected. */
+/* The form of Carson's earth-return terms named by --earth-return (NULL: the
+ * default, the complete series).  0, or 64 after printing the accepted values.
+ * The old spelling --carson full|approx is read by kl_cli_parse until 0.2. */
 int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form);
-#define KL_CLI_CARSON_OPT { "carson", 1, "full|approx", \
-    "form of Carson's equations: full series (default) or the approximate 60 Hz form of published tables" }
+/* The form as outputs name it: "complete" or "modified". */
+const char *kl_cli_carson_name(kl_carson_form form);
+#define KL_CLI_EARTH_RETURN_OPT { "earth-return", 1, "complete|modified", \
+    "Carson's earth-return terms: complete series (default) or modified (first terms only)" }
 
 /* Output helpers: a JSON string with escapes; a CSV field quoted when needed. */
 void kl_cli_json_str(FILE *f, const char *s);

@@ -85,9 +85,44 @@ static int own_option(kl_cli_args *a, const char *arg, int argc, char **argv, in
     return KL_EXIT_USAGE;
 }
 
+/* The spelling of kilter 0.1, `--carson full|approx`, read as `--earth-return
+ * complete|modified` with a note on standard error; it goes in kilter 0.2
+ * (docs/command-line.md says so).  Only commands that take --earth-return. */
+static int old_carson(kl_cli_args *a, const char *arg, int argc, char **argv, int *i,
+                      const kl_cli_opt *opts, int nopts)
+{
+    const char *v;
+    int k;
+    for (k = 0; k < nopts && k < KL_CLI_MAX_OPTS; k++)
+        if (strcmp(opts[k].name, "earth-return") == 0)
+            break;
+    if (k == nopts || k == KL_CLI_MAX_OPTS)
+        return own_option(a, arg, argc, argv, i, opts, nopts); /* unknown here */
+    v = option_value(arg, argc, argv, i);
+    if (!v) {
+        kl_cli_error("%s: option --carson needs a value (deprecated: use --earth-return "
+                     "complete|modified)", a->cmd);
+        return KL_EXIT_USAGE;
+    }
+    if (strcmp(v, "full") == 0)
+        a->val[k] = "complete";
+    else if (strcmp(v, "approx") == 0)
+        a->val[k] = "modified";
+    else {
+        kl_cli_error("%s: unknown --carson '%s': expected full or approx (deprecated: use "
+                     "--earth-return complete|modified)", a->cmd, v);
+        return KL_EXIT_USAGE;
+    }
+    kl_cli_error("%s: --carson %s is deprecated and goes in kilter 0.2: use --earth-return %s",
+                 a->cmd, v, a->val[k]);
+    return -1;
+}
+
 static int one_arg(kl_cli_args *a, int argc, char **argv, int *i, const kl_cli_opt *opts, int nopts)
 {
     const char *arg = argv[*i], *v;
+    if (strcmp(arg, "--carson") == 0 || strncmp(arg, "--carson=", 9) == 0)
+        return old_carson(a, arg, argc, argv, i, opts, nopts);
     if (strcmp(arg, "--format") == 0 || strncmp(arg, "--format=", 9) == 0) {
         v = option_value(arg, argc, argv, i);
         if (!v) {
@@ -255,15 +290,21 @@ void kl_cli_csv_str(FILE *f, const char *s)
 
 int kl_cli_carson_form(const char *cmd, const char *value, kl_carson_form *form)
 {
-    if (!value || strcmp(value, "full") == 0)
+    if (!value || strcmp(value, "complete") == 0)
         *form = KL_CARSON_FULL;
-    else if (strcmp(value, "approx") == 0)
+    else if (strcmp(value, "modified") == 0)
         *form = KL_CARSON_APPROX;
     else {
-        kl_cli_error("%s: unknown --carson '%s': expected full or approx", cmd, value);
+        kl_cli_error("%s: unknown --earth-return '%s': expected complete (Carson's full series) "
+                     "or modified (its first terms)", cmd, value);
         return KL_EXIT_USAGE;
     }
     return 0;
+}
+
+const char *kl_cli_carson_name(kl_carson_form form)
+{
+    return form == KL_CARSON_FULL ? "complete" : "modified";
 }
 
 void kl_cli_json_num(FILE *f, double x)

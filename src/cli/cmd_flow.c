@@ -15,12 +15,12 @@
 
 static const char PH[3] = {'a', 'b', 'c'};
 
-enum { OPT_TABLE, OPT_SOLVER, OPT_CARSON, OPT_SCALE, NOPTS };
+enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"table", 1, "buses|sections", "which table to print (default buses; JSON holds both)"},
     {"solver", 1, "sweep|nodal", "backward/forward sweep (default) or the nodal solver"},
-    KL_CLI_CARSON_OPT,
+    KL_CLI_EARTH_RETURN_OPT,
     {"load-scale", 1, "X", "multiply every load by X (default 1)"},
 };
 
@@ -134,7 +134,7 @@ static int read_options(const kl_cli_args *a, kl_flow_options *o, kl_carson_form
 {
     kl_flow_options_default(o);
     *sections = 0;
-    const char *t = a->val[OPT_TABLE], *s = a->val[OPT_SOLVER], *c = a->val[OPT_CARSON];
+    const char *t = a->val[OPT_TABLE], *s = a->val[OPT_SOLVER], *c = a->val[OPT_EARTH_RETURN];
     if (t && strcmp(t, "buses") && strcmp(t, "sections")) {
         kl_cli_error("flow: unknown table '%s': expected buses or sections", t);
         return KL_EXIT_USAGE;

@@ -211,7 +211,7 @@ static void print_json(FILE *o, const kl_feeder *f, const unsigned char *used, p
     int first = 1;
     fprintf(o, "{\n  \"feeder\": ");
     kl_cli_json_str(o, f->name);
-    fprintf(o, ",\n  \"frequency_hz\": %.10g, \"carson\": \"%s\",\n", f->source.freq_hz, form);
+    fprintf(o, ",\n  \"frequency_hz\": %.10g, \"earth_return\": \"%s\",\n", f->source.freq_hz, form);
     fprintf(o, "  \"units\": {\"z\": \"ohm/%s\", \"b\": \"uS/%s\", \"tn\": \"1\"},\n", u.len, u.len);
     fprintf(o, "  \"constructions\": [\n");
     for (int n = 0; n < f->nconstructions; n++) {
@@ -228,14 +228,15 @@ static void print_all(FILE *o, const kl_cli_args *a, kl_feeder *f, const unsigne
                       kl_carson_form form)
 {
     print_units u = units_of(f);
-    const char *fname = form == KL_CARSON_FULL ? "full" : "approx";
+    const char *fname = kl_cli_carson_name(form);
     if (a->format == KL_FMT_CSV) {
         print_csv(o, f, used, u);
     } else if (a->format == KL_FMT_JSON) {
         print_json(o, f, used, u, fname);
     } else {
         fprintf(o, "feeder %s: line constructions at %g Hz, Carson's equations (%s)\n\n", f->name,
-                f->source.freq_hz, form == KL_CARSON_FULL ? "full series" : "approximate form");
+                f->source.freq_hz, form == KL_CARSON_FULL ? "complete earth-return series"
+                                                          : "modified: first earth-return terms");
         for (int n = 0; n < f->nconstructions; n++)
             if (used[n])
                 print_table_one(o, f, &f->constructions[n], u);
@@ -244,9 +245,7 @@ static void print_all(FILE *o, const kl_cli_args *a, kl_feeder *f, const unsigne
 
 int kl_cmd_lines(int argc, char **argv)
 {
-    static const kl_cli_opt opts[] = {
-        {"carson", 1, "full|approx",
-         "Carson's earth-return terms: full series (default) or the approximate 60 Hz form"}};
+    static const kl_cli_opt opts[] = {KL_CLI_EARTH_RETURN_OPT};
     kl_cli_args a;
     kl_feeder *f = NULL;
     kl_cli_out out;

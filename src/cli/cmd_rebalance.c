@@ -20,7 +20,7 @@
 
 enum { OPT_OBJ, OPT_AT, OPT_MOVES, OPT_BUDGET, OPT_LEVELS, OPT_RANGE, OPT_SEARCH, OPT_TIME,
        OPT_SEED, OPT_PIN, OPT_FORBID, OPT_COST, OPT_RULES, OPT_WRITE, OPT_ITEMS, OPT_HTML,
-       OPT_CARSON, NOPTS };
+       OPT_EARTH_RETURN, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"objective", 1, "NAME[=W],...", "neutral, vuf, losses, current, drop; weighted with =W "
@@ -40,7 +40,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"write-feeder", 1, "FILE", "write the rebalanced feeder file (atomically)"},
     {"items", 0, NULL, "list the movable items and stop"},
     {"html", 1, "FILE", "also write the HTML study report with the plan to FILE"},
-    KL_CLI_CARSON_OPT,
+    KL_CLI_EARTH_RETURN_OPT,
 };
 
 static const char *CAUTION =
@@ -491,7 +491,7 @@ static int run(const kl_cli_args *a, kl_feeder *f, kl_rebalance_options *o, kl_e
     kl_rebalance_plan *plan = NULL;
     kl_progress prog;
     kl_carson_form carson;
-    int rc = kl_cli_carson_form("rebalance", a->val[OPT_CARSON], &carson);
+    int rc = kl_cli_carson_form("rebalance", a->val[OPT_EARTH_RETURN], &carson);
     if (rc)
         return rc;
     kl_status st = kl_lines_derive(f, carson, e);

@@ -16,7 +16,7 @@
 
 enum { OPT_AT, OPT_MPHASE, OPT_MLINE, OPT_TOL, OPT_VUFTOL, OPT_LIMIT, OPT_LEVEL, OPT_RANGE,
        OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_SCALE, OPT_MAP,
-       OPT_CARSON, NOPTS };
+       OPT_EARTH_RETURN, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     { "at", 1, "BUS", "complaint check: a focused report for this bus" },
@@ -35,7 +35,7 @@ static const kl_cli_opt opts[NOPTS] = {
     { "html", 1, "FILE", "also write the HTML report to FILE" },
     { "load-scale", 1, "X", "multiply every load by X (default 1)" },
     { "map", 1, "vuf|neutral|voltage", "what colours the HTML report's feeder map (default vuf)" },
-    KL_CLI_CARSON_OPT,
+    KL_CLI_EARTH_RETURN_OPT,
 };
 
 typedef struct {
@@ -45,7 +45,7 @@ typedef struct {
     int range_b;
     kl_study_table table;
     int map_index;     /* --map: kl_map_index of the HTML report */
-    kl_carson_form carson; /* --carson */
+    kl_carson_form carson; /* --earth-return */
 } study_args;
 
 /* A positive finite number; pct: a percentage turned into a fraction. */
@@ -157,7 +157,7 @@ static int read_options(const kl_cli_args *a, study_args *x)
         return rc;
     if (a->val[OPT_SCALE] && (rc = read_num(a->val[OPT_SCALE], "load-scale", 0, &x->fo.load_scale)))
         return rc;
-    if ((rc = kl_cli_carson_form("study", a->val[OPT_CARSON], &x->carson)))
+    if ((rc = kl_cli_carson_form("study", a->val[OPT_EARTH_RETURN], &x->carson)))
         return rc;
     x->map_index = a->val[OPT_MAP] ? kl_map_index_parse(a->val[OPT_MAP]) : KL_MAP_BY_VUF;
     if (x->map_index < 0) {
