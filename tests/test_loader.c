@@ -12,6 +12,16 @@
 #include "kilter/feeder.h"
 #include "kl_io.h"
 
+#if defined(__SANITIZE_ADDRESS__)
+/* A pointer kept to a returned function's local buffer reads as a stack use
+ * after return only with fake stack frames, off by default in GCC 12's ASan. */
+const char *__asan_default_options(void);
+const char *__asan_default_options(void)
+{
+    return "detect_stack_use_after_return=1";
+}
+#endif
+
 #define HEAD \
     "kilter-feeder: 1\n"                                                                      /* 1 */ \
     "name: t\n"                                                                               /* 2 */ \
@@ -163,6 +173,38 @@ START_TEST(duplicates)
     ck_assert_int_eq(load_text(t), KL_EINPUT);
     expect_error(17, col_of(t, 17, "s1"), "section \"s1\"", "duplicate name", NULL);
     expect_error(20, col_of(t, 20, "b1"), "bus \"b1\"", "duplicate name", NULL);
+}
+END_TEST
+
+/* Issue 14, defect 1: an element whose default name (from-to, load-N) is a
+ * duplicate, with a further problem of its own.  The label of that second
+ * message used to point into the naming function's dead stack frame (the
+ * sanitizer build reads it as a stack use after return, see
+ * __asan_default_options below; the release build printed whatever the
+ * frame held by then). */
+START_TEST(duplicate_default_names_label)
+{
+    const char *t = "kilter-feeder: 1\nsource: {bus: sub, nominal_voltage: 12.47 kV}\n"   /* 1-2 */
+                    "sections:\n"                                                            /* 3 */
+                    "  - {from: sub, to: b1, switch: closed}\n"                              /* 4 */
+                    "  - {from: sub, to: b1, switch: shut}\n"                                /* 5 */
+                    "loads:\n"                                                               /* 6 */
+                    "  - {name: load-2, bus: b1, power: {a: 10 kVA}}\n"                      /* 7 */
+                    "  - {bus: b1, power: {a: 10 kVA}, model: zap}\n"                        /* 8 */
+                    "capacitors:\n"                                                          /* 9 */
+                    "  - {name: capacitor-2, bus: b1, reactive_power: {a: 10 kvar}}\n"       /* 10 */
+                    "  - {bus: b1, reactive_power: {a: 10 kvar}, connection: zig}\n";        /* 11 */
+    int i;
+    ck_assert_int_eq(load_text(t), KL_EINPUT);
+    expect_error(5, 5, "section \"sub-b1\"", "duplicate name", NULL);
+    expect_error(5, col_of(t, 5, "shut"), "section \"sub-b1\"", "'switch' cannot be 'shut'", NULL);
+    expect_error(8, 5, "load \"load-2\"", "duplicate name", NULL);
+    expect_error(8, col_of(t, 8, "zap"), "load \"load-2\"", "'model' cannot be 'zap'", NULL);
+    expect_error(11, 5, "capacitor \"capacitor-2\"", "duplicate name", NULL);
+    expect_error(11, col_of(t, 11, "zig"), "capacitor \"capacitor-2\"", "'connection' cannot be 'zig'", NULL);
+    for (i = 0; i < err.count; i++) /* every label printable: no bytes of a dead frame */
+        for (const char *c = err.items[i].element; *c; c++)
+            ck_assert_msg(*c >= ' ' && *c < 127, "label of message %d: byte 0x%02x", i, (unsigned char)*c);
 }
 END_TEST
 
@@ -480,6 +522,7 @@ int main(void)
     tcase_add_test(tc, units_missing_and_unknown);
     tcase_add_test(tc, non_positive);
     tcase_add_test(tc, duplicates);
+    tcase_add_test(tc, duplicate_default_names_label);
     tcase_add_test(tc, unknown_references);
     tcase_add_test(tc, position_not_in_layout);
     tcase_add_test(tc, section_phases_not_in_construction);

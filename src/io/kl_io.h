@@ -117,8 +117,9 @@ typedef struct {
     const char *file;
     int nerr;               /* problems this load has reported */
     int nomem;
-    const char *elem_kind;  /* the element being read, for messages (kl_ld_label) */
-    const char *elem_name;
+    const char *elem_kind;  /* the element being read, for messages (kl_ld_label): a literal */
+    char elem_name[124];    /* its name, copied (the label prints 120 bytes at most): a pointer
+                             * kept here outlived the naming helpers' buffers (issue 14) */
     int elem_index;
     kl_name_hint name_hint;  /* the element's own name, looked up and not found */
     char elem[160];         /* its label, formatted when a problem is reported */

@@ -38,18 +38,26 @@ void kl_ld_error_at(kl_loader *L, int line, int col, const char *fmt, ...)
 }
 
 /* Only remembered here: the label is formatted when a problem is reported,
- * which keeps a million clean elements from paying for a million snprintf. */
+ * which keeps a million clean elements from paying for a million snprintf.
+ * The name is copied, never kept as a pointer: callers pass names from
+ * buffers of their own (a default name being made, the reader's node pool)
+ * that are gone before the element's last message. */
 void kl_ld_label(kl_loader *L, const char *kind, const char *name, int index)
 {
+    size_t n = 0;
     L->elem_kind = kind;
-    L->elem_name = name;
     L->elem_index = index;
+    if (name)
+        while (n < sizeof L->elem_name - 1 && name[n])
+            n++;
+    memcpy(L->elem_name, name ? name : "", n);
+    L->elem_name[n] = '\0';
 }
 
 static const char *label(kl_loader *L)
 {
     const char *kind = L->elem_kind ? L->elem_kind : "";
-    if (L->elem_name && L->elem_name[0])
+    if (L->elem_name[0])
         snprintf(L->elem, sizeof L->elem, "%s \"%.120s\"", kind, L->elem_name);
     else if (L->elem_index >= 0 && kind[0])
         snprintf(L->elem, sizeof L->elem, "%s #%d", kind, L->elem_index + 1);
@@ -203,7 +211,7 @@ static void label_by_name(kl_loader *L, const kl_ynode *m)
         const kl_ynode *k = kl_ynode_at(L->r, key), *v = kl_ynode_at(L->r, k->next);
         const char *t = kl_ynode_text(L->r, key);
         if (t[0] == 'n' && strcmp(t, "name") == 0 && v->kind == KL_YSCALAR)
-            L->elem_name = kl_ynode_text(L->r, k->next);
+            kl_ld_label(L, L->elem_kind, kl_ynode_text(L->r, k->next), L->elem_index);
     }
 }
 

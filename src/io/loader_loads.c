@@ -40,7 +40,6 @@ static const char *elem_name(kl_loader *L, const kl_fields *fl, const char *kind
         return NULL;
     }
     n = kl_ld_strdup(L, n);
-    kl_ld_label(L, kind, n, i); /* buf goes out of scope */
     if (n && kl_names_add_hint(t, n, i, &hint) != KL_OK)
         L->nomem = 1;
     return n;

@@ -231,7 +231,6 @@ static const char *const switch_states[] = {"open", "closed", NULL};
 static const char *section_name(kl_loader *L, const kl_fields *fl, int i)
 {
     char buf[300];
-    const char *n;
     if (fl->val[SE_NAME] >= 0)
         return named(L, fl, SE_NAME, "section", i, &L->h_sec, 0);
     if (fl->val[SE_FROM] < 0 || fl->val[SE_TO] < 0)
@@ -243,9 +242,7 @@ static const char *section_name(kl_loader *L, const kl_fields *fl, int i)
         kl_ld_error(L, fl->map, "duplicate name: a section called '%s' exists already: give this one a 'name'", buf);
         return NULL;
     }
-    n = kl_ld_strdup(L, buf);
-    kl_ld_label(L, "section", n, i); /* buf goes out of scope */
-    return n;
+    return kl_ld_strdup(L, buf);
 }
 
 static void section_kind(kl_loader *L, kl_section *s, const kl_fields *fl, int i)
