@@ -141,7 +141,10 @@ int kl_regulator_control(kl_network *net, int r)
         /* out of band: the steps that bring the relay voltage nearest the voltage
          * level (band centre), at least one toward it (Kersting ch. 7, from memory) */
         if (vr[p] < lo || vr[p] > hi) {
-            int k = (int)lround((rg->voltage_level_v - vr[p]) / step_v);
+            /* clamped before the conversion: a relay voltage far out (a
+             * diverging first iteration) must not overflow int */
+            double kd = round((rg->voltage_level_v - vr[p]) / step_v);
+            int k = isnan(kd) ? 0 : kd > 2.0 * lim ? 2 * lim : kd < -2.0 * lim ? -2 * lim : (int)kd;
             if (k == 0)
                 k = vr[p] < lo ? 1 : -1;
             *t += k;

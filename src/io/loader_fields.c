@@ -358,7 +358,9 @@ int kl_ld_int(kl_loader *L, const kl_fields *fl, int k, int *out, int def, int f
         return missing(L, fl, k, flags);
     if (kl_ld_real_node(L, v, fl->keys[k], KL_Q_NUMBER, &x, flags) < 0)
         return -1;
-    if (x != (double)(int)x || x > 1e9 || x < -1e9) {
+    /* The range first: converting a double outside int's range is undefined
+     * (C11 6.3.1.4p1); !(|x| <= 1e9) also refuses a NaN. */
+    if (!(x >= -1e9 && x <= 1e9) || x != (double)(int)x) {
         kl_ld_error(L, v, "'%s' must be a whole number, got '%s'", fl->keys[k], kl_ynode_text(L->r, v));
         return -1;
     }
