@@ -208,6 +208,44 @@ START_TEST(duplicate_default_names_label)
 }
 END_TEST
 
+/* Issue 14, defect 6: names holding NUL or control characters (YAML escapes
+ * in double-quoted scalars) are refused where they are written, and no
+ * message carries such a byte raw (ECMA-48 5.2: ESC and CSI act on the
+ * terminal the message is printed on). */
+START_TEST(control_characters_in_names)
+{
+    const char *t = "kilter-feeder: 1\nsource: {bus: sub, nominal_voltage: 12.47 kV}\n"                  /* 1-2 */
+                    "sections:\n"                                                                        /* 3 */
+                    "  - {name: \"s\\e[2J1\", from: sub, to: b1, switch: closed}\n"                     /* 4 */
+                    "  - {name: s2, from: b1, to: \"b2\\0b3\", switch: closed}\n"                        /* 5 */
+                    "  - {name: s3, from: b1, to: \"b\\u009b31m4\", switch: \"open\\a\"}\n"              /* 6 */
+                    "buses:\n"                                                                           /* 7 */
+                    "  - {name: b1, description: \"tab\\there\\nand a second line\"}\n"                  /* 8 */
+                    "loads:\n"                                                                           /* 9 */
+                    "  - {name: \"l\\x07\", bus: b1, power: {a: 10 kVA}, description: \"x\\ey\"}\n";   /* 10 */
+    int i;
+    ck_assert_int_eq(load_text(t), KL_EINPUT);
+    expect_error(4, col_of(t, 4, "\"s\\e"), "section", "'name' holds a control character", "0x1B",
+                 "byte 2", NULL);
+    expect_error(5, col_of(t, 5, "\"b2"), "section \"s2\"", "'to' holds a control character", "0x00",
+                 "byte 3", NULL);
+    expect_error(6, col_of(t, 6, "\"b\\u"), "section \"s3\"", "'to' holds a control character", "U+009B", NULL);
+    expect_error(6, col_of(t, 6, "\"open"), "section \"s3\"", "cannot be 'open\\x07'", NULL);
+    expect_error(10, col_of(t, 10, "\"l\\x"), "load", "'name' holds a control character", "0x07", NULL);
+    expect_error(10, col_of(t, 10, "\"x\\e"), "load", "'description' holds a control character", "0x1B", NULL);
+    for (i = 0; i < err.count; i++) { /* the description of b1 (tab, line feed) is free text: no message */
+        const char *m = err.items[i].message, *e = err.items[i].element;
+        ck_assert_msg(err.items[i].line != 8, "b1's description refused: %s", m);
+        for (; *m; m++)
+            ck_assert_msg((unsigned char)*m >= ' ' && *m != 0x7F && !((unsigned char)m[0] == 0xC2 &&
+                          (unsigned char)m[1] < 0xA0), "message %d holds byte 0x%02x", i, (unsigned char)*m);
+        for (; *e; e++)
+            ck_assert_msg((unsigned char)*e >= ' ' && *e != 0x7F && !((unsigned char)e[0] == 0xC2 &&
+                          (unsigned char)e[1] < 0xA0), "label %d holds byte 0x%02x", i, (unsigned char)*e);
+    }
+}
+END_TEST
+
 START_TEST(unknown_references)
 {
     const char *t = HEAD "  - {name: s1, from: sub, to: b1, length: 10 ft, construction: k4}\n"
@@ -523,6 +561,7 @@ int main(void)
     tcase_add_test(tc, non_positive);
     tcase_add_test(tc, duplicates);
     tcase_add_test(tc, duplicate_default_names_label);
+    tcase_add_test(tc, control_characters_in_names);
     tcase_add_test(tc, unknown_references);
     tcase_add_test(tc, position_not_in_layout);
     tcase_add_test(tc, section_phases_not_in_construction);

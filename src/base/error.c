@@ -26,15 +26,49 @@ void kl_errors_clear(kl_errors *e)
     e->dropped = 0;
 }
 
-/* Copies at most n-1 bytes and always terminates (strncpy does neither well). */
-static void copy_str(char *dst, size_t n, const char *src)
+/* Copies at most n-1 bytes and always terminates (strncpy does neither
+ * well), with every byte a terminal could act on written as an escape: C0
+ * controls, DEL and the C1 controls U+0080-U+009F (ECMA-48 5.2: ESC, CSI
+ * and the like, which let a text rewrite the screen it is printed on) become
+ * \xHH or \u00HH, and so does any byte that is not part of well-formed UTF-8
+ * (a lone 0x9B is CSI to an 8-bit terminal).  Names and values quoted in
+ * messages come from the user's file, so every message is kept printable. */
+static void copy_printable(char *dst, size_t n, const char *src)
 {
-    size_t len = src ? strlen(src) : 0;
-    if (len >= n)
-        len = n - 1;
-    if (len)
-        memcpy(dst, src, len);
-    dst[len] = '\0';
+    const unsigned char *s = (const unsigned char *)(src ? src : "");
+    size_t o = 0;
+    while (*s) {
+        unsigned char c = *s;
+        int len = c < 0x80 ? 1 : c >= 0xC2 && c <= 0xDF ? 2 : c >= 0xE0 && c <= 0xEF ? 3
+                : c >= 0xF0 && c <= 0xF4 ? 4 : 0, k;
+        char esc[8];
+        for (k = 1; k < len; k++)
+            if ((s[k] & 0xC0) != 0x80)
+                len = 0; /* ill-formed (and stops at the terminating NUL) */
+        if (len == 1 && c >= 0x20 && c != 0x7F) {
+            if (o + 1 >= n)
+                break;
+            dst[o++] = (char)c;
+        } else if (len > 1 && !(c == 0xC2 && s[1] < 0xA0)) {
+            if (o + (size_t)len >= n)
+                break;
+            memcpy(dst + o, s, (size_t)len);
+            o += (size_t)len;
+        } else {
+            if (len == 2) /* a C1 control, U+0080-U+009F */
+                snprintf(esc, sizeof esc, "\\u%04X", (unsigned)s[1]);
+            else
+                snprintf(esc, sizeof esc, "\\x%02X", (unsigned)c);
+            if (len == 0)
+                len = 1;
+            if (o + strlen(esc) >= n)
+                break;
+            memcpy(dst + o, esc, strlen(esc));
+            o += strlen(esc);
+        }
+        s += len;
+    }
+    dst[o] = '\0';
 }
 
 static kl_status grow(kl_errors *e)
@@ -55,6 +89,7 @@ kl_status kl_errors_add(kl_errors *e, const char *file, int line, int col,
                         const char *element, const char *fmt, ...)
 {
     kl_error_item *it;
+    char msg[sizeof it->message];
     va_list ap;
     if (e->count >= KL_ERRORS_MAX) {
         e->dropped++;
@@ -65,13 +100,14 @@ kl_status kl_errors_add(kl_errors *e, const char *file, int line, int col,
         return KL_ENOMEM;
     }
     it = &e->items[e->count++];
-    copy_str(it->file, sizeof it->file, file);
-    copy_str(it->element, sizeof it->element, element);
+    copy_printable(it->file, sizeof it->file, file);
+    copy_printable(it->element, sizeof it->element, element);
     it->line = line;
     it->col = col;
     va_start(ap, fmt);
-    vsnprintf(it->message, sizeof it->message, fmt, ap);
+    vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
+    copy_printable(it->message, sizeof it->message, msg);
     return KL_OK;
 }
 

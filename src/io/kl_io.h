@@ -143,7 +143,8 @@ typedef struct {
     int val[KL_FIELDS_MAX];    /* value node per key, -1 when absent */
 } kl_fields;
 
-enum { KL_F_REQ = 1, KL_F_POS = 2, KL_F_NONNEG = 4 };
+enum { KL_F_REQ = 1, KL_F_POS = 2, KL_F_NONNEG = 4,
+       KL_F_TEXT = 8 /* kl_ld_str: free text (descriptions), line feeds and tabs allowed */ };
 
 void kl_ld_error(kl_loader *L, int node, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
 void kl_ld_error_at(kl_loader *L, int line, int col, const char *fmt, ...) __attribute__((format(printf, 4, 5)));
@@ -152,6 +153,9 @@ int kl_ld_grow(kl_loader *L, void **arr, int *cap, int n, size_t size);
 const char *kl_ld_strdup(kl_loader *L, const char *s);
 int kl_ld_fields(kl_loader *L, int map, const char *const *keys, kl_fields *fl, const char *what);
 const char *kl_ld_str(kl_loader *L, const kl_fields *fl, int k, int flags);
+/* 0, or -1 after a located message when the scalar at node holds NUL or a
+ * control character (KL_F_TEXT: line feeds and tabs allowed). */
+int kl_ld_printable(kl_loader *L, int node, const char *key, int flags);
 int kl_ld_real(kl_loader *L, const kl_fields *fl, int k, int q, double *out, double def, int flags);
 int kl_ld_real_node(kl_loader *L, int node, const char *key, int q, double *out, int flags);
 int kl_ld_complex_node(kl_loader *L, int node, const char *key, int q, kl_complex *out);

@@ -48,7 +48,7 @@ static void top_scalar(kl_loader *L, int k, int node)
         break;
     case TK_NAME:
     case TK_DESC:
-        if ((t = kl_ld_str(L, &fl, k, 0))) {
+        if ((t = kl_ld_str(L, &fl, k, k == TK_DESC ? KL_F_TEXT : 0))) {
             t = kl_ld_strdup(L, t);
             if (k == TK_NAME)
                 f->name = t;

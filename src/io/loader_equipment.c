@@ -289,6 +289,8 @@ int kl_ld_bus_ref(kl_loader *L, int node, const char *key)
         kl_ld_error(L, node, "'%s' expects a bus name", key);
         return -1;
     }
+    if (kl_ld_printable(L, node, key, 0) < 0)
+        return -1;
     t = kl_ynode_text(L->r, node);
     i = kl_names_find_hint(&L->h_bus, t, (size_t)n->len, &hint);
     if (i >= 0)
@@ -336,7 +338,7 @@ void kl_ld_bus(kl_loader *L, int map)
              kl_ld_real(L, &fl, BU_X, KL_Q_NUMBER, &b->x, 0, 0) == 0 &&
              kl_ld_real(L, &fl, BU_Y, KL_Q_NUMBER, &b->y, 0, 0) == 0)
         b->has_xy = 1;
-    d = kl_ld_str(L, &fl, BU_DESC, 0);
+    d = kl_ld_str(L, &fl, BU_DESC, KL_F_TEXT);
     if (d)
         b->description = kl_ld_strdup(L, d);
 }

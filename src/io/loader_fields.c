@@ -263,6 +263,38 @@ static int expect_scalar(kl_loader *L, int node, const char *key)
     return -1;
 }
 
+/* The first byte of text[0 .. len) that a name may not hold, or -1: NUL,
+ * the C0 controls and DEL, the C1 controls U+0080-U+009F (UTF-8 C2 80 to
+ * C2 9F).  Names reach terminals and reports, where such a byte acts (ESC
+ * and CSI rewrite the screen, ECMA-48 5.2) and a NUL ends the name early.
+ * Free text (KL_F_TEXT) may hold line feeds and tabs. */
+static int bad_byte(const char *text, int len, int flags)
+{
+    const unsigned char *t = (const unsigned char *)text;
+    int i;
+    for (i = 0; i < len; i++) {
+        if ((flags & KL_F_TEXT) && (t[i] == '\n' || t[i] == '\t'))
+            continue;
+        if (t[i] < 0x20 || t[i] == 0x7F || (t[i] == 0xC2 && i + 1 < len && t[i + 1] >= 0x80 && t[i + 1] < 0xA0))
+            return i;
+    }
+    return -1;
+}
+
+int kl_ld_printable(kl_loader *L, int node, const char *key, int flags)
+{
+    const kl_ynode *n = kl_ynode_at(L->r, node);
+    const unsigned char *t = (const unsigned char *)kl_ynode_text(L->r, node);
+    int at = n->kind == KL_YSCALAR ? bad_byte((const char *)t, n->len, flags) : -1;
+    if (at < 0)
+        return 0;
+    kl_ld_error(L, node, "'%s' holds a control character (%s %s%02X at byte %d of the value): "
+                "names and text may not contain NUL, escape or other control characters; remove it",
+                key, t[at] == 0xC2 ? "code point" : "byte", t[at] == 0xC2 ? "U+00" : "0x",
+                t[at] == 0xC2 ? t[at + 1] : t[at], at + 1);
+    return -1;
+}
+
 const char *kl_ld_str(kl_loader *L, const kl_fields *fl, int k, int flags)
 {
     int v = fl->val[k];
@@ -276,6 +308,8 @@ const char *kl_ld_str(kl_loader *L, const kl_fields *fl, int k, int flags)
         kl_ld_error(L, v, "'%s' is empty: give a value", fl->keys[k]);
         return NULL;
     }
+    if (kl_ld_printable(L, v, fl->keys[k], flags) < 0)
+        return NULL;
     return kl_ynode_text(L->r, v);
 }
 

@@ -158,7 +158,7 @@ void kl_ld_load(kl_loader *L, int map)
     if (d->third_harmonic > 1)
         kl_ld_error(L, fl.val[LO_H3], "'third_harmonic' is a share of the fundamental current, 0 to 100 %%");
     load_rebalance(L, d, &fl);
-    if ((t = kl_ld_str(L, &fl, LO_DESC, 0)))
+    if ((t = kl_ld_str(L, &fl, LO_DESC, KL_F_TEXT)))
         d->description = kl_ld_strdup(L, t);
 }
 
