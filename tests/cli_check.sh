@@ -9,7 +9,12 @@ tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 fail() { echo "cli_check: FAIL: $*"; exit 1; }
 
-good="$src/tests/data/good-small.yaml"
+# good-small.yaml has bus b7 beyond the open switch sw2 (the loader's tests of the part beyond an
+# open switch), which the network build refuses; closed here, it is a file every analysis accepts.
+good="$tmp/good-small.yaml"
+sed 's/{name: sw2, from: b4, to: b7, switch: open}/{name: sw2, from: b4, to: b7, switch: closed}/' \
+  "$src/tests/data/good-small.yaml" >"$good"
+grep -q "name: sw2, from: b4, to: b7, switch: closed" "$good" || fail "good-small.yaml: sw2 not found"
 bad="$src/tests/data/broken-phase.yaml"
 
 "$kilter" check "$good" >"$tmp/out" 2>"$tmp/err" || fail "good feeder: exit $?"
@@ -26,6 +31,40 @@ rc=$?
 [ $rc -eq 2 ] || fail "broken feeder: exit $rc, expected 2"
 grep -q "broken-phase.yaml:13:5: section \"s2\": phases 'b' are not all present at its upstream bus 'b1', which has 'ac'" "$tmp/err" \
   || { cat "$tmp/err"; fail "broken feeder message not located"; }
+
+# Issue 14, defect 4: buses beyond an open switch load without error but the network build refuses
+# them; check used to pass such a file (exit 0) that flow then refused.  check now runs the line
+# constants and the network build and reports what flow reports.
+cat >"$tmp/dead-end.yaml" <<'EOF'
+kilter-feeder: 1
+name: dead end beyond an open switch
+source: {bus: sub, nominal_voltage: 12.47 kV}
+conductors:
+  - {name: c1, resistance: 0.3 ohm/mi, gmr: 0.01 ft, diameter: 0.5 in, ampacity: 300 A}
+layouts:
+  - name: l1
+    positions:
+      - {id: "1", x: 0 ft, height: 28 ft}
+      - {id: "2", x: 2 ft, height: 28 ft}
+      - {id: "3", x: 4 ft, height: 28 ft}
+constructions:
+  - {name: k3, layout: l1, phase_conductor: c1, phases: {a: "1", b: "2", c: "3"}}
+sections:
+  - {name: s1, from: sub, to: b1, length: 100 ft, construction: k3}
+  - {name: sw, from: b1, to: b2, switch: open}
+  - {name: s2, from: b2, to: b3, length: 100 ft, construction: k3}
+loads:
+  - {bus: b1, power: {a: 10 kVA}}
+EOF
+"$kilter" flow "$tmp/dead-end.yaml" >"$tmp/out" 2>"$tmp/flow.err"
+[ $? -ne 0 ] || fail "flow accepts the dead end beyond an open switch (the case needs a file flow refuses)"
+"$kilter" check "$tmp/dead-end.yaml" >"$tmp/out" 2>"$tmp/err"
+rc=$?
+[ $rc -eq 2 ] || { cat "$tmp/err"; fail "dead end beyond an open switch: check exit $rc, expected 2 as flow"; }
+[ ! -s "$tmp/out" ] || fail "check printed a summary of a file it refuses"
+grep -q "dead-end.yaml:16:30: bus b2: is not connected to the source bus sub (island beyond open switch sw)" \
+  "$tmp/err" || { cat "$tmp/err"; fail "check: the network build's message is missing or not located"; }
+cmp -s "$tmp/err" "$tmp/flow.err" || { diff "$tmp/err" "$tmp/flow.err"; fail "check and flow say different things"; }
 
 "$kilter" check "$tmp/none.yaml" 2>"$tmp/err"
 [ $? -eq 4 ] || fail "missing file: expected exit 4"

@@ -1,7 +1,11 @@
-/* kilter check: validate a feeder file and summarise what it holds. */
+/* kilter check: validate a feeder file and summarise what it holds.  The
+ * check runs everything the analyses run before they solve (load, line
+ * constants, network build), so a file it passes is one they accept. */
 #include <complex.h>
 #include <stdio.h>
 #include <string.h>
+#include "kilter/lines.h"
+#include "kilter/network.h"
 #include "kilter/units.h"
 #include "cli.h"
 
@@ -168,13 +172,34 @@ static void print_json(FILE *o, const kl_feeder *f, const summary *u)
             f->ntransformers, f->nregulators);
 }
 
+/* What flow, study and rebalance do before they solve: the line constants
+ * (Carson's full form, their default) and the network build.  0, or the exit
+ * code after printing what they found. */
+static int prepare(kl_feeder *f)
+{
+    kl_network *net = NULL;
+    kl_errors e;
+    kl_status st;
+    kl_errors_init(&e);
+    st = kl_lines_derive(f, KL_CARSON_FULL, &e);
+    if (!st)
+        st = kl_network_build(f, &net, &e);
+    kl_cli_print_errors(&e);
+    if (st == KL_ENOMEM && e.count == 0)
+        kl_cli_error("check: out of memory");
+    kl_errors_free(&e);
+    kl_network_free(net);
+    return st ? kl_cli_exit_code(st) : 0;
+}
+
 int kl_cmd_check(int argc, char **argv)
 {
     kl_cli_args a;
     kl_feeder *f = NULL;
     kl_cli_out out;
     summary u;
-    int rc = kl_cli_parse(&a, argc, argv, "Validates a feeder file (every problem, with file:line:column) "
+    int rc = kl_cli_parse(&a, argc, argv, "Validates a feeder file (every problem, with file:line:column), "
+                          "up to what the analyses\ncheck before they solve (line constants, network build), "
                           "and summarises it:\nbuses, sections, line length, connected load and capacitors "
                           "per phase, taps.", NULL, 0);
     if (rc >= 0)
@@ -182,6 +207,10 @@ int kl_cmd_check(int argc, char **argv)
     rc = kl_cli_load(&a, &f);
     if (rc)
         return rc;
+    if ((rc = prepare(f))) {
+        kl_feeder_free(f);
+        return rc;
+    }
     memset(&u, 0, sizeof u);
     summarise(f, &u);
     rc = kl_cli_out_open(&out, a.output);
