@@ -33,6 +33,18 @@ typedef struct {
 extern const ref_ieee4_case ref_ieee4_gry_gry_balanced, ref_ieee4_gry_gry_unbalanced,
     ref_ieee4_delta_gry_unbalanced;
 
+/* Grounded-wye/delta step-down columns ("Gr.Y-Delta"): node 2 line to ground,
+ * node 4 line to line (Vab, Vbc, Vca), and the line 1-2 currents; with the
+ * ungrounded-wye column's line 1-2 currents ("Y-Delta") of the same case. */
+typedef struct {
+    const char *file;
+    ref_ieee4_row node2, node4_ll;
+    double i12_amps[3], i12_deg[3];
+    double i12_ungrounded_amps[3], i12_ungrounded_deg[3];
+} ref_ieee4_gry_delta;
+
+extern const ref_ieee4_gry_delta ref_ieee4_gry_delta_balanced, ref_ieee4_gry_delta_unbalanced;
+
 /* Phase impedance of the 4-wire line (neutral Kron-reduced), ohm/mile, upper
  * triangle aa ab ac bb bc cc: 336,400 26/7 ACSR phases, 4/0 6/1 ACSR neutral,
  * phases at (0, 28) (2.5, 28) (7, 28) ft, neutral at (4, 24) ft, 60 Hz,

@@ -107,6 +107,12 @@ typedef struct kl_network {
                             * transformers: c = 0, d = A^T, and a, b only where A is
                             * invertible (wye-wye, single-phase), zero otherwise: the
                             * sweep uses A, B, c, d only */
+    kl_complex *yg;        /* [9*ndev] shunt at the sending end, by device slot:
+                            * I_from = c V_to + d I_to + yg V_from.  Nonzero only for a
+                            * bank with a grounded-wye source winding and a delta load
+                            * winding: its zero-sequence path to ground, J / (3 Z_t)
+                            * (transformer.c); the same under any cyclic relabelling of
+                            * the phases, so rephasing leaves it alone */
     int *zy_at;            /* [nbranches+nlinks] offset of a line's packed Z in zy, -1 for devices */
     kl_complex *zy;        /* [nzy] packed Z, Y of every line, by branch */
     size_t nzy;            /* entries of zy in use: 2 n^2 per line branch */

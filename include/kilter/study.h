@@ -93,7 +93,9 @@ typedef struct kl_study {
     kl_unb_current *iunb;        /* [nsections] I2/I1, I0/I1 (3-phase sections) */
     kl_complex *i_n1;            /* [nsections] fundamental neutral current, A (NAN: no neutral) */
     kl_complex *i_e;             /* [nsections] earth-return current, A (NAN: not known) */
-    double *i_n3;                /* [nsections] triplen neutral current, A (arithmetic sum) */
+    kl_complex *i3;              /* [3*nsections] sending-end triplen phase currents, A, as
+                                    phasors of the third harmonic (neutral_size.c) */
+    double *i_n3;                /* [nsections] triplen neutral current |sum of i3|, A */
     double *i_n_rms;             /* [nsections] sqrt(|I_n1|^2 + I_n3^2), A (NAN: no neutral) */
     double *neutral_ratio;       /* [nsections] i_n_rms / neutral ampacity, NAN when unknown */
     int *neutral_flag;           /* [nsections] kl_limits_share result: 1 over, 0 within, -1 unknown */

@@ -13,13 +13,20 @@
  * nodal.c, flow.c: the load flow (include/kilter/network.h, flow.h). */
 struct kl_network;
 struct kl_flow_result;
-/* transformer.c: the ideal ratio matrix A (V_load = A V_source - B I_load,
- * I_source = A^T I_load) and B of one bank.  step_up: the source side is the
- * bank's low winding.  Fills the load-side phase mask and line-to-neutral base;
- * returns KL_EINPUT with `why` filled for a connection it cannot model. */
+/* transformer.c: one bank in the generalized form,
+ *   V_load = A V_source - B I_load,   I_source = A^T I_load + Yg V_source,
+ * A the ideal ratio matrix (real), B the leakage impedance seen from the load
+ * side, Yg the grounding path of a grounded-wye source winding facing a delta
+ * (its zero-sequence impedance to ground; zero for every other connection).
+ * step_up: the source side is the bank's low winding.  Fills the load-side
+ * phase mask and line-to-neutral base; returns KL_EINPUT with `why` filled
+ * for a connection it cannot model. */
 kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int step_up,
-                                  kl_complex A[9], kl_complex B[9], int *load_phases,
-                                  double *load_base_ln, char *why, size_t nwhy);
+                                  kl_complex A[9], kl_complex B[9], kl_complex Yg[9],
+                                  int *load_phases, double *load_base_ln, char *why, size_t nwhy);
+/* 1 when the bank's low winding faces the source: the winding whose rating is
+ * nearer the source-side bus's line-to-neutral base (V). */
+int kl_transformer_step_up(const kl_transformer *t, double source_base_ln);
 
 /* regulator.c */
 void kl_regulator_matrices(const kl_regulator *r, const int tap[3], int phases,

@@ -21,7 +21,7 @@ kl_status kl_network_alloc(kl_network *n, const kl_feeder *f, int nbus, int nbr,
     n->br_section = kl_malloc(nr * sizeof(int));
     n->dev = kl_malloc(nr * sizeof(int));
     n->zy_at = kl_malloc(nr * sizeof(int));
-    kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B};
+    kl_complex **m[] = {&n->a, &n->b, &n->c, &n->d, &n->A, &n->B, &n->yg};
     int ok = n->order && n->phases && n->v_base_ln && n->split_phase && n->parent && n->br_from && n->br_to &&
              n->br_kind && n->br_phases && n->br_section && n->dev && n->zy_at;
     for (size_t k = 0; k < sizeof m / sizeof m[0]; k++) {
@@ -78,7 +78,7 @@ void kl_network_free(kl_network *n)
         n->nodal_free(n->nodal); /* the nodal solver's attachment (nodal.c) */
     void *p[] = {n->order, n->phases, n->v_base_ln, n->split_phase, n->parent, n->br_from, n->br_to,
                  n->br_kind, n->br_phases, n->br_section, n->dev, n->a, n->b, n->c, n->d, n->A,
-                 n->B, n->zy_at, n->zy, n->sec_first, n->sec_last, n->loads, n->ld_slot,
+                 n->B, n->yg, n->zy_at, n->zy, n->sec_first, n->sec_last, n->loads, n->ld_slot,
                  n->parts, n->reg_branch, n->tap, n->i_from_link, n->i_to_link, n->pos,
                  n->br_from_pos, n->pos_phases, n->pos_inv_base, n->vs, n->js};
     for (size_t k = 0; k < sizeof p / sizeof p[0]; k++)

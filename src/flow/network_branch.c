@@ -20,20 +20,6 @@ kl_status kl_network_branch_abcd(const kl_network *n, int k, kl_complex a[9],
     return KL_OK;
 }
 
-/* Which winding faces the source: the one whose rating is closer to the
- * source-side bus base (step-up when that is the low winding). */
-static int transformer_step_up(const kl_transformer *t, double base_ln)
-{
-    double lo = t->kv_low * 1000.0, hi = t->kv_high * 1000.0;
-    if (t->low != KL_WINDING_SINGLE && t->low != KL_WINDING_CENTER_TAP)
-        lo /= sqrt(3.0);
-    if (t->high != KL_WINDING_SINGLE)
-        hi /= sqrt(3.0);
-    if (!(lo > 0) || !(hi > 0))
-        return 0;
-    return fabs(log(base_ln / lo)) < fabs(log(base_ln / hi));
-}
-
 kl_status kl_network_branch_device(kl_network *n, int k, const kl_section *sc, kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
@@ -47,8 +33,9 @@ kl_status kl_network_branch_device(kl_network *n, int k, const kl_section *sc, k
         }
         const kl_transformer *t = &f->transformers[sc->device];
         char why[384];
-        int up = transformer_step_up(t, n->v_base_ln[from]);
-        if (kl_transformer_matrices(t, n->br_phases[k], up, A, n->B + 9 * s, &n->phases[to],
+        int up = kl_transformer_step_up(t, n->v_base_ln[from]);
+        if (kl_transformer_matrices(t, n->br_phases[k], up, A, n->B + 9 * s, n->yg + 9 * s,
+                                    &n->phases[to],
                                     &n->v_base_ln[to], why, sizeof why)) {
             kl_network_err(err, f, sc->loc, "section", sc->name, why);
             return KL_EINPUT;

@@ -9,7 +9,8 @@
  *              Y = Zser^-1 on the present phases (pi model; Kersting ch. 6,
  *              from memory), stamped into the KCL rows of both buses;
  *   device k:  V_to - A V_from + B I_to = 0    (the branch's own row)
- *              KCL from += d I_to,  KCL to -= I_to
+ *              KCL from += d I_to (+ yg V_from, a grounding bank's
+ *              zero-sequence path, network.h),  KCL to -= I_to
  *              (the generalized-matrix form of network.h, Kersting ch. 7-8).
  * Why the augmented form for devices: A of a delta/wye bank is singular and
  * B of a regulator or closed switch is zero, so a Y-form primitive would need
@@ -215,6 +216,13 @@ static void stamp_device(kl_nodal *w, const kl_network *n, int k)
                 put(w, ik[p], ik[q], B[3 * p + q]);
         }
     }
+    /* a grounding bank's zero-sequence path: yg V_from into the from-bus KCL
+     * (fixed, never changes with taps) */
+    const kl_complex *yg = n->yg + s;
+    for (int p = 0; p < 3; p++)
+        for (int q = 0; q < 3; q++)
+            if ((mf & (1 << p)) && (mf & (1 << q)) && yg[3 * p + q] != 0)
+                put(w, vf[p], vf[q], yg[3 * p + q]);
 }
 
 static void stamp_source(kl_nodal *w, const kl_network *n)

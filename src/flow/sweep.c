@@ -1,7 +1,8 @@
 /* kilter: the backward/forward sweep (Kersting ch. 10, "ladder iterative
  * technique", from memory).  One iteration:
  *   backward, children before parents:  I_to = J_to (loads + children),
- *                                        I_from = c V_to + d I_to,  J_from += I_from
+ *                                        I_from = c V_to + d I_to (+ yg V_from for
+ *                                        a grounding bank, network.h),  J_from += I_from
  *   forward, parents before children:    V_to = A V_from - B I_to
  * Line branches take the ladder (pi-section) form of the same equations
  * instead, straight from Z and Y (packed by phase count, network.h) with the
@@ -142,6 +143,13 @@ static inline void branch_i_from(const kl_network *n, int k, kl_complex ifr[3])
     } else {
         size_t s = 9 * (size_t)n->dev[k];
         mv2_full(n->c + s, vto, n->d + s, ito, 1.0, ifr);
+        if (n->yg[s] != 0) { /* a grounding bank's zero-sequence path (network.h) */
+            const kl_complex *vfr = n->vs + 3 * (size_t)n->br_from_pos[k];
+            kl_complex g[3];
+            kl_cm3_vec(n->yg + s, vfr, g);
+            for (int p = 0; p < 3; p++)
+                ifr[p] += g[p];
+        }
     }
 }
 

@@ -15,9 +15,31 @@
  * the load side to every current it can carry (positive, negative and, where
  * a path exists, zero sequence), so B = z Z_base U for the three-phase banks.
  *
+ * Grounded-wye source winding, delta load winding (a grounding bank): the
+ * generalized form gains a shunt at the source terminals,
+ *
+ *     I_source = A^T I_load + Yg V_source,   Yg = J / (3 Z_t),
+ *
+ * J the 3x3 matrix of ones, Z_t the unit's leakage impedance referred to
+ * the wye side (z V_LL,source^2 / S, ohm).  Derivation from the winding
+ * equations: unit p sees V_p - Z_t I_p on its wye winding and drives the
+ * delta winding with (V_p - Z_t I_p) / n_w; the delta closes, so the three
+ * winding voltages sum to zero: V_a + V_b + V_c = Z_t (I_a + I_b + I_c), i.e.
+ * I_0 = V_0 / Z_t.  The zero sequence circulates in the delta and never
+ * reaches the load side; the positive and negative sequences pass as in the
+ * ungrounded connection (A, B unchanged).  This is the textbook zero-sequence
+ * equivalent of the bank: the wye side connected to the reference through
+ * Z_0 = Z_t, the delta side open (J. D. Glover, M. S. Sarma, T. J. Overbye,
+ * "Power System Analysis and Design", 5th ed., ch. 8, the zero-sequence
+ * networks of three-phase transformers; Kersting, 4th ed., ch. 8 builds the
+ * ungrounded wye/delta bank; both from memory).  For three
+ * single-phase units Z_0 = Z_1 exactly; a three-phase core-form unit has a
+ * Z_0 somewhat below Z_1 (common practice), which the file cannot state yet.
+ * A grounded-wye winding on the load side needs no shunt: there the zero
+ * sequence is the load's (V_0 = -Z_t I_0 through B, delta/grounded-wye).
+ * The fault study (issue 16) reads the bank's zero-sequence path from Yg.
+ *
  * Simplified (said here and in docs/flow.md):
- * - grounded-wye/delta is solved as ungrounded-wye/delta: the zero-sequence
- *   current such a bank draws as a grounding source is not represented;
  * - open-wye/open-delta: `rating` is the sum of the two units; each unit has
  *   the bank's per-unit impedance on half of it;
  * - center-tapped 120/240 V secondary: legs 1 and 2 are phase slots a and b
@@ -160,9 +182,31 @@ static kl_status line_to_line_unit(const kl_transformer *t, kl_winding wl, int s
     return KL_EINPUT;
 }
 
+/* Which winding faces the source: the one whose rating is closer to the
+ * source-side bus base (step-up when that is the low winding). */
+int kl_transformer_step_up(const kl_transformer *t, double source_base_ln)
+{
+    double lo = t->kv_low * 1000.0, hi = t->kv_high * 1000.0;
+    if (t->low != KL_WINDING_SINGLE && t->low != KL_WINDING_CENTER_TAP)
+        lo /= sqrt(3.0);
+    if (t->high != KL_WINDING_SINGLE)
+        hi /= sqrt(3.0);
+    if (!(lo > 0) || !(hi > 0))
+        return 0;
+    return fabs(log(source_base_ln / lo)) < fabs(log(source_base_ln / hi));
+}
+
+/* Yg = J / (3 Z_t), Z_t = z V_LL,source^2 / S: the grounding path (top). */
+static void grounding_path(kl_complex z, double kv_s, double s_va, kl_complex Yg[9])
+{
+    kl_complex zt = z * (kv_s * 1000.0) * (kv_s * 1000.0) / s_va;
+    for (int i = 0; i < 9; i++)
+        Yg[i] = 1.0 / (3.0 * zt);
+}
+
 kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int step_up,
-                                  kl_complex A[9], kl_complex B[9], int *load_phases,
-                                  double *load_base_ln, char *why, size_t nwhy)
+                                  kl_complex A[9], kl_complex B[9], kl_complex Yg[9],
+                                  int *load_phases, double *load_base_ln, char *why, size_t nwhy)
 {
     kl_winding ws = step_up ? t->low : t->high, wl = step_up ? t->high : t->low;
     double kv_s = step_up ? t->kv_low : t->kv_high, kv_l = step_up ? t->kv_high : t->kv_low;
@@ -171,6 +215,7 @@ kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int s
     char b1[4];
     memset(A, 0, 9 * sizeof A[0]);
     memset(B, 0, 9 * sizeof B[0]);
+    memset(Yg, 0, 9 * sizeof Yg[0]);
     if (!(s_va > 0) || !(kv_s > 0) || !(kv_l > 0)) {
         snprintf(why, nwhy, "transformer %s needs a positive rating and both voltages",
                  t->name ? t->name : "?");
@@ -222,6 +267,8 @@ kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int s
         kl_complex zb = z * (kv_l * 1000.0) * (kv_l * 1000.0) / s_va;
         for (int p = 0; p < 3; p++)
             B[4 * p] = zb;
+        if (ws == KL_WINDING_GRD_WYE && wl == KL_WINDING_DELTA && cabs(z) > 0)
+            grounding_path(z, kv_s, s_va, Yg);
         *load_phases = KL_PH_ABC;
         *load_base_ln = kv_l * 1000.0 / sqrt(3.0);
         return KL_OK;

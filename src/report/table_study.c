@@ -379,8 +379,8 @@ static const kl_column sec_cols[] = {
     NUM("residual_a", "A", "residual current |Ia + Ib + Ic| = |3I0|", residual, TCJ, "3I0",
         " %8.1f"),
     NUM("neutral_a", "A", "fundamental neutral current", neutral_a, KL_IN_JSON, "", NULL),
-    NUM("triplen_a", "A", "triplen neutral current (arithmetic sum of the loads' third "
-        "harmonics downstream)", triplen_a, KL_IN_JSON, "", NULL),
+    NUM("triplen_a", "A", "triplen neutral current (the loads' third harmonics downstream, "
+        "through each transformer's windings)", triplen_a, KL_IN_JSON, "", NULL),
     NUM("neutral_rms_a", "A", "neutral RMS sqrt(In1^2 + In3^2)", neutral_rms_a, KL_IN_JSON, "",
         NULL),
     NUM("earth_a", "A", "earth-return current", earth_a, KL_IN_JSON, "", NULL),
@@ -404,8 +404,8 @@ static const kl_column neutral_cols[] = {
      HTML("phases", NULL)},
     {NUMF("neutral_a", "A", "fundamental neutral current", neutral_a, TCH, "In1", " %8.1f"),
      HTML("In fundamental A", KL_NUM_AMP)},
-    {NUMF("triplen_a", "A", "triplen neutral current (arithmetic sum of the loads' third "
-         "harmonics downstream)", triplen_a, TCH, "In3", " %8.1f"), HTML("In triplen A", KL_NUM_AMP)},
+    {NUMF("triplen_a", "A", "triplen neutral current (the loads' third harmonics downstream, "
+         "through each transformer's windings)", triplen_a, TCH, "In3", " %8.1f"), HTML("In triplen A", KL_NUM_AMP)},
     {NUMF("neutral_rms_a", "A", "neutral RMS sqrt(In1^2 + In3^2)", neutral_rms_a, TCH, "In rms",
          " %8.1f"), HTML("In RMS A", KL_NUM_AMP)},
     NUM("earth_a", "A", "earth-return current", earth_a, TC, "Iearth", " %8.1f"),

@@ -1,75 +1,122 @@
 /* kilter: neutral current and neutral sizing.
  *
- *   I_n3(section) = sum over wye loads downstream, over their phases p, of
- *                   h3 * |I_p|                         (triplen, arithmetic)
- *   I_n,rms       = sqrt(|I_n1|^2 + I_n3^2)            (fundamental + triplen)
+ *   I3_p(load entry)  = h3 |I_p| e^(j 3 phi)           (triplen phasor of one entry)
+ *   I3_from(section)  = T I3_to,  I3_to = sum of the loads' and children's I3
+ *   I_n3(section)     = | I3_a + I3_b + I3_c |          (sending end)
+ *   I_n,rms           = sqrt(|I_n1|^2 + I_n3^2)         (fundamental + triplen)
  *
- * Third-harmonic currents of the three phases are displaced by 3 x 120 deg =
- * 360 deg, i.e. in phase, so they add arithmetically in the neutral instead
- * of cancelling (common practice).  Assumptions (docs/study.md): all of the
- * triplen returns by the metallic neutral (conservative for sizing); delta-
- * connected loads circulate their triplens inside the delta and add none;
- * a transformer passes them up only between two grounded-wye windings
- * (scaled by the voltage ratio), any other winding traps them.
+ * The third harmonic of a load is locked to its voltage: its phase is three
+ * times the phase of the voltage the entry is connected across (phi), plus the
+ * load's own harmonic angle, taken equal for every load (common practice).
+ * phi is the nominal angle: the solved angle rounded to a multiple of
+ * 30 degrees, since every connection kilter models shifts by a multiple of
+ * 30 degrees.  So third harmonics of wye loads on a, b, c are in phase
+ * (3 x 120 deg = 360 deg) and add arithmetically in the neutral: the
+ * conservative sum a sizing wants; a balanced delta load's entries (3 phi =
+ * 90 deg for all three) cancel in every line and circulate inside it; the
+ * legs of a center-tapped service (180 deg apart, 3 x 180 = 540 = 180 deg)
+ * cancel in its neutral for equal legs and add in its primary winding.
+ *
+ * T is the section's current relation at the triplen frequency: identity
+ * for lines, switches and regulators (within the regulator's +-10 %); for a
+ * transformer bank T = A^T, the ampere-turn balance of its windings with
+ * Kirchhoff's current law at its terminals (transformer.c), which holds at
+ * every frequency of an ideal transformer (no magnetising branch).  So
+ * from the winding equations, for every connection: a grounded-wye or
+ * single-phase line-to-neutral primary (center-tapped secondary or not)
+ * passes every triplen to its phase and to the primary neutral; a delta
+ * winding traps the zero-sequence part (A^T of a delta/wye bank sums to zero
+ * over each column) and passes the rest to two phases, never to the
+ * neutral; an open-wye primary passes a delta secondary's line triplens to
+ * its two phases and its neutral; a single-phase unit across two phases
+ * passes them to those phases, not to the neutral.  All of the neutral
+ * triplen returns by the metallic neutral (conservative for sizing;
+ * docs/study.md).
  *
  * A neutral run is a connected chain (or subtree) of sections of one
  * construction; it is sized for its worst section. */
 #include <math.h>
+#include <string.h>
 #include "kilter/study.h"
+#include "kilter/units.h"
 #include "kl_study.h"
 
-/* Triplen current a load puts into the neutral at its own point. */
-static double load_triplen(const kl_feeder *f, const kl_study_phases *ph, int L)
+/* e^(j 3 phi) for the nominal angle phi of voltage v: a quarter turn
+ * (0, 1, 2, 3) times 90 degrees. */
+static kl_complex triplen_turn(kl_complex v)
+{
+    static const kl_complex turn[4] = {1.0, I, -1.0, -I};
+    double q = carg(v) / (KL_PI / 6.0); /* in steps of 30 degrees */
+    long k = lround(q);
+    return turn[((k % 4) + 4) % 4]; /* 3 x 30 k degrees = k quarter turns */
+}
+
+/* Adds the triplen phasors load L puts on the phases of its bus into i3. */
+static void load_triplen(const kl_feeder *f, const kl_study_phases *ph, int L, kl_complex i3[3])
 {
     const kl_load *ld = &f->loads[L];
     int bus = ld->bus >= 0 ? ld->bus : kl_sec_down(&f->sections[ld->section]);
-    double sum = 0;
-    if (!(ld->third_harmonic > 0) || ld->conn != KL_CONN_WYE)
-        return 0;
+    const kl_complex *v = ph->v + 3 * (size_t)bus;
+    if (!(ld->third_harmonic > 0))
+        return;
     for (int p = 0; p < 3; p++) {
-        double vm = cabs(ph->v[3 * bus + p]);
-        if ((ld->phases & (1 << p)) && vm > 0)
-            sum += cabs(ph->s_load[3 * L + p]) / vm;
+        int q = (p + 1) % 3;
+        kl_complex vx = ld->conn == KL_CONN_WYE ? v[p] : v[p] - v[q];
+        double vm = cabs(vx);
+        if (!(ld->phases & (1 << p)) || !(vm > 0))
+            continue;
+        kl_complex x = ld->third_harmonic * cabs(ph->s_load[3 * L + p]) / vm * triplen_turn(vx);
+        i3[p] += x;
+        if (ld->conn != KL_CONN_WYE) /* a delta entry draws from p, returns by q */
+            i3[q] -= x;
     }
-    return ld->third_harmonic * sum;
 }
 
-/* Share of the triplen current on the low side of section k that appears on
- * its high side: 1 for lines, switches and regulators; the voltage ratio for
- * a grounded-wye/grounded-wye transformer; 0 for any other transformer. */
-static double pass_up(const kl_feeder *f, int k)
+/* Source-side triplen currents of section k from its load-side ones (the
+ * transformer's ampere-turn balance; identity otherwise): see the top. */
+static void pass_up(const kl_feeder *f, const kl_study_phases *ph, int k, const kl_complex in[3],
+                    kl_complex out[3])
 {
     const kl_section *sec = &f->sections[k];
-    const kl_transformer *t;
+    kl_complex A[9], B[9], Yg[9], At[9];
+    int load_phases;
+    double base;
+    char why[8];
+    memcpy(out, in, 3 * sizeof in[0]);
     if (sec->kind != KL_SEC_TRANSFORMER)
-        return 1.0;
+        return;
+    out[0] = out[1] = out[2] = 0;
     if (sec->device < 0 || sec->device >= f->ntransformers)
-        return 0.0;
-    t = &f->transformers[sec->device];
-    if (t->high != KL_WINDING_GRD_WYE || t->low != KL_WINDING_GRD_WYE || !(t->kv_high > 0))
-        return 0.0;
-    return t->kv_low / t->kv_high;
+        return;
+    const kl_transformer *t = &f->transformers[sec->device];
+    if (kl_transformer_matrices(t, sec->phases, kl_transformer_step_up(t, ph->v_base_ln[sec->from]),
+                                A, B, Yg, &load_phases, &base, why, sizeof why))
+        return; /* the load flow refused it already */
+    kl_cm3_transpose(A, At);
+    kl_cm3_vec(At, in, out);
 }
 
-/* Sums triplens from the leaves up: children follow parents in the tree. */
+/* Sums triplens from the leaves up: children follow parents in the tree.
+ * at_bus: [3 * (nbuses + 1)] workspace, zero on entry. */
 static void triplen_sum(const kl_feeder *f, const kl_study_phases *ph,
-                        const kl_feeder_tree *t, double *at_bus, kl_study *s)
+                        const kl_feeder_tree *t, kl_complex *at_bus, kl_study *s)
 {
-    for (int k = 0; k < f->nsections; k++)
-        s->i_n3[k] = 0;
     for (int L = 0; L < f->nloads; L++) {
-        double h = load_triplen(f, ph, L);
-        if (f->loads[L].bus >= 0)
-            at_bus[f->loads[L].bus] += h;
-        else
-            s->i_n3[f->loads[L].section] += h;
+        const kl_load *ld = &f->loads[L];
+        int bus = ld->bus >= 0 ? ld->bus : kl_sec_down(&f->sections[ld->section]);
+        load_triplen(f, ph, L, at_bus + 3 * (size_t)bus);
+    }
+    for (int k = 0; k < f->nsections; k++) {
+        s->i_n3[k] = 0;
+        s->i3[3 * k] = s->i3[3 * k + 1] = s->i3[3 * k + 2] = 0;
     }
     for (int n = t->nlive - 1; n >= 1; n--) {
-        int k = t->sec[n], from = t->order[t->up[n]], up;
-        s->i_n3[k] += at_bus[t->order[n]];
-        up = t->sec[t->up[n]];
-        if (up >= 0)
-            at_bus[from] += pass_up(f, k) * s->i_n3[k];
+        int k = t->sec[n], from = t->order[t->up[n]];
+        kl_complex *i3 = s->i3 + 3 * (size_t)k;
+        pass_up(f, ph, k, at_bus + 3 * (size_t)t->order[n], i3);
+        s->i_n3[k] = cabs(i3[0] + i3[1] + i3[2]);
+        for (int p = 0; p < 3; p++)
+            at_bus[3 * (size_t)from + (size_t)p] += i3[p];
     }
 }
 
@@ -188,7 +235,7 @@ kl_status kl_neutral_size_on(const kl_feeder *f, const kl_study_phases *ph,
                              const kl_feeder_tree *t, const kl_study_options *opt, kl_study *s,
                              kl_errors *err)
 {
-    double *at_bus = kl_calloc((size_t)f->nbuses + 1, sizeof *at_bus);
+    kl_complex *at_bus = kl_calloc(3 * ((size_t)f->nbuses + 1), sizeof *at_bus);
     kl_status st = KL_ENOMEM;
     if (!at_bus)
         goto done;

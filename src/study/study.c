@@ -30,7 +30,7 @@ void kl_study_free(kl_study *s)
     void *arrays[] = {
         s->vbus, s->vll012, s->unb, s->v_pu, s->service, s->vuf_flags, s->motor,
         s->derate_zone, s->derate_factor, s->isec, s->iunb, s->i_n1, s->i_e,
-        s->i_n3, s->i_n_rms, s->neutral_ratio, s->neutral_flag, s->run,
+        s->i3, s->i_n3, s->i_n_rms, s->neutral_ratio, s->neutral_flag, s->run,
         s->run_construction, s->run_first, s->run_sections, s->run_worst,
         s->run_current, s->run_required, s->run_installed, s->run_conductor,
         s->cbus, s->cstart, s->ckind, s->cid, s->cshare, s->c_unbal_total,
@@ -65,6 +65,7 @@ static kl_study *study_alloc(int nb, int ns, int nl)
     s->iunb = kl_calloc(c, sizeof *s->iunb);
     s->i_n1 = kl_calloc(c, sizeof *s->i_n1);
     s->i_e = kl_calloc(c, sizeof *s->i_e);
+    s->i3 = kl_calloc(3 * c, sizeof *s->i3);
     s->i_n3 = kl_calloc(c, sizeof *s->i_n3);
     s->i_n_rms = kl_calloc(c, sizeof *s->i_n_rms);
     s->neutral_ratio = kl_calloc(c, sizeof *s->neutral_ratio);
@@ -72,7 +73,7 @@ static kl_study *study_alloc(int nb, int ns, int nl)
     s->run = kl_calloc(c, sizeof *s->run);
     if (!s->vbus || !s->vll012 || !s->unb || !s->v_pu || !s->service || !s->vuf_flags
         || !s->motor || !s->derate_zone || !s->derate_factor || !s->isec || !s->iunb
-        || !s->i_n1 || !s->i_e || !s->i_n3 || !s->i_n_rms || !s->neutral_ratio
+        || !s->i_n1 || !s->i_e || !s->i3 || !s->i_n3 || !s->i_n_rms || !s->neutral_ratio
         || !s->neutral_flag || !s->run) {
         kl_study_free(s);
         return NULL;
