@@ -104,4 +104,17 @@ ls "$tmp" | grep -q "\.tmp\." && fail "temporary file left"
 # a broken feeder with -o leaves no output file
 "$kilter" check "$bad" -o "$tmp/bad.txt" 2>/dev/null
 [ ! -e "$tmp/bad.txt" ] || fail "output written for a broken feeder"
+# A rating that does not fit its bus (issue 12 point 7): the IEEE 4-node bank (12.47 kV high
+# winding) on a 13.2 kV source is 5.5 % off: a warning, exit 0; on 24.94 kV, 50 % off: an error,
+# exit 2.  Both name the section, its position and both voltages.
+sed 's/nominal_voltage: 12.47 kV/nominal_voltage: 13.2 kV/' "$src/feeders/reference/ieee-4-node-gry-gry-balanced.yaml" >"$tmp/fit.yaml"
+"$kilter" flow "$tmp/fit.yaml" >"$tmp/out" 2>"$tmp/err" || fail "13.2 kV feeder: exit $?"
+grep -q "^kilter: warning: $tmp/fit.yaml:[0-9]*:5: section \"bank\": .*rated 12.47 kV.*nominal 13.2 kV" "$tmp/err" \
+  || { cat "$tmp/err"; fail "no warning of a rating 5.5 % off"; }
+sed 's/nominal_voltage: 12.47 kV/nominal_voltage: 24.94 kV/' "$src/feeders/reference/ieee-4-node-gry-gry-balanced.yaml" >"$tmp/fit.yaml"
+"$kilter" check "$tmp/fit.yaml" >"$tmp/out" 2>"$tmp/err"
+[ $? -eq 2 ] || fail "24.94 kV feeder: expected exit 2"
+grep -q "^kilter: $tmp/fit.yaml:[0-9]*:5: section \"bank\": .*rated 12.47 kV.*nominal 24.94 kV" "$tmp/err" \
+  || { cat "$tmp/err"; fail "no error of a rating 50 % off"; }
+"$kilter" check "$good" 2>&1 >/dev/null | grep -q warning && fail "warning on a fitting feeder"
 echo "cli_check: ok"

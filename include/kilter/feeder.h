@@ -165,7 +165,10 @@ typedef struct {
     int bus;
     kl_connection conn;
     int phases;          /* mask (delta: bit 0 ab, 1 bc, 2 ca) */
-    double q_var[3];     /* rated var per phase at nominal voltage */
+    double q_var[3];     /* var per phase at the bus's nominal voltage (the file's rating, scaled
+                            by (nominal / rated_v)^2 when rated_v is given) */
+    double rated_v;      /* voltage across each unit the file's rating is at (wye: line-to-neutral,
+                            delta: line-to-line); 0 when not given (rated at the bus's nominal) */
     kl_loc loc;
 } kl_capacitor;
 
@@ -262,6 +265,24 @@ kl_status kl_feeder_load_buffer(const char *text, size_t len, const char *name,
 #define KL_FEEDER_MAX_BYTES ((size_t)1 << 30)
 kl_status kl_feeder_load_limit(const char *path, size_t max_bytes, kl_feeder **out, kl_errors *err);
 void kl_feeder_free(kl_feeder *f);
+
+/* Rated voltages that do not fit their bus: a transformer's source-side
+ * winding, a regulator's PT (pt_ratio x 120 V: line-to-neutral for wye units,
+ * line-to-line for delta) and a capacitor's rated_voltage, each against the
+ * nominal voltage of the bus it sits on (kl_bus.base_kv_ll, carried down the
+ * feeder tree).  Each one further off than `tol` (a share: 0.10 = 10 %) is
+ * added to err, located at its section (capacitors: at the capacitor) and
+ * naming both voltages; returns how many.  The loader refuses a feeder with
+ * one beyond KL_RATING_ERROR_TOL: no tap range brings such a winding to
+ * nominal (distribution transformer taps span +-5 %, regulators +-10 %, common
+ * practice) and the solve would put the buses beyond it far out of range (a
+ * 12.47 kV transformer on a 24.94 kV feeder: 1.94 pu).  The program warns of
+ * those beyond KL_RATING_WARN_TOL, the tap range of a distribution
+ * transformer (common practice): legitimate with taps, but every voltage
+ * beyond it is off by as much.  A feeder without a tree: none checked. */
+#define KL_RATING_ERROR_TOL 0.10
+#define KL_RATING_WARN_TOL 0.05
+int kl_feeder_ratings_check(const kl_feeder *f, double tol, kl_errors *err);
 
 /* Lookups by name (linear or hashed; -1 when absent). */
 int kl_feeder_find_bus(const kl_feeder *f, const char *name);

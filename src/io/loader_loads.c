@@ -162,8 +162,9 @@ void kl_ld_load(kl_loader *L, int map)
         d->description = kl_ld_strdup(L, t);
 }
 
-enum { CP_NAME, CP_BUS, CP_CONN, CP_Q };
-static const char *const capacitor_keys[] = {"name", "bus", "connection", "reactive_power", NULL};
+enum { CP_NAME, CP_BUS, CP_CONN, CP_Q, CP_RATED };
+static const char *const capacitor_keys[] = {"name", "bus", "connection", "reactive_power", "rated_voltage",
+                                             NULL};
 
 void kl_ld_capacitor(kl_loader *L, int map)
 {
@@ -190,4 +191,6 @@ void kl_ld_capacitor(kl_loader *L, int map)
         c->phases = per_phase(L, fl.val[CP_Q], "reactive_power", c->conn == KL_CONN_DELTA, 0, q);
     for (p = 0; p < 3; p++)
         c->q_var[p] = creal(q[p]);
+    /* scaled to the bus's nominal voltage once the topology is known (kl_ld_topology) */
+    kl_ld_real(L, &fl, CP_RATED, KL_Q_VOLTAGE, &c->rated_v, 0, KL_F_POS);
 }

@@ -131,6 +131,22 @@ static void check_elements(kl_loader *L)
     }
 }
 
+/* A capacitor rated at another voltage than its bus's nominal gives
+ * Q (V_nominal / V_rated)^2 there (constant impedance): the model keeps var
+ * at nominal voltage. */
+static void scale_capacitors(kl_loader *L)
+{
+    kl_feeder *f = L->f;
+    for (int i = 0; i < f->ncapacitors; i++) {
+        kl_capacitor *c = &f->capacitors[i];
+        if (!(c->rated_v > 0) || c->bus < 0 || f->tree->pos[c->bus] < 0)
+            continue;
+        double k = kl_feeder_ratings_unit_kv(f, f->tree, c->bus, c->conn == KL_CONN_DELTA) * 1e3 / c->rated_v;
+        for (int p = 0; p < 3; p++)
+            c->q_var[p] *= k * k;
+    }
+}
+
 void kl_ld_topology(kl_loader *L)
 {
     kl_feeder *f = L->f;
@@ -148,4 +164,6 @@ void kl_ld_topology(kl_loader *L)
     if (f->radial && kl_feeder_tree_check_islands(f->tree, f, L->err) != KL_OK)
         L->nerr++;
     check_elements(L);
+    scale_capacitors(L);
+    L->nerr += kl_feeder_ratings_check(f, KL_RATING_ERROR_TOL, L->err);
 }

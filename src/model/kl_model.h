@@ -65,6 +65,12 @@ static inline int kl_feeder_tree_pbus(const kl_feeder_tree *t, int b)
     return kl_feeder_tree_live(t, b) && t->pos[b] > 0 ? t->order[t->up[t->pos[b]]] : -1;
 }
 
+/* ---- feeder_ratings.c (kl_feeder_ratings_check is public, feeder.h).
+ * The nominal kV across a unit at reached bus b: line-to-line for delta;
+ * line-to-neutral for wye, half the rating on a center-tapped secondary's
+ * legs (120 of 240 V). */
+double kl_feeder_ratings_unit_kv(const kl_feeder *f, const kl_feeder_tree *t, int b, int delta);
+
 /* ---- phases.c: phase masks (kl_phases_str, kl_phases_count and
  * kl_phases_rotate are public, include/kilter/feeder.h). */
 /* The phases of a transformer's load-side bus, as kl_transformer_matrices
