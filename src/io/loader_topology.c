@@ -164,6 +164,8 @@ void kl_ld_topology(kl_loader *L)
     if (f->radial && kl_feeder_tree_check_islands(f->tree, f, L->err) != KL_OK)
         L->nerr++;
     check_elements(L);
-    scale_capacitors(L);
-    L->nerr += kl_feeder_ratings_check(f, KL_RATING_ERROR_TOL, L->err);
+    if (L->nerr == 0) { /* the check reads resolved references and a whole tree */
+        scale_capacitors(L);
+        L->nerr += kl_feeder_ratings_check(f, KL_RATING_ERROR_TOL, L->err);
+    }
 }

@@ -47,15 +47,23 @@ static int off(double rated, double nominal, double tol)
 
 /* The winding facing the source is the one rated closer to the source-side
  * bus (the rule kl_network_build uses to tell step-up from step-down). */
+int kl_feeder_ratings_step_up(const kl_feeder *f, int e)
+{
+    const kl_section *s = &f->sections[e];
+    const kl_transformer *x = &f->transformers[s->device];
+    int nph = kl_phases_count(s->phases);
+    double vn = f->buses[kl_sec_up(s)].base_kv_ll;
+    double hi = winding_ll(x->kv_high, x->high, nph), lo = winding_ll(x->kv_low, x->low, nph);
+    return lo > 0 && hi > 0 && vn > 0 && fabs(log(vn / lo)) < fabs(log(vn / hi));
+}
+
 static int transformer(const kl_feeder *f, int e, double tol, kl_errors *err)
 {
     const kl_section *s = &f->sections[e];
     const kl_transformer *x = &f->transformers[s->device];
-    int u = kl_sec_up(s), nph = kl_phases_count(s->phases);
+    int u = kl_sec_up(s), nph = kl_phases_count(s->phases), up = kl_feeder_ratings_step_up(f, e);
     double vn = f->buses[u].base_kv_ll;
-    double hi = winding_ll(x->kv_high, x->high, nph), lo = winding_ll(x->kv_low, x->low, nph);
-    int up = lo > 0 && hi > 0 && vn > 0 && fabs(log(vn / lo)) < fabs(log(vn / hi));
-    double r = up ? lo : hi;
+    double r = up ? winding_ll(x->kv_low, x->low, nph) : winding_ll(x->kv_high, x->high, nph);
     char elem[300], what[400];
     if (!off(r, vn, tol))
         return 0;
@@ -109,7 +117,7 @@ int kl_feeder_ratings_check(const kl_feeder *f, double tol, kl_errors *err)
         return 0;
     for (int e = 0; e < f->nsections; e++) {
         const kl_section *s = &f->sections[e];
-        if (s->device < 0 || t->pos[kl_sec_up(s)] < 0)
+        if (s->device < 0 || s->from < 0 || s->to < 0 || t->pos[kl_sec_up(s)] < 0)
             continue;
         if (s->kind == KL_SEC_TRANSFORMER && s->device < f->ntransformers)
             n += transformer(f, e, tol, err);

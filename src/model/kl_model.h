@@ -70,6 +70,10 @@ static inline int kl_feeder_tree_pbus(const kl_feeder_tree *t, int b)
  * line-to-neutral for wye, half the rating on a center-tapped secondary's
  * legs (120 of 240 V). */
 double kl_feeder_ratings_unit_kv(const kl_feeder *f, const kl_feeder_tree *t, int b, int delta);
+/* 1 when transformer section e is fed from its low winding (step-up): the
+ * winding rated closer to the nominal voltage of its source-side bus faces
+ * the source. */
+int kl_feeder_ratings_step_up(const kl_feeder *f, int e);
 
 /* ---- phases.c: phase masks (kl_phases_str, kl_phases_count and
  * kl_phases_rotate are public, include/kilter/feeder.h). */
