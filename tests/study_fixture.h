@@ -164,7 +164,7 @@ static inline void fx_solve(fx_feeder *x, const kl_complex *zs)
         x->in[k] = -(x->i[3 * k] + x->i[3 * k + 1] + x->i[3 * k + 2]);
         x->ie[k] = 0;
     }
-    x->ph = (kl_study_phases){ x->v, x->vbase, NULL, x->i, x->in, x->ie, x->s_load, NULL };
+    x->ph = (kl_study_phases){ x->v, x->vbase, NULL, x->i, x->in, x->ie, x->s_load, NULL, NULL, NULL };
     /* branch view: one branch per section, same ids */
     for (int b = 0; b < f->nbuses; b++)
         x->parent[b] = -1;

@@ -31,6 +31,7 @@ typedef struct {
     double gmr_m;         /* geometric mean radius */
     double diameter_m;    /* outside diameter */
     double ampacity_a;    /* 0 when not given */
+    double emergency_ampacity_a; /* short-time emergency rating; 0 when not given */
     kl_loc loc;
 } kl_conductor;
 
@@ -50,6 +51,7 @@ typedef struct {
     double tape_thickness_m;
     double tape_resistivity_ohm_m; /* default annealed copper 1.7241e-8 at 20 C */
     double ampacity_a;            /* 0 when not given */
+    double emergency_ampacity_a;  /* 0 when not given */
     kl_loc loc;
 } kl_cable;
 
@@ -88,6 +90,7 @@ typedef struct {
     kl_complex z_given[3][3];        /* ohm/m */
     double b_given[3][3];            /* S/m */
     double ampacity_a;               /* phase ampacity: conductor's or cable's, 0 when unknown */
+    double emergency_ampacity_a;     /* phase emergency rating, likewise; 0 when unknown */
     double neutral_ampacity_a;       /* 0 when unknown or no neutral */
     /* derived by kl_lines_derive (lines.h): zero until then */
     int derived;
@@ -189,6 +192,7 @@ typedef struct {
     kl_winding high, low;
     double r_pu, x_pu;        /* on the bank's own rating */
     double no_load_loss_pu;   /* optional, 0 by default */
+    double emergency_kva;     /* short-time emergency rating of the bank; 0 when not given */
     kl_loc loc;
 } kl_transformer;
 
@@ -210,6 +214,8 @@ typedef struct {
     double ct_primary_a;
     double ldc_r_v[3], ldc_x_v[3]; /* line-drop compensator settings, volts */
     int monitored;            /* mask of phases whose controller acts (default all) */
+    double rated_current_a;   /* each unit's rated load current; default ct_primary_a; 0 unknown */
+    double emergency_current_a; /* 0 when not given */
     kl_loc loc;
 } kl_regulator;
 

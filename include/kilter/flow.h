@@ -89,4 +89,46 @@ kl_status kl_sweep_solve(kl_network *net, const kl_flow_options *opt,
 kl_status kl_nodal_solve(kl_network *net, const kl_flow_options *opt,
                          kl_flow_result *res, kl_errors *err);
 
+/* ---- loading.c: how loaded each section is against its ratings.
+ * Fractions (1.0 = 100 %).  Per phase: a line's larger end current over
+ * its construction's ampacity; a regulator's over each unit's rated current;
+ * a transformer's line current on each side over that winding's rated line
+ * current (kVA at rated voltage over the rating), the larger side.  The bank:
+ * the sum of the phases' kVA entering it (|S_a| + |S_b| + |S_c|, actual
+ * voltage) over its kVA rating.  Switches and unrated elements: NAN.  The
+ * emergency figures use the emergency ratings the file gives, NAN without. */
+typedef struct {
+    double phase[3];        /* per phase a, b, c; NAN for absent phases and no rating */
+    double bank;            /* transformers: bank kVA over the rating; NAN otherwise */
+    double worst;           /* the largest of phase[] and bank; NAN when none is known */
+    double phase_emerg[3], bank_emerg, worst_emerg; /* against the emergency ratings */
+    double rating;          /* the phases' rating: A (lines: ampacity; regulators: rated
+                               current; transformers: the source side's rated line current);
+                               NAN when unrated */
+} kl_loading;
+
+/* The currents a loading is computed from, by feeder section id: the flow
+ * result's arrays, or a study's view of them (i_recv and s_in may be NULL:
+ * the sending end's current then stands for both ends, and a transformer's
+ * bank loading is not known). */
+typedef struct {
+    const kl_complex *i;       /* [3*nsections] sending-end line currents, A */
+    const kl_complex *i_recv;  /* [3*nsections] receiving-end line currents, A */
+    const kl_complex *s_in;    /* [3*nsections] power entering at the sending end, W + j var */
+    const int *sec_solved;     /* [nsections] 0 for an open switch; NULL: all solved */
+} kl_loading_currents;
+
+/* The loading of section s.  The default warning level for the compliance
+ * summary and the advisor's notes: 80 % of the continuous rating (common
+ * practice: the planning margin kept for load growth and switching). */
+#define KL_LOADING_WARNING 0.80
+void kl_loading_section(const kl_feeder *f, const kl_loading_currents *c, int s, kl_loading *out);
+/* The same from a solved load flow. */
+void kl_loading_of(const kl_feeder *f, const kl_flow_result *r, int s, kl_loading *out);
+/* The same from the network's own solved state (after kl_sweep_solve or
+ * kl_flow_solve, also when no result record was filled), with the phases the
+ * network gives the section now: what the rebalancing advisor checks a
+ * candidate with. */
+void kl_loading_network(const kl_network *n, int s, kl_loading *out);
+
 #endif

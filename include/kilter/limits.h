@@ -19,6 +19,8 @@ typedef struct {
     double motor_unbalance_max; /* above this, motor operation not recommended */
     double relay_share;      /* flag feeder-head 3I0 above this share of ground pickup */
     double neutral_share;    /* flag neutral current above this share of its ampacity */
+    double loading_warning;  /* note a section loaded above this share of its continuous
+                                rating (0.80); over the rating itself is a violation */
 } kl_limits;
 
 /* Fills *l with the cited defaults. */
@@ -58,5 +60,11 @@ int kl_limits_motor(const kl_limits *l, double lvur);
  * against ampacity with neutral_share).  Returns -1 and *ratio = NAN when
  * the rating is not known (0 or negative), 1 when over, 0 when not. */
 int kl_limits_share(double value, double rating, double share, double *ratio);
+
+/* A section's loading (kilter/flow.h: a fraction of its continuous rating):
+ * KL_LOADING_OVER above 1, KL_LOADING_NOTE above loading_warning, 0 within,
+ * -1 when not known (NAN). */
+enum { KL_LOADING_NOTE = 1, KL_LOADING_OVER = 2 };
+int kl_limits_loading(const kl_limits *l, double loading);
 
 #endif

@@ -126,6 +126,12 @@ typedef struct {
     double v_min_pu, v_max_pu; /* over every energized phase of every feeder bus */
     int v_min_bus, v_max_bus;
     double obj[KL_OBJ_COUNT]; /* the objectives above, in kl_objective order */
+    double loading_max;    /* the most loaded section's loading (kilter/flow.h kl_loading.worst,
+                              a fraction of its continuous rating); 0 when no section is rated */
+    int loading_section;   /* its feeder section id, -1 */
+    int n_overloaded;      /* sections over their continuous rating */
+    int n_new_overloads;   /* of which not over in the feeder as given, or more loaded than
+                              there: the advisor refuses a state with any */
 } kl_rebalance_summary;
 
 typedef void (*kl_rebalance_progress_fn)(void *ctx, const char *stage, long done, long total);
@@ -165,6 +171,7 @@ typedef struct {
     double cost;
     double score;          /* weighted score after moves 1..i (before = 1 per weighted objective) */
     int voltage_ok;        /* 1: service voltages inside the range after moves 1..i */
+    int loading_ok;        /* 1: no section overloaded by moves 1..i (n_new_overloads 0) */
     kl_rebalance_summary after[KL_REBAL_MAX_LEVELS]; /* per level, after moves 1..i */
 } kl_plan_step;
 

@@ -21,7 +21,10 @@
 typedef enum {
     KL_MAP_BY_VOLTAGE = 0, /* lowest phase voltage at the section's far bus, per unit */
     KL_MAP_BY_VUF = 1,     /* voltage unbalance factor |V2|/|V1| at the far bus, % */
-    KL_MAP_BY_NEUTRAL = 2  /* neutral current of the section, A */
+    KL_MAP_BY_NEUTRAL = 2, /* neutral current of the section, A */
+    KL_MAP_BY_LOADING = 3  /* the section's loading, % of its continuous rating (flow.h
+                              kl_loading.worst), in bands: within, over the warning level,
+                              over the rating */
 } kl_map_index;
 
 /* Phase quantities from a solved load flow (flow.h's kl_flow_result holds
@@ -61,7 +64,7 @@ typedef struct {
     kl_progress *progress;       /* may be NULL */
 } kl_report_input;
 
-/* "voltage", "vuf" or "neutral" -> the kl_map_index; -1 for anything else. */
+/* "voltage", "vuf", "neutral" or "loading" -> the kl_map_index; -1 for anything else. */
 int kl_map_index_parse(const char *s);
 
 /* Fills the defaults stated in kl_report_options. */
@@ -83,6 +86,8 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
 /* Single plots, as standalone SVG elements (also used by the report). */
 kl_status kl_plot_profile_write(FILE *out, const kl_report_input *in, kl_errors *err);
 kl_status kl_plot_map_write(FILE *out, const kl_report_input *in, kl_errors *err);
+/* The same map coloured by loading (KL_MAP_BY_LOADING), whatever map_index says. */
+kl_status kl_plot_map_loading_write(FILE *out, const kl_report_input *in, kl_errors *err);
 kl_status kl_plot_phasor_write(FILE *out, const kl_report_input *in, int bus, kl_errors *err);
 /* Head currents before and after the plan's moves, and the residual after
  * each move (in->plan required; KL_EARG without it). */

@@ -32,6 +32,10 @@ typedef struct {
     const kl_complex *i_earth;   /* [nsections] earth-return current, A; NULL: none known */
     const kl_complex *s_load;    /* [3*nloads] actual power per load entry, W + j var */
     const int *sec_solved;       /* [nsections] 0 for an open switch; NULL: all solved */
+    const kl_complex *i_recv;    /* [3*nsections] receiving-end line currents, A; NULL: the
+                                    sending end's stand for both (loading) */
+    const kl_complex *s_in;      /* [3*nsections] power into each section, W + j var; NULL:
+                                    transformer bank loading not known */
 } kl_study_phases;
 
 /* The solved network as branch matrices (V_to = A V_from - B I_to,
@@ -100,6 +104,11 @@ typedef struct kl_study {
     double *neutral_ratio;       /* [nsections] i_n_rms / neutral ampacity, NAN when unknown */
     int *neutral_flag;           /* [nsections] kl_limits_share result: 1 over, 0 within, -1 unknown */
     int *run;                    /* [nsections] neutral run id, -1: no neutral */
+    double *loading;             /* [nsections] the section's worst loading, a fraction of its
+                                    continuous rating (kilter/flow.h, kl_loading.worst); NAN unrated */
+    double *loading_emerg;       /* [nsections] the same of its emergency rating; NAN none given */
+    int *loading_flag;           /* [nsections] kl_limits_loading: 2 over, 1 over the warning
+                                    level, 0 within, -1 unrated */
 
     /* ---- neutral runs [nruns]: connected sections of one construction */
     int nruns;
@@ -127,6 +136,8 @@ typedef struct kl_study {
     int n_vuf_supply, n_vuf_compat; /* buses over each unbalance level */
     int n_outside_a, n_outside_b;   /* bus-phases outside Range A / Range B */
     int n_neutral_over;          /* sections over the neutral share */
+    int worst_loading;           /* section id with the largest loading, -1 none rated */
+    int n_loading_over, n_loading_note; /* sections over their rating / over the warning level */
     int n_motor_derate, n_motor_not_rec; /* motor buses needing derating / not recommended */
 
     /* ---- contributors, for every bus over an unbalance level (CSR layout) */

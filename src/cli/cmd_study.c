@@ -16,7 +16,7 @@
 
 enum { OPT_AT, OPT_MPHASE, OPT_MLINE, OPT_TOL, OPT_VUFTOL, OPT_LIMIT, OPT_LEVEL, OPT_RANGE,
        OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_SCALE, OPT_MAP,
-       OPT_EARTH_RETURN, NOPTS };
+       OPT_EARTH_RETURN, OPT_LOADWARN, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     { "at", 1, "BUS", "complaint check: a focused report for this bus" },
@@ -34,8 +34,10 @@ static const kl_cli_opt opts[NOPTS] = {
     { "table", 1, "NAME", "CSV table: buses, sections, neutrals, runs or contributors" },
     { "html", 1, "FILE", "also write the HTML report to FILE" },
     { "load-scale", 1, "X", "multiply every load by X (default 1)" },
-    { "map", 1, "vuf|neutral|voltage", "what colours the HTML report's feeder map (default vuf)" },
+    { "map", 1, "vuf|neutral|voltage|loading", "what colours the HTML report's feeder map (default vuf)" },
     KL_CLI_EARTH_RETURN_OPT,
+    { "loading-warning", 1, "PCT", "note sections loaded above this % of their rating (default 80; "
+      "over 100 is a violation)" },
 };
 
 typedef struct {
@@ -104,6 +106,14 @@ static int read_limits(const kl_cli_args *a, study_args *x)
     if (!rc && a->val[OPT_LEVEL]) rc = read_num(a->val[OPT_LEVEL], "level-unbalance", 1, &l->vuf_compat);
     if (!rc && a->val[OPT_RELAY]) rc = read_num(a->val[OPT_RELAY], "relay-share", 1, &l->relay_share);
     if (!rc && a->val[OPT_NSHARE]) rc = read_num(a->val[OPT_NSHARE], "neutral-share", 1, &l->neutral_share);
+    if (!rc && a->val[OPT_LOADWARN]) {
+        rc = read_num(a->val[OPT_LOADWARN], "loading-warning", 1, &l->loading_warning);
+        if (!rc && l->loading_warning > 1.0) {
+            kl_cli_error("study: --loading-warning is a level below the rating: at most 100 (%%), not '%s'",
+                         a->val[OPT_LOADWARN]);
+            rc = KL_EXIT_USAGE;
+        }
+    }
     if (!rc && a->val[OPT_NMARGIN]) {
         rc = read_num(a->val[OPT_NMARGIN], "neutral-margin", 1, &x->so.sizing_margin);
     }
@@ -161,7 +171,7 @@ static int read_options(const kl_cli_args *a, study_args *x)
         return rc;
     x->map_index = a->val[OPT_MAP] ? kl_map_index_parse(a->val[OPT_MAP]) : KL_MAP_BY_VUF;
     if (x->map_index < 0) {
-        kl_cli_error("study: --map needs vuf, neutral or voltage, not '%s'", a->val[OPT_MAP]);
+        kl_cli_error("study: --map needs vuf, neutral, voltage or loading, not '%s'", a->val[OPT_MAP]);
         return KL_EXIT_USAGE;
     }
     if (a->val[OPT_TOP]) {

@@ -99,6 +99,21 @@ static void summary_neutral(FILE *o, const kl_study_print *p)
     fputc('\n', o);
 }
 
+static void summary_loading(FILE *o, const kl_study_print *p)
+{
+    const kl_study *s = p->s;
+    int k = s->worst_loading;
+    fprintf(o, "  %-38s", "most-loaded section");
+    if (k < 0) {
+        fprintf(o, "none (no section with a rating in the feeder file)\n");
+        return;
+    }
+    fprintf(o, "%-16s %.1f %% of its rating", p->f->sections[k].name, pct(s->loading[k]));
+    if (isfinite(s->loading_emerg[k]))
+        fprintf(o, ", %.0f %% of its emergency rating", pct(s->loading_emerg[k]));
+    fputc('\n', o);
+}
+
 static void print_summary(FILE *o, const kl_study_print *p)
 {
     const kl_study *s = p->s;
@@ -118,6 +133,7 @@ static void print_summary(FILE *o, const kl_study_print *p)
                 p->f->sections[s->worst_i2].name, pct(s->iunb[s->worst_i2].i2_i1));
     summary_head(o, p);
     summary_neutral(o, p);
+    summary_loading(o, p);
 }
 
 /* ---- limits broken */
@@ -172,6 +188,25 @@ static void list_neutrals(FILE *o, const kl_study_print *p)
     fprintf(o, "%s\n", s->n_neutral_over > shown ? " ..." : "");
 }
 
+/* Sections whose loading class is `flag` (KL_LOADING_OVER or _NOTE). */
+static void list_loading(FILE *o, const kl_study_print *p, int flag, int n, const char *what)
+{
+    const kl_study *s = p->s;
+    int shown = 0;
+    if (n == 0)
+        return;
+    fprintf(o, "  %s: %d section%s:", what, n, n == 1 ? "" : "s");
+    for (int k = 0; k < s->nsections && shown < MAX_LIST; k++)
+        if (s->loading_flag[k] == flag) {
+            fprintf(o, " %s (%.1f %%", p->f->sections[k].name, pct(s->loading[k]));
+            if (flag == KL_LOADING_OVER && isfinite(s->loading_emerg[k]))
+                fprintf(o, "; %.0f %% of emergency", pct(s->loading_emerg[k]));
+            fputc(')', o);
+            shown++;
+        }
+    fprintf(o, "%s\n", n > shown ? " ..." : "");
+}
+
 static void print_broken(FILE *o, const kl_study_print *p)
 {
     const kl_study *s = p->s;
@@ -181,6 +216,7 @@ static void print_broken(FILE *o, const kl_study_print *p)
     list_vuf(o, p, KL_VUF_OVER_COMPAT, l->vuf_compat, "EN 50160 / IEC 61000-2-2 level");
     list_service(o, p);
     list_neutrals(o, p);
+    list_loading(o, p, KL_LOADING_OVER, s->n_loading_over, "loading over 100 % of the continuous rating");
     if (s->n_motor_derate || s->n_motor_not_rec)
         fprintf(o, "  motor buses (NEMA MG 1): %d need derating, %d where operation is not recommended\n",
                 s->n_motor_derate, s->n_motor_not_rec);
@@ -188,12 +224,18 @@ static void print_broken(FILE *o, const kl_study_print *p)
         fprintf(o, "  feeder-head 3I0 %.1f A is over %.0f %% of the %.0f A ground-relay pickup\n",
                 cabs(s->head_3i0), pct(l->relay_share), p->f->source.relay_pickup_a);
     if (!s->n_vuf_compat && !s->n_vuf_supply && !s->n_neutral_over && !s->n_motor_derate
-        && !s->n_motor_not_rec && s->relay_flag != 1) {
+        && !s->n_motor_not_rec && s->relay_flag != 1 && !s->n_loading_over) {
         int any = 0;
         for (int e = 0; e < 3 * s->nbuses; e++)
             any |= service_broken(p, s->service[e]);
         if (!any)
             fprintf(o, "  none\n");
+    }
+    if (s->n_loading_note) {
+        char what[96];
+        snprintf(what, sizeof what, "note: loading over %.0f %% of the rating (planning margin)",
+                 pct(l->loading_warning));
+        list_loading(o, p, KL_LOADING_NOTE, s->n_loading_note, what);
     }
 }
 
@@ -400,6 +442,7 @@ static void json_summary(FILE *o, const kl_study_print *p)
     fprintf(o, "\"service_range\": \"%c\", ", p->range_b ? 'B' : 'A');
     json_key_num(o, "relay_share_pct", pct(l->relay_share), 1);
     json_key_num(o, "neutral_share_pct", pct(l->neutral_share), 1);
+    json_key_num(o, "loading_warning_pct", pct(l->loading_warning), 1);
     json_key_num(o, "sizing_margin_pct", pct(p->opt->sizing_margin), 0);
     fputs("},\n  \"summary\": {", o);
     json_name_or_null(o, "worst_vuf_bus", BUSNAME(s->worst_vuf), 1);
@@ -409,6 +452,9 @@ static void json_summary(FILE *o, const kl_study_print *p)
     json_name_or_null(o, "lowest_voltage_bus", BUSNAME(s->lowest_v), 1);
     json_name_or_null(o, "highest_voltage_bus", BUSNAME(s->highest_v), 1);
     json_name_or_null(o, "most_loaded_neutral", s->worst_neutral >= 0 ? f->sections[s->worst_neutral].name : NULL, 1);
+    json_name_or_null(o, "most_loaded_section", s->worst_loading >= 0 ? f->sections[s->worst_loading].name : NULL, 1);
+    fprintf(o, "\"sections_over_rating\": %d, \"sections_over_loading_warning\": %d, ", s->n_loading_over,
+            s->n_loading_note);
     fprintf(o, "\"buses_over_vuf_supply\": %d, \"buses_over_vuf_compat\": %d, "
                "\"bus_phases_outside_range_a\": %d, \"bus_phases_outside_range_b\": %d, "
                "\"neutrals_over\": %d, \"motor_buses_derate\": %d, \"motor_buses_not_recommended\": %d},\n",

@@ -113,6 +113,8 @@ static void write_conductors_cables(FILE *o, const kl_feeder *f)
                 c->gmr_m, c->diameter_m);
         if (c->ampacity_a > 0)
             fprintf(o, "    ampacity: %.17g A\n", c->ampacity_a);
+        if (c->emergency_ampacity_a > 0)
+            fprintf(o, "    emergency_ampacity: %.17g A\n", c->emergency_ampacity_a);
     }
     if (f->ncables)
         fputs("cables:\n", o);
@@ -136,6 +138,8 @@ static void write_conductors_cables(FILE *o, const kl_feeder *f)
         fprintf(o, "    permittivity: %.17g\n", c->insulation_permittivity);
         if (c->ampacity_a > 0)
             fprintf(o, "    ampacity: %.17g A\n", c->ampacity_a);
+        if (c->emergency_ampacity_a > 0)
+            fprintf(o, "    emergency_ampacity: %.17g A\n", c->emergency_ampacity_a);
     }
 }
 
@@ -194,6 +198,10 @@ static void write_construction(FILE *o, const kl_feeder *f, int c, int r)
                 sep = ", ";
             }
         fputs("}\n", o);
+        if (cn->ampacity_a > 0)
+            fprintf(o, "    ampacity: %.17g A\n", cn->ampacity_a);
+        if (cn->emergency_ampacity_a > 0)
+            fprintf(o, "    emergency_ampacity: %.17g A\n", cn->emergency_ampacity_a);
         return;
     }
     const kl_layout *la = &f->layouts[cn->layout];
@@ -323,6 +331,8 @@ static void write_transformers(FILE *o, const kl_feeder *f)
                 t->kv_low * 1e3, WINDING[t->low], t->r_pu, t->x_pu);
         if (t->no_load_loss_pu > 0)
             fprintf(o, "    no_load_loss: %.17g\n", t->no_load_loss_pu);
+        if (t->emergency_kva > 0)
+            fprintf(o, "    emergency_rating: %.17g VA\n", t->emergency_kva * 1e3);
     }
 }
 
@@ -363,6 +373,10 @@ static void write_regulators(FILE *o, const kl_feeder *f)
             fprintf(o, "    pt_ratio: %.17g\n", g->pt_ratio);
         if (g->ct_primary_a > 0)
             fprintf(o, "    ct_primary: %.17g A\n", g->ct_primary_a);
+        if (g->rated_current_a > 0)
+            fprintf(o, "    rated_current: %.17g A\n", g->rated_current_a);
+        if (g->emergency_current_a > 0)
+            fprintf(o, "    emergency_current: %.17g A\n", g->emergency_current_a);
         put_per_phase(o, "compensator_r", KL_PH_ABC, g->ldc_r_v, "V");
         put_per_phase(o, "compensator_x", KL_PH_ABC, g->ldc_x_v, "V");
         fputs("    monitored: ", o);

@@ -112,9 +112,17 @@ void kl_ld_source(kl_loader *L, int map)
 }
 
 /* ---- conductors */
-enum { CO_NAME, CO_R, CO_RT, CO_GMR, CO_DIAM, CO_AMP, CO_AREA };
+enum { CO_NAME, CO_R, CO_RT, CO_GMR, CO_DIAM, CO_AMP, CO_AREA, CO_EAMP };
 static const char *const conductor_keys[] = {"name", "resistance", "resistance_temperature", "gmr",
-                                             "diameter", "ampacity", "area", NULL};
+                                             "diameter", "ampacity", "area", "emergency_ampacity", NULL};
+
+/* An emergency rating is a short-time rating above the continuous one. */
+static void emergency_ampacity(kl_loader *L, const kl_fields *fl, int k, double normal, double *out)
+{
+    if (kl_ld_real(L, fl, k, KL_Q_CURRENT, out, 0, KL_F_POS) == 0 && *out > 0 && !(*out >= normal))
+        kl_ld_error(L, fl->val[k], "'emergency_ampacity' (%g A) is below the continuous 'ampacity' "
+                    "(%g A): an emergency rating is the higher, short-time one", *out, normal);
+}
 
 void kl_ld_conductor(kl_loader *L, int map)
 {
@@ -138,6 +146,7 @@ void kl_ld_conductor(kl_loader *L, int map)
     kl_ld_real(L, &fl, CO_DIAM, KL_Q_LENGTH, &c->diameter_m, 0, KL_F_REQ | KL_F_POS);
     kl_ld_real(L, &fl, CO_AMP, KL_Q_CURRENT, &c->ampacity_a, 0, KL_F_POS);
     kl_ld_real(L, &fl, CO_AREA, KL_Q_AREA, &area, 0, KL_F_POS);
+    emergency_ampacity(L, &fl, CO_EAMP, c->ampacity_a, &c->emergency_ampacity_a);
     if (c->gmr_m > 0 && c->diameter_m > 0 && c->gmr_m > c->diameter_m / 2)
         kl_ld_error(L, fl.val[CO_GMR], "the GMR (%g m) is larger than the radius (%g m): "
                     "check the units of 'gmr' and 'diameter'", c->gmr_m, c->diameter_m / 2);
@@ -145,10 +154,11 @@ void kl_ld_conductor(kl_loader *L, int map)
 }
 
 /* ---- cables */
-enum { CA_NAME, CA_KIND, CA_COND, CA_STRAND, CA_K, CA_DON, CA_TD, CA_TT, CA_TR, CA_EPS, CA_AMP };
+enum { CA_NAME, CA_KIND, CA_COND, CA_STRAND, CA_K, CA_DON, CA_TD, CA_TT, CA_TR, CA_EPS, CA_AMP, CA_EAMP };
 static const char *const cable_keys[] = {"name", "kind", "conductor", "neutral_strand", "strands",
                                          "diameter_over_neutral", "tape_diameter", "tape_thickness",
-                                         "tape_resistivity", "permittivity", "ampacity", NULL};
+                                         "tape_resistivity", "permittivity", "ampacity",
+                                         "emergency_ampacity", NULL};
 static const char *const cable_kinds[] = {"concentric-neutral", "tape-shielded", NULL};
 
 static void cable_concentric(kl_loader *L, kl_fields *fl, kl_cable *c, int i)
@@ -203,6 +213,7 @@ void kl_ld_cable(kl_loader *L, int map)
         cable_tape(L, &fl, c);
     kl_ld_real(L, &fl, CA_EPS, KL_Q_NUMBER, &c->insulation_permittivity, 2.3, KL_F_POS);
     kl_ld_real(L, &fl, CA_AMP, KL_Q_CURRENT, &c->ampacity_a, 0, KL_F_POS);
+    emergency_ampacity(L, &fl, CA_EAMP, c->ampacity_a, &c->emergency_ampacity_a);
     name_add(L, &L->h_cable, c->name, i);
 }
 

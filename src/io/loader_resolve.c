@@ -145,13 +145,18 @@ static void cons_wires(kl_loader *L, kl_construction *c, const kl_cons_pos *cp)
  * concentric neutral carries strands x one strand's ampacity. */
 static void cons_ampacity(kl_feeder *f, kl_construction *c)
 {
-    if (c->kind == KL_CONS_OVERHEAD && c->phase_conductor >= 0)
+    if (c->kind == KL_CONS_OVERHEAD && c->phase_conductor >= 0) {
         c->ampacity_a = f->conductors[c->phase_conductor].ampacity_a;
+        c->emergency_ampacity_a = f->conductors[c->phase_conductor].emergency_ampacity_a;
+    }
     if (c->kind == KL_CONS_CABLE && c->cable >= 0) {
         const kl_cable *cb = &f->cables[c->cable];
         c->ampacity_a = cb->ampacity_a;
-        if (!c->ampacity_a && cb->phase_conductor >= 0)
+        c->emergency_ampacity_a = cb->emergency_ampacity_a;
+        if (!c->ampacity_a && cb->phase_conductor >= 0) {
             c->ampacity_a = f->conductors[cb->phase_conductor].ampacity_a;
+            c->emergency_ampacity_a = f->conductors[cb->phase_conductor].emergency_ampacity_a;
+        }
         if (cb->kind == KL_CABLE_CONCENTRIC && cb->strand_conductor >= 0)
             c->neutral_ampacity_a = cb->strands * f->conductors[cb->strand_conductor].ampacity_a;
     }
@@ -170,7 +175,8 @@ static void finish_constructions(kl_loader *L)
         kl_ld_label(L, "construction", c->name, i);
         if (c->kind != KL_CONS_MATRIX && c->layout >= 0)
             cons_wires(L, c, &L->cons_pos[i]);
-        cons_ampacity(f, c);
+        if (c->kind != KL_CONS_MATRIX)
+            cons_ampacity(f, c);
     }
 }
 

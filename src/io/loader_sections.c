@@ -42,14 +42,26 @@ static void set_loc(kl_loader *L, kl_loc *loc, int node)
 }
 
 /* ---- constructions */
-enum { CN_NAME, CN_LAYOUT, CN_COND, CN_CABLE, CN_PHASES, CN_NEUT, CN_GROUNDED, CN_RHO, CN_Z, CN_B };
+enum { CN_NAME, CN_LAYOUT, CN_COND, CN_CABLE, CN_PHASES, CN_NEUT, CN_GROUNDED, CN_RHO, CN_Z, CN_B, CN_AMP,
+       CN_EAMP };
 static const char *const construction_keys[] = {"name", "layout", "phase_conductor", "cable", "phases",
                                                 "neutrals", "neutral_grounded", "earth_resistivity",
-                                                "impedance", "susceptance", NULL};
+                                                "impedance", "susceptance", "ampacity",
+                                                "emergency_ampacity", NULL};
 static const char *const phase_names[] = {"a", "b", "c", NULL};
 enum { NE_POS, NE_COND };
 static const char *const neutral_keys[] = {"position", "conductor", NULL};
 static const char *const matrix_keys[] = {"aa", "ab", "ac", "ba", "bb", "bc", "ca", "cb", "cc", NULL};
+
+/* A construction given by its matrices names no conductor: its ratings are its own. */
+static void cons_matrix_ampacity(kl_loader *L, kl_construction *c, const kl_fields *fl)
+{
+    kl_ld_real(L, fl, CN_AMP, KL_Q_CURRENT, &c->ampacity_a, 0, KL_F_POS);
+    if (kl_ld_real(L, fl, CN_EAMP, KL_Q_CURRENT, &c->emergency_ampacity_a, 0, KL_F_POS) == 0 &&
+        fl->val[CN_EAMP] >= 0 && !(c->emergency_ampacity_a >= c->ampacity_a))
+        kl_ld_error(L, fl->val[CN_EAMP], "'emergency_ampacity' (%g A) is below 'ampacity' (%g A): an "
+                    "emergency rating is the higher, short-time one", c->emergency_ampacity_a, c->ampacity_a);
+}
 
 static void cons_ref(kl_loader *L, const kl_fields *fl, int k, int what, int i, int *target,
                      const kl_names *t)
@@ -216,8 +228,13 @@ void kl_ld_construction(kl_loader *L, int map)
         if (kl_ld_node(L, &fl, CN_Z, KL_YMAP, 0) >= 0 && (fl.val[CN_B] < 0 || kl_ld_node(L, &fl, CN_B, KL_YMAP, 0) >= 0))
             cons_matrix(L, c, fl.val[CN_Z], fl.val[CN_B]);
         cons_matrix_phases(L, c, &fl);
+        cons_matrix_ampacity(L, c, &fl);
     } else {
         cons_built(L, c, &fl, i);
+        for (k = CN_AMP; k <= CN_EAMP; k++)
+            if (fl.val[k] >= 0)
+                kl_ld_error(L, fl.val[k], "'%s' goes with a construction given by its matrices: give it on "
+                            "the phase conductor or the cable", construction_keys[k]);
     }
     add_name(L, &L->h_cons, c->name, i);
 }
@@ -307,9 +324,9 @@ void kl_ld_section(kl_loader *L, int map)
 }
 
 /* ---- transformers */
-enum { XF_NAME, XF_KVA, XF_HIGH, XF_LOW, XF_R, XF_X, XF_NLL };
+enum { XF_NAME, XF_KVA, XF_HIGH, XF_LOW, XF_R, XF_X, XF_NLL, XF_EKVA };
 static const char *const transformer_keys[] = {"name", "rating", "high", "low", "resistance", "reactance",
-                                               "no_load_loss", NULL};
+                                               "no_load_loss", "emergency_rating", NULL};
 enum { WI_V, WI_CONN };
 static const char *const winding_keys[] = {"voltage", "connection", NULL};
 static const char *const winding_names[] = {"grounded-wye", "wye", "delta", "open-wye", "open-delta",
@@ -350,15 +367,22 @@ void kl_ld_transformer(kl_loader *L, int map)
     kl_ld_real(L, &fl, XF_R, KL_Q_SHARE, &t->r_pu, 0, KL_F_REQ | KL_F_NONNEG);
     kl_ld_real(L, &fl, XF_X, KL_Q_SHARE, &t->x_pu, 0, KL_F_REQ | KL_F_POS);
     kl_ld_real(L, &fl, XF_NLL, KL_Q_SHARE, &t->no_load_loss_pu, 0, KL_F_NONNEG);
+    if (kl_ld_real(L, &fl, XF_EKVA, KL_Q_POWER, &t->emergency_kva, 0, KL_F_POS) == 0 && fl.val[XF_EKVA] >= 0) {
+        t->emergency_kva /= 1e3;
+        if (!(t->emergency_kva >= t->kva))
+            kl_ld_error(L, fl.val[XF_EKVA], "'emergency_rating' (%g kVA) is below 'rating' (%g kVA): an "
+                        "emergency rating is the higher, short-time one", t->emergency_kva, t->kva);
+    }
     add_name(L, &L->h_xf, t->name, i);
 }
 
 /* ---- regulators */
 enum { RG_NAME, RG_CONN, RG_PHASES, RG_CONTROL, RG_TAPS, RG_STEPS, RG_STEP, RG_VL, RG_BW, RG_PT, RG_CT,
-       RG_R, RG_X, RG_MON };
+       RG_R, RG_X, RG_MON, RG_IR, RG_IE };
 static const char *const regulator_keys[] = {"name", "connection", "phases", "control", "taps", "steps",
                                              "step", "voltage_level", "bandwidth", "pt_ratio", "ct_primary",
-                                             "compensator_r", "compensator_x", "monitored", NULL};
+                                             "compensator_r", "compensator_x", "monitored", "rated_current",
+                                             "emergency_current", NULL};
 static const char *const reg_conns[] = {"wye", "closed-delta", "open-delta", NULL};
 static const char *const reg_controls[] = {"fixed", "automatic", NULL};
 
@@ -410,6 +434,13 @@ static void reg_control(kl_loader *L, kl_regulator *g, const kl_fields *fl)
     g->monitored = fl->val[RG_MON] >= 0 ? kl_ld_phases(L, fl->val[RG_MON], "monitored") : g->phases;
     if (g->monitored & ~g->phases)
         kl_ld_error(L, fl->val[RG_MON], "'monitored' names a phase without a regulator unit");
+    /* the CT primary is chosen at the unit's rated load current (common practice) */
+    kl_ld_real(L, fl, RG_IR, KL_Q_CURRENT, &g->rated_current_a, g->ct_primary_a, KL_F_POS);
+    if (kl_ld_real(L, fl, RG_IE, KL_Q_CURRENT, &g->emergency_current_a, 0, KL_F_POS) == 0 &&
+        fl->val[RG_IE] >= 0 && !(g->emergency_current_a >= g->rated_current_a))
+        kl_ld_error(L, fl->val[RG_IE], "'emergency_current' (%g A) is below the rated current (%g A): an "
+                    "emergency rating is the higher, short-time one", g->emergency_current_a,
+                    g->rated_current_a);
 }
 
 void kl_ld_regulator(kl_loader *L, int map)

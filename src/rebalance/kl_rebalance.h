@@ -42,6 +42,9 @@ typedef struct {
     int auto_regs;           /* 1: some regulator controls its taps */
     kl_search_candidate *cand; /* [2*nitems] greedy candidates */
     int ncand;
+    double *load0;           /* [nlevels*nsections] each section's loading in the feeder as
+                                given (kl_loading.worst, NAN unrated), per level */
+    int load0_set;           /* 1 once the base case has filled load0 */
     uint64_t *ckey;          /* [cache size] scores of states seen (few items only): */
     double *cval;            /* key = base-3 digits of the movable items + 1, 0 empty */
 } kl_search_engine;
@@ -62,6 +65,10 @@ kl_status kl_search_engine_solve(kl_search_engine *e, kl_rebalance_summary *sum,
 kl_status kl_search_engine_base(kl_search_engine *e, kl_rebalance_summary *base, kl_errors *err);
 double kl_search_engine_score(const kl_search_engine *e, const kl_rebalance_summary *sum);
 int kl_search_engine_voltage_ok(const kl_search_engine *e, const kl_rebalance_summary *sum);
+/* The loading constraint, the one check of it a candidate or a plan step
+ * goes through: 1 when no level of sum[] overloads a section that was not
+ * overloaded in the feeder as given, or loads an overloaded one more. */
+int kl_search_engine_loading_ok(const kl_search_engine *e, const kl_rebalance_summary *sum);
 int kl_search_engine_converged(const kl_search_engine *e, const kl_rebalance_summary *sum);
 /* 1 once the time limit has passed (and reports progress on the way). */
 int kl_search_engine_time_up(kl_search_engine *e);

@@ -73,6 +73,7 @@ static void step_record(kl_search_engine *e, int *x, int bi, const int *target,
     s->rot = target[bi];
     s->cost = e->rp->items[bi].cost;
     s->voltage_ok = kl_search_engine_voltage_ok(e, bs);
+    s->loading_ok = kl_search_engine_loading_ok(e, bs);
     s->score = kl_search_engine_score(e, bs);
     memcpy(s->after, bs, sizeof *bs * (size_t)e->opt->nlevels);
 }

@@ -156,6 +156,9 @@ kl_status kl_rebalance_evaluate(kl_rephaser *rp, const kl_rebalance_options *opt
     int *zero = kl_calloc((size_t)rp->nitems + 1, sizeof(int));
     if (!st && !zero)
         st = KL_ENOMEM;
+    kl_rebalance_summary base[KL_REBAL_MAX_LEVELS];
+    if (!st) /* the feeder as given first: new overloads are counted against it */
+        st = kl_search_engine_base(&e, base, err);
     if (!st) {
         kl_search_engine_set_state(&e, rot);
         st = kl_search_engine_solve(&e, out, err);

@@ -11,8 +11,11 @@
  * so a result never depends on the order candidates were tried).
  *
  * Constraints: at most K moves, the cost budget, pins and forbidden phases
- * (kl_rephase_state_ok), and service voltages: no bus may leave the range
- * [vmin, vmax], or go further outside it than the feeder as given already is.
+ * (kl_rephase_state_ok), service voltages: no bus may leave the range
+ * [vmin, vmax], or go further outside it than the feeder as given already is;
+ * and loading: no section may go over its continuous rating that was not over
+ * it in the feeder as given, and none already over may carry more
+ * (kl_search_engine_loading_ok).
  *
  * With few movable items the scores of states seen are kept in an
  * open-addressing cache, so a strategy that comes back to a state does not
@@ -62,7 +65,8 @@ kl_status kl_search_engine_init(kl_search_engine *e, kl_rephaser *rp,
     e->tap0 = kl_calloc(3 * (size_t)f->nregulators + 1, sizeof(int));
     e->movable = kl_calloc((size_t)rp->nitems + 1, sizeof(int));
     e->cand = kl_calloc(2 * (size_t)rp->nitems + 1, sizeof(kl_search_candidate));
-    if (!e->snap || !e->tap0 || !e->movable || !e->cand)
+    e->load0 = kl_calloc((size_t)opt->nlevels * (size_t)f->nsections + 1, sizeof(double));
+    if (!e->snap || !e->tap0 || !e->movable || !e->cand || !e->load0)
         return KL_ENOMEM;
     memcpy(e->tap0, e->net->tap, 3 * (size_t)f->nregulators * sizeof(int));
     for (int r = 0; r < f->nregulators && !opt->flow.fixed_taps; r++)
@@ -87,6 +91,7 @@ void kl_search_engine_free(kl_search_engine *e)
     kl_free(e->tap0);
     kl_free(e->movable);
     kl_free(e->cand);
+    kl_free(e->load0);
     kl_free(e->ckey);
     kl_free(e->cval);
     kl_errors_free(&e->scratch);
@@ -130,6 +135,45 @@ static kl_status engine_flow(kl_search_engine *e, const kl_flow_options *fo, kl_
     return kl_flow_solve(e->net, fo, e->res, err);
 }
 
+/* Each section's loading at level l, from the network's solved state: the
+ * most loaded, the count over the rating and of those the base case did not
+ * have (or had less loaded).  The base case records its own. */
+static void level_loading(kl_search_engine *e, int l, kl_rebalance_summary *sum)
+{
+    const kl_feeder *f = e->net->feeder;
+    double *base = e->load0 + (size_t)l * (size_t)f->nsections;
+    sum->loading_max = 0;
+    sum->loading_section = -1;
+    sum->n_overloaded = sum->n_new_overloads = 0;
+    for (int s = 0; s < f->nsections; s++) {
+        kl_loading ld;
+        kl_loading_network(e->net, s, &ld);
+        double x = ld.worst;
+        if (!e->load0_set)
+            base[s] = x;
+        if (!isfinite(x))
+            continue;
+        if (x > sum->loading_max || sum->loading_section < 0) {
+            sum->loading_max = x;
+            sum->loading_section = s;
+        }
+        if (x > 1.0) {
+            sum->n_overloaded++;
+            /* over now: new unless it was over before and carries no more (1e-6: the
+             * solver's own tolerance on a state that did not change there) */
+            sum->n_new_overloads += e->load0_set && !(base[s] > 1.0 && x <= base[s] * (1 + 1e-6));
+        }
+    }
+}
+
+int kl_search_engine_loading_ok(const kl_search_engine *e, const kl_rebalance_summary *sum)
+{
+    for (int l = 0; l < e->opt->nlevels; l++)
+        if (!sum[l].converged || sum[l].n_new_overloads > 0)
+            return 0;
+    return 1;
+}
+
 /* Solves level l of the present network state into *sum. */
 kl_status kl_search_engine_solve_level(kl_search_engine *e, int l, kl_rebalance_summary *sum,
                                        kl_errors *err)
@@ -153,6 +197,7 @@ kl_status kl_search_engine_solve_level(kl_search_engine *e, int l, kl_rebalance_
         return st;
     }
     kl_rebalance_summarize(n, 1, e->opt->neutral_section, sum);
+    level_loading(e, l, sum);
     memcpy(e->snap + (size_t)l * nv, n->vs, nv * sizeof(kl_complex));
     e->snap_valid[l] = 1;
     return KL_OK;
@@ -203,7 +248,9 @@ static double engine_eval(kl_search_engine *e, kl_rebalance_summary *sum)
     kl_errors_clear(&e->scratch);
     if (kl_search_engine_solve(e, sum, &e->scratch) != KL_OK)
         return INFINITY;
-    return kl_search_engine_voltage_ok(e, sum) ? kl_search_engine_score(e, sum) : INFINITY;
+    if (!kl_search_engine_voltage_ok(e, sum) || !kl_search_engine_loading_ok(e, sum))
+        return INFINITY;
+    return kl_search_engine_score(e, sum);
 }
 
 /* Base case: scales and voltage bounds from the feeder as given. */
@@ -212,6 +259,7 @@ kl_status kl_search_engine_base(kl_search_engine *e, kl_rebalance_summary *base,
     kl_status st = kl_search_engine_solve(e, base, err);
     if (st)
         return st;
+    e->load0_set = 1;
     for (int l = 0; l < e->opt->nlevels; l++) {
         for (int o = 0; o < KL_OBJ_COUNT; o++)
             e->scale[l][o] = fmax(fabs(base[l].obj[o]), OBJ_FLOOR[o]);

@@ -74,6 +74,7 @@ int kl_report_bus_unbalance(const kl_report_input *in, int b, double v012_pu[3],
 double kl_report_vuf_pct(const kl_report_input *in, int b);
 double kl_report_neutral_a(const kl_report_input *in, int s);
 double kl_report_map_value(const kl_report_input *in, kl_map_index ix, int s, int far_bus);
+double kl_report_loading_pct(const kl_report_input *in, int s);
 const char *kl_report_map_index_name(kl_map_index ix);
 /* Most sections a plot draws; beyond it the map and profile keep the
  * three-phase part and say so (a browser slows badly past ~10^5 elements). */

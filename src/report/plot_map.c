@@ -22,6 +22,7 @@ typedef struct {
     double h;        /* picture height */
     int thin;        /* too many sections: three-phase part only */
     int tree;        /* automatic layout: sections drawn as elbows */
+    kl_map_index ix; /* what colours the sections */
 } map;
 
 static int draw_bus(const kl_report_input *in, const kl_plot_tree *t, int b, int thin)
@@ -106,13 +107,13 @@ static void value_range(map *m, const kl_report_input *in, const kl_plot_tree *t
     m->lo = INFINITY;
     m->hi = -INFINITY;
     m->worst_bus = -1;
-    int lower_worse = in->opt.map_index == KL_MAP_BY_VOLTAGE;
+    int lower_worse = m->ix == KL_MAP_BY_VOLTAGE;
     double worst = NAN;
     for (int k = 1; k < t->nreached; k++) {
         int b = t->order[k];
         if (!draw_bus(in, t, b, m->thin))
             continue;
-        double v = kl_report_map_value(in, in->opt.map_index, kl_feeder_tree_psec(t->tree, b), b);
+        double v = kl_report_map_value(in, m->ix, kl_feeder_tree_psec(t->tree, b), b);
         if (!isfinite(v))
             continue;
         m->lo = fmin(m->lo, v);
@@ -124,13 +125,17 @@ static void value_range(map *m, const kl_report_input *in, const kl_plot_tree *t
     }
 }
 
-/* Position on the colour scale, 1 = worst. */
+/* Position on the colour scale, 1 = worst.  Loading is shown in three
+ * bands of the same scale, fixed by the limits rather than the range: within
+ * (0), over the warning level (0.5), over the rating (1). */
 static double scale_t(const map *m, const kl_report_input *in, double v)
 {
+    if (m->ix == KL_MAP_BY_LOADING)
+        return v > 100.0 ? 1.0 : v > 100.0 * in->opt.limits.loading_warning ? 0.5 : 0.0;
     if (!(m->hi > m->lo))
         return 0.5;
     double t = (v - m->lo) / (m->hi - m->lo);
-    return in->opt.map_index == KL_MAP_BY_VOLTAGE ? 1 - t : t;
+    return m->ix == KL_MAP_BY_VOLTAGE ? 1 - t : t;
 }
 
 static void draw_sections(FILE *out, const map *m, const kl_report_input *in, const kl_plot_tree *t)
@@ -142,7 +147,7 @@ static void draw_sections(FILE *out, const map *m, const kl_report_input *in, co
         int b = t->order[k], a = t->order[t->tree->up[k]], s = t->tree->sec[k];
         if (!draw_bus(in, t, b, m->thin))
             continue;
-        double v = kl_report_map_value(in, in->opt.map_index, s, b);
+        double v = kl_report_map_value(in, m->ix, s, b);
         char col[8], attr[128];
         if (isfinite(v))
             kl_svg_colour_scale(scale_t(m, in, v), col);
@@ -191,26 +196,53 @@ static void draw_labels(FILE *out, const map *m, const kl_report_input *in, cons
         label_bus(out, m, f, m->worst_bus, "worst: ");
 }
 
+/* The loading bands, with their limits and how many sections fall in each. */
+static void legend_loading(FILE *out, const map *m, const kl_report_input *in, double x, double y)
+{
+    double warn = 100.0 * in->opt.limits.loading_warning;
+    static const double t[3] = {0.0, 0.5, 1.0};
+    for (int k = 0; k < 3; k++) {
+        char col[8], attr[32];
+        snprintf(attr, sizeof attr, "fill=\"%s\"", kl_svg_colour_scale(t[k], col));
+        kl_svg_rect(out, x, y + 24 + 14 * k, 26, 8, attr);
+        if (k == 0)
+            kl_svg_textf(out, x + 32, y + 32, "fill=\"#222\"", "up to %.0f %%", warn);
+        else if (k == 1)
+            kl_svg_textf(out, x + 32, y + 46, "fill=\"#222\"", "%.0f to 100 %% (note)", warn);
+        else
+            kl_svg_text(out, x + 32, y + 60, "fill=\"#222\"", "over 100 % (overloaded)");
+    }
+    (void)m;
+}
+
 static void draw_legend(FILE *out, const map *m, const kl_report_input *in)
 {
     double x = LEGEND_X, y = BOX_Y + 10;
     kl_svg_text(out, x, y, "fill=\"#222\" font-weight=\"bold\"", "Colour:");
-    kl_svg_text(out, x, y + 15, "fill=\"#222\"", kl_report_map_index_name(in->opt.map_index));
-    for (int k = 0; k < 40; k++) { /* the scale as 40 steps: no gradient ids needed */
+    kl_svg_text(out, x, y + 15, "fill=\"#222\"", kl_report_map_index_name(m->ix));
+    if (m->ix == KL_MAP_BY_LOADING)
+        legend_loading(out, m, in, x, y);
+    for (int k = 0; k < 40 && m->ix != KL_MAP_BY_LOADING; k++) { /* the scale as 40 steps: no gradient ids needed */
         char col[8], attr[32];
         double v = m->lo + (m->hi - m->lo) * k / 39.0;
         snprintf(attr, sizeof attr, "fill=\"%s\"", kl_svg_colour_scale(scale_t(m, in, v), col));
         kl_svg_rect(out, x + 4.5 * k, y + 24, 4.6, 14, attr);
     }
-    int dec = in->opt.map_index == KL_MAP_BY_VOLTAGE ? 3 : in->opt.map_index == KL_MAP_BY_VUF ? 2 : 1;
-    if (isfinite(m->lo)) {
+    int dec = m->ix == KL_MAP_BY_VOLTAGE ? 3 : m->ix == KL_MAP_BY_VUF ? 2 : 1;
+    if (m->ix == KL_MAP_BY_LOADING) {
+        if (isfinite(m->hi))
+            kl_svg_textf(out, x, y + 80, "fill=\"#222\"", "highest %.0f %%", m->hi);
+    } else if (isfinite(m->lo)) {
         kl_svg_textf(out, x, y + 52, "fill=\"#222\"", "%.*f", dec, m->lo);
         kl_svg_textf(out, x + 180, y + 52, "fill=\"#222\" text-anchor=\"end\"", "%.*f", dec, m->hi);
     } else {
         kl_svg_text(out, x, y + 52, "fill=\"#222\"", "no values for this index");
     }
-    kl_svg_rect(out, x, y + 62, 26, 6, "fill=\"#9a9a9a\"");
-    kl_svg_text(out, x + 32, y + 69, "fill=\"#222\"", "no value (grey)");
+    double gy = m->ix == KL_MAP_BY_LOADING ? 28 : 0; /* the bands take more room */
+    kl_svg_rect(out, x, y + 62 + gy, 26, 6, "fill=\"#9a9a9a\"");
+    kl_svg_text(out, x + 32, y + 69 + gy, "fill=\"#222\"",
+                m->ix == KL_MAP_BY_LOADING ? "no rating (grey)" : "no value (grey)");
+    y += gy;
     static const char *const lab[3] = {"three-phase", "two-phase", "single-phase"};
     static const char *const attr[3] = {"stroke=\"#444\" stroke-width=\"4\"",
         "stroke=\"#444\" stroke-width=\"2.4\" stroke-dasharray=\"7 3\"",
@@ -226,10 +258,11 @@ static void draw_legend(FILE *out, const map *m, const kl_report_input *in)
                     "large feeder: three-phase part only");
 }
 
-kl_status kl_plot_map_write(FILE *out, const kl_report_input *in, kl_errors *err)
+static kl_status map_write(FILE *out, const kl_report_input *in, kl_map_index ix, kl_errors *err)
 {
     kl_plot_tree *t = NULL;
     map m = {0};
+    m.ix = ix;
     kl_status st = kl_report_input_check(out, in, err);
     if (st != KL_OK)
         return st;
@@ -257,4 +290,14 @@ done:
     kl_free(m.y);
     kl_plot_tree_free(t);
     return st;
+}
+
+kl_status kl_plot_map_write(FILE *out, const kl_report_input *in, kl_errors *err)
+{
+    return map_write(out, in, in ? in->opt.map_index : KL_MAP_BY_VUF, err);
+}
+
+kl_status kl_plot_map_loading_write(FILE *out, const kl_report_input *in, kl_errors *err)
+{
+    return map_write(out, in, KL_MAP_BY_LOADING, err);
 }

@@ -345,6 +345,12 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
     if (st == KL_OK)
         st = section_plot(out, "map", "Feeder map", "Line weight and dash show the phasing; "
                           "colour shows the chosen index.", kl_plot_map_write, in, err);
+    if (st == KL_OK)
+        st = section_plot(out, "loading", "Loading", "Each section coloured by its loading: its "
+                          "most loaded phase's current over its continuous rating (lines: "
+                          "ampacity; regulators: rated current; transformers: rated current of "
+                          "each winding, and the bank's kVA). Grey: no rating in the feeder file.",
+                          kl_plot_map_loading_write, in, err);
     kl_progress_step(in->progress, "writing the report", 3, 6);
     if (st == KL_OK)
         st = section_phasors(out, in, &s, err);

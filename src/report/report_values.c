@@ -99,6 +99,18 @@ double kl_report_neutral_a(const kl_report_input *in, int s)
     return isfinite(a) ? a : NAN;
 }
 
+/* Section s's worst loading, % of its continuous rating: the study's, else
+ * from the sending-end currents alone (kilter/flow.h). */
+double kl_report_loading_pct(const kl_report_input *in, int s)
+{
+    if (in->study)
+        return 100.0 * in->study->loading[s];
+    kl_loading_currents c = {in->ph.i, NULL, NULL, NULL};
+    kl_loading l;
+    kl_loading_section(in->feeder, &c, s, &l);
+    return 100.0 * l.worst;
+}
+
 /* The value that colours section s on the map (far-end bus for the bus
  * indices); the far end is the bus the tree reached through s. */
 double kl_report_map_value(const kl_report_input *in, kl_map_index ix, int s, int far_bus)
@@ -106,6 +118,7 @@ double kl_report_map_value(const kl_report_input *in, kl_map_index ix, int s, in
     switch (ix) {
     case KL_MAP_BY_VUF: return kl_report_vuf_pct(in, far_bus);
     case KL_MAP_BY_NEUTRAL: return kl_report_neutral_a(in, s);
+    case KL_MAP_BY_LOADING: return kl_report_loading_pct(in, s);
     case KL_MAP_BY_VOLTAGE:
     default: return kl_report_vmin_pu(in, far_bus);
     }
@@ -116,6 +129,7 @@ const char *kl_report_map_index_name(kl_map_index ix)
     switch (ix) {
     case KL_MAP_BY_VUF: return "voltage unbalance factor (%)";
     case KL_MAP_BY_NEUTRAL: return "neutral current (A)";
+    case KL_MAP_BY_LOADING: return "loading (% of rating)";
     case KL_MAP_BY_VOLTAGE:
     default: return "lowest phase voltage (per unit)";
     }
@@ -147,9 +161,9 @@ kl_status kl_report_input_check(FILE *out, const kl_report_input *in, kl_errors 
                       "rephaser it was computed with (its items name the moves)");
         return KL_EARG;
     }
-    if ((unsigned)in->opt.map_index > KL_MAP_BY_NEUTRAL) {
+    if ((unsigned)in->opt.map_index > KL_MAP_BY_LOADING) {
         kl_errors_add(err, NULL, 0, 0, NULL, "report: unknown map index %d (expected voltage, "
-                      "vuf or neutral)", (int)in->opt.map_index);
+                      "vuf, neutral or loading)", (int)in->opt.map_index);
         return KL_EARG;
     }
     return KL_OK;
@@ -162,8 +176,8 @@ kl_report_phases kl_report_phases_of(const kl_flow_result *res)
 
 int kl_map_index_parse(const char *s)
 {
-    static const char *const name[3] = {"voltage", "vuf", "neutral"}; /* kl_map_index order */
-    for (int k = 0; s && k < 3; k++)
+    static const char *const name[4] = {"voltage", "vuf", "neutral", "loading"}; /* kl_map_index order */
+    for (int k = 0; s && k < 4; k++)
         if (!strcmp(s, name[k]))
             return k;
     return -1;

@@ -207,6 +207,37 @@ static void sec_ie_angle(const void *ctx, int s, int p, kl_cell *c)
     c->num = deg(ROWS(ctx)->flow->i_earth[s]);
 }
 
+/* Loading (kilter/flow.h, kl_loading_of), in percent. */
+static void sec_loading(const void *ctx, int s, int p, kl_cell *c)
+{
+    kl_loading l;
+    kl_loading_of(ROWS(ctx)->feeder, ROWS(ctx)->flow, s, &l);
+    c->num = 100.0 * l.phase[p];
+}
+
+static void sec_loading_emerg(const void *ctx, int s, int p, kl_cell *c)
+{
+    kl_loading l;
+    kl_loading_of(ROWS(ctx)->feeder, ROWS(ctx)->flow, s, &l);
+    c->num = 100.0 * l.phase_emerg[p];
+}
+
+static void sec_bank_loading(const void *ctx, int s, int p, kl_cell *c)
+{
+    kl_loading l;
+    (void)p;
+    kl_loading_of(ROWS(ctx)->feeder, ROWS(ctx)->flow, s, &l);
+    c->num = 100.0 * l.bank;
+}
+
+static void sec_rating(const void *ctx, int s, int p, kl_cell *c)
+{
+    kl_loading l;
+    (void)p;
+    kl_loading_of(ROWS(ctx)->feeder, ROWS(ctx)->flow, s, &l);
+    c->num = l.rating;
+}
+
 /* Text: an open section is one line; a line section's neutral and earth
  * return follow its phases. */
 static void sec_text_after(FILE *o, const void *ctx, int s)
@@ -219,6 +250,13 @@ static void sec_text_after(FILE *o, const void *ctx, int s)
         fprintf(o, "%-16s %-5s %10.2f %9.2f   (earth return %.2f A)\n", sc->name, "n",
                 cabs(w->flow->i_neutral[s]), deg(w->flow->i_neutral[s]),
                 cabs(w->flow->i_earth[s]));
+    else if (sc->kind == KL_SEC_TRANSFORMER && sc->device >= 0) {
+        kl_loading l;
+        kl_loading_of(w->feeder, w->flow, s, &l);
+        if (isfinite(l.bank))
+            fprintf(o, "%-16s %-5s %10s %9s   (bank %.1f %% of %.0f kVA)\n", sc->name, "bank", "", "",
+                    100.0 * l.bank, w->feeder->transformers[sc->device].kva);
+    }
 }
 
 #define SECTION_NUM(k, jk, u, h, g, in_, hd, tf, jf) \
@@ -250,6 +288,16 @@ static const kl_column sec_cols[] = {
                 "loss kW", " %10.3f", NULL),
     SECTION_NUM("q_loss_kvar", NULL, "kvar", "reactive power lost in the section", sec_q_loss,
                 CJ, "", NULL, NULL),
+    SECTION_NUM("loading_pct", NULL, "%", "phase current over its rating (lines: ampacity; "
+                "regulators: rated current; transformers: each winding's rated line current, the "
+                "larger side)", sec_loading, TCJ, "load %", " %7.1f", NULL),
+    SECTION_NUM("loading_emergency_pct", NULL, "%", "the same over the emergency rating",
+                sec_loading_emerg, CJ, "", NULL, NULL),
+    {.key = "rating_amps", .unit = "A", .help = "the phase rating the loading is measured against "
+     "(transformers: the source side's rated line current)", .type = KL_CELL_NUM, .get = sec_rating,
+     .in = CJ},
+    {.key = "bank_loading_pct", .unit = "%", .help = "transformers: the sum of the phases' kVA over "
+     "the bank's rating", .type = KL_CELL_NUM, .get = sec_bank_loading, .in = CJ},
     {.key = "i_neutral_amps", .unit = "A", .help = "neutral conductor current magnitude",
      .type = KL_CELL_NUM, .get = sec_in_amps, .in = KL_IN_CSV},
     {.key = "i_neutral_angle_deg", .unit = "deg", .help = "neutral conductor current angle",

@@ -74,6 +74,25 @@ static const kl_rebalance_summary *summary_of(const kl_plan_rows *w, int r, int 
     return st ? &st->after[l] : &w->plan->before[l];
 }
 
+/* The most loaded section, % of its continuous rating (NAN when none is
+ * rated), its name, and the sections over their rating. */
+static void loading_max_pct(const void *ctx, int r, int j, kl_cell *c)
+{
+    const kl_rebalance_summary *s = summary_of(ROWS(ctx), r, j);
+    c->num = s->loading_section >= 0 ? 100.0 * s->loading_max : NAN;
+}
+
+static void loading_section(const void *ctx, int r, int j, kl_cell *c)
+{
+    const kl_rebalance_summary *s = summary_of(ROWS(ctx), r, j);
+    c->str = s->loading_section >= 0 ? ROWS(ctx)->feeder->sections[s->loading_section].name : NULL;
+}
+
+static void overloaded(const void *ctx, int r, int j, kl_cell *c)
+{
+    c->i = summary_of(ROWS(ctx), r, j)->n_overloaded;
+}
+
 static void step_number(const void *ctx, int r, int j, kl_cell *c)
 {
     c->i = step_of(ROWS(ctx), r);
@@ -161,6 +180,12 @@ static void step_score(const void *ctx, int r, int j, kl_cell *c)
 static void step_voltage_ok(const void *ctx, int r, int j, kl_cell *c)
 {
     c->i = step_at(ROWS(ctx), r)->voltage_ok != 0;
+}
+
+static void step_loading_ok(const void *ctx, int r, int j, kl_cell *c)
+{
+    const kl_plan_step *st = step_at(ROWS(ctx), r);
+    c->i = st ? st->loading_ok != 0 : 1;
 }
 
 static void step_voltage_ok_html(const void *ctx, int r, int j, kl_cell *c)
@@ -252,7 +277,13 @@ static void step_text_after(FILE *o, const void *ctx, int r)
     {.key = "vuf", .type = KL_CELL_NUM, .get = vuf, .in = KL_IN_JSON, .sub = sb}, \
     {.key = "losses_kw", .type = KL_CELL_NUM, .get = losses_kw, .in = KL_IN_JSON, .sub = sb}, \
     {.key = "v_min_pu", .type = KL_CELL_NUM, .get = v_min_pu, .in = KL_IN_JSON, .sub = sb}, \
-    {.key = "v_max_pu", .type = KL_CELL_NUM, .get = v_max_pu, .in = KL_IN_JSON, .sub = sb}
+    {.key = "v_max_pu", .type = KL_CELL_NUM, .get = v_max_pu, .in = KL_IN_JSON, .sub = sb}, \
+    {.key = "loading_max_pct", .type = KL_CELL_NUM, .get = loading_max_pct, .in = KL_IN_JSON, \
+     .sub = sb}, \
+    {.key = "most_loaded_section", .type = KL_CELL_STR, .get = loading_section, \
+     .in = KL_IN_JSON, .sub = sb}, \
+    {.key = "sections_over_rating", .type = KL_CELL_INT, .get = overloaded, .in = KL_IN_JSON, \
+     .sub = sb}
 
 static const kl_column step_cols[] = {
     {.key = "step", .help = "move number; 0 is the feeder as given", .type = KL_CELL_INT,
@@ -300,6 +331,8 @@ static const kl_column step_cols[] = {
      .get = v_min_pu, .in = TC | KL_IN_HTML, .text_head = "low pu", .text = " %8.4f",
      .csv = "%.8f", .html_head = "lowest V after pu", .html = KL_NUM_PU},
     NUM("v_max_pu", "pu", "highest phase voltage", v_max_pu, KL_IN_CSV, NULL, NULL, "%.8f"),
+    NUM("loading_max_pct", "%", "the most loaded section's loading, % of its continuous rating",
+        loading_max_pct, TC, "load %", " %7.1f", "%.6f"),
     {.key = "score", .help = "weighted score after the moves so far (1 = as given)",
      .type = KL_CELL_NUM, .get = step_score, .in = TC | KL_IN_JSON, .text_head = "score",
      .text = " %8.4f", .csv = "%.8f", .json = "%.8f"},
@@ -307,6 +340,9 @@ static const kl_column step_cols[] = {
      .type = KL_CELL_BOOL, .get = step_voltage_ok, .in = KL_IN_JSON},
     {.key = "voltage_ok", .type = KL_CELL_STR, .get = step_voltage_ok_html, .in = KL_IN_HTML,
      .html_head = "voltages in range"},
+    {.key = "loading_ok", .help = "no section overloaded by the moves so far (none over its "
+     "continuous rating that was not over it as given, none over it loaded more)",
+     .type = KL_CELL_BOOL, .get = step_loading_ok, .in = KL_IN_JSON},
     SUMMARY_JSON(1),
 };
 

@@ -356,6 +356,46 @@ static void neutral_verdict(const void *ctx, int k, int j, kl_cell *c)
     c->str = fl < 0 ? "rating not known" : fl ? "over" : "within";
 }
 
+/* The section's worst loading, of its continuous and emergency ratings (the
+ * study's, kl_loading_section); per phase from the flow's phases the study
+ * read. */
+static void sec_loading(const void *ctx, int k, int j, kl_cell *c)
+{
+    c->num = pct(ROWS(ctx)->study->loading[k]);
+}
+
+static void sec_loading_emerg(const void *ctx, int k, int j, kl_cell *c)
+{
+    c->num = pct(ROWS(ctx)->study->loading_emerg[k]);
+}
+
+static void sec_loading_phase(const kl_study_rows *w, int k, int p, kl_cell *c)
+{
+    const kl_study_phases *ph = w->ph;
+    kl_loading l;
+    c->num = NAN;
+    if (!ph)
+        return;
+    kl_loading_currents cur = {ph->i, ph->i_recv, ph->s_in, ph->sec_solved};
+    kl_loading_section(w->feeder, &cur, k, &l);
+    c->num = pct(l.phase[p]);
+}
+
+static void sec_loading_a(const void *ctx, int k, int j, kl_cell *c)
+{
+    sec_loading_phase(ROWS(ctx), k, 0, c);
+}
+
+static void sec_loading_b(const void *ctx, int k, int j, kl_cell *c)
+{
+    sec_loading_phase(ROWS(ctx), k, 1, c);
+}
+
+static void sec_loading_c(const void *ctx, int k, int j, kl_cell *c)
+{
+    sec_loading_phase(ROWS(ctx), k, 2, c);
+}
+
 static void over_mark(const void *ctx, int k, int j, kl_cell *c)
 {
     c->str = ROWS(ctx)->study->neutral_flag[k] == 1 ? "  OVER" : "";
@@ -386,6 +426,14 @@ static const kl_column sec_cols[] = {
     NUM("earth_a", "A", "earth-return current", earth_a, KL_IN_JSON, "", NULL),
     NUM("neutral_loading_pct", "%", "neutral RMS over the neutral's ampacity", loading,
         KL_IN_JSON, "", NULL),
+    NUM("loading_pct", "%", "the section's loading: its most loaded phase's current over its "
+        "continuous rating, or a transformer bank's kVA over its rating, whichever is larger",
+        sec_loading, TCJ, "load%", " %6.1f"),
+    NUM("loading_a_pct", "%", "phase a current over its rating", sec_loading_a, CJ, "", NULL),
+    NUM("loading_b_pct", "%", "phase b current over its rating", sec_loading_b, CJ, "", NULL),
+    NUM("loading_c_pct", "%", "phase c current over its rating", sec_loading_c, CJ, "", NULL),
+    NUM("loading_emergency_pct", "%", "the section's loading over its emergency ratings",
+        sec_loading_emerg, CJ, "", NULL),
 };
 
 const kl_table kl_table_study_sections = {

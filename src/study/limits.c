@@ -28,6 +28,9 @@ void kl_limits_default(kl_limits *l)
     l->relay_share = 0.5;
     /* Neutral: up to its full ampacity by default (configurable margin). */
     l->neutral_share = 1.0;
+    /* Loading: a note above 80 % of the continuous rating, the planning
+     * margin commonly kept for load growth and switching (common practice). */
+    l->loading_warning = 0.80;
 }
 
 static int positive(double x)
@@ -62,6 +65,9 @@ kl_status kl_limits_check(const kl_limits *l, kl_errors *err)
         st = bad(err, "ground relay share: expected a positive fraction of pickup (e.g. 0.5)");
     if (!positive(l->neutral_share))
         st = bad(err, "neutral share: expected a positive fraction of ampacity (e.g. 1.0)");
+    if (!(positive(l->loading_warning) && l->loading_warning <= 1.0))
+        st = bad(err, "loading warning level: expected a share of the rating above 0 and at most "
+                 "100 % (e.g. 80 %); over 100 % is a violation already");
     return st;
 }
 
@@ -109,6 +115,13 @@ int kl_limits_motor(const kl_limits *l, double lvur)
     if (lvur > l->motor_unbalance_max)
         return 2;
     return lvur > l->motor_unbalance ? 1 : 0;
+}
+
+int kl_limits_loading(const kl_limits *l, double loading)
+{
+    if (!isfinite(loading))
+        return -1;
+    return loading > 1.0 ? KL_LOADING_OVER : loading > l->loading_warning ? KL_LOADING_NOTE : 0;
 }
 
 int kl_limits_share(double value, double rating, double share, double *ratio)

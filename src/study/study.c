@@ -7,6 +7,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "kilter/flow.h"
 #include "kilter/study.h"
 #include "kl_study.h"
 
@@ -31,6 +32,7 @@ void kl_study_free(kl_study *s)
         s->vbus, s->vll012, s->unb, s->v_pu, s->service, s->vuf_flags, s->motor,
         s->derate_zone, s->derate_factor, s->isec, s->iunb, s->i_n1, s->i_e,
         s->i3, s->i_n3, s->i_n_rms, s->neutral_ratio, s->neutral_flag, s->run,
+        s->loading, s->loading_emerg, s->loading_flag,
         s->run_construction, s->run_first, s->run_sections, s->run_worst,
         s->run_current, s->run_required, s->run_installed, s->run_conductor,
         s->cbus, s->cstart, s->ckind, s->cid, s->cshare, s->c_unbal_total,
@@ -71,7 +73,11 @@ static kl_study *study_alloc(int nb, int ns, int nl)
     s->neutral_ratio = kl_calloc(c, sizeof *s->neutral_ratio);
     s->neutral_flag = kl_calloc(c, sizeof *s->neutral_flag);
     s->run = kl_calloc(c, sizeof *s->run);
+    s->loading = kl_calloc(c, sizeof *s->loading);
+    s->loading_emerg = kl_calloc(c, sizeof *s->loading_emerg);
+    s->loading_flag = kl_calloc(c, sizeof *s->loading_flag);
     if (!s->vbus || !s->vll012 || !s->unb || !s->v_pu || !s->service || !s->vuf_flags
+        || !s->loading || !s->loading_emerg || !s->loading_flag
         || !s->motor || !s->derate_zone || !s->derate_factor || !s->isec || !s->iunb
         || !s->i_n1 || !s->i_e || !s->i3 || !s->i_n3 || !s->i_n_rms || !s->neutral_ratio
         || !s->neutral_flag || !s->run) {
@@ -272,10 +278,13 @@ static void summarise_buses(kl_study *s)
 
 static void summarise_sections(kl_study *s)
 {
-    double wr = 0, wa = 0, wi = 0;
+    double wr = 0, wa = 0, wi = 0, wl = 0;
     int by_amps = -1;
-    s->worst_neutral = s->worst_i2 = -1;
+    s->worst_neutral = s->worst_i2 = s->worst_loading = -1;
     for (int k = 0; k < s->nsections; k++) {
+        keep_max(s->loading[k], k, &wl, &s->worst_loading);
+        s->n_loading_over += s->loading_flag[k] == KL_LOADING_OVER;
+        s->n_loading_note += s->loading_flag[k] == KL_LOADING_NOTE;
         keep_max(s->iunb[k].i2_i1, k, &wi, &s->worst_i2);
         keep_max(s->neutral_ratio[k], k, &wr, &s->worst_neutral);
         keep_max(s->i_n_rms[k], k, &wa, &by_amps);
@@ -285,6 +294,21 @@ static void summarise_sections(kl_study *s)
      * carrying the most current. */
     if (s->worst_neutral < 0)
         s->worst_neutral = by_amps;
+}
+
+/* Each section's loading against its ratings (kl_loading_section, the
+ * flow layer's one definition) and its class against the limits. */
+static void eval_loading(const kl_feeder *f, const kl_study_phases *ph, const kl_study_options *opt,
+                         kl_study *s)
+{
+    kl_loading_currents c = {ph->i, ph->i_recv, ph->s_in, ph->sec_solved};
+    for (int k = 0; k < f->nsections; k++) {
+        kl_loading l;
+        kl_loading_section(f, &c, k, &l);
+        s->loading[k] = l.worst;
+        s->loading_emerg[k] = l.worst_emerg;
+        s->loading_flag[k] = kl_limits_loading(&opt->limits, l.worst);
+    }
 }
 
 static kl_status eval_all(const kl_feeder *f, const kl_study_phases *ph,
@@ -300,6 +324,7 @@ static kl_status eval_all(const kl_feeder *f, const kl_study_phases *ph,
     for (int k = 0; k < f->nsections; k++)
         if (eval_section(f, ph, s, k, err) != KL_OK)
             st = KL_EARG;
+    eval_loading(f, ph, opt, s);
     return st;
 }
 

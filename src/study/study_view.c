@@ -30,6 +30,8 @@ static void phases_view(const kl_flow_result *res, kl_study_phases *ph)
     ph->i_earth = res->i_earth;
     ph->s_load = res->s_load;
     ph->sec_solved = res->sec_solved;
+    ph->i_recv = res->i_recv;
+    ph->s_in = res->s_in;
 }
 
 static void paths_view(const kl_network *net, kl_study_paths *p)
