@@ -66,7 +66,7 @@ blank_bytes=$(wc -c <"$tmp/blank.png")
 [ "$rep_bytes" -gt $((blank_bytes * 10)) ] \
   || fail "screenshot looks blank ($rep_bytes bytes against $blank_bytes for a blank page)"
 
-# The browser's own parse of the page: every part is there, three plots, no script.
+# The browser's own parse of the page: every part is there, four plots, no script.
 prof=$(mktemp -d "$tmp/profile.XXXX")
 timeout 120 "$browser" --headless --no-sandbox --disable-gpu --disable-quic --no-first-run \
   --disable-background-networking --disable-component-update --disable-sync \
@@ -77,7 +77,7 @@ for h in "Summary" "Voltage along the feeder" "Feeder map" "Phasors at bus" "Unb
   grep -q "<h2>$h" "$tmp/dom.html" || fail "the rendered page has no heading '$h'"
 done
 nsvg=$(grep -o '<svg ' "$tmp/dom.html" | wc -l)
-[ "$nsvg" -eq 3 ] || fail "the rendered page has $nsvg plots, expected 3"
+[ "$nsvg" -eq 4 ] || fail "the rendered page has $nsvg plots, expected 4"
 if grep -q '<script' "$tmp/dom.html"; then fail "the rendered page holds a script element"; fi
 
 echo "cli_report_browser: ok (screenshot $size, $rep_bytes bytes; blank page $blank_bytes bytes)"

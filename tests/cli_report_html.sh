@@ -19,11 +19,11 @@ fail() { echo "cli_report_html: FAIL: $*"; exit 1; }
   || { cat "$tmp/err"; fail "kilter study --format csv --table neutrals failed"; }
 h="$tmp/r.html"
 
-# Whole and self-contained: one document, three plots, no script, nothing fetched.
+# Whole and self-contained: one document, four plots (profile, feeder map, loading map, phasors), no script, nothing fetched.
 grep -q '^<!DOCTYPE html>' "$h" || fail "no doctype"
 tail -n 1 "$h" | grep -q '</html>' || fail "the document is not complete"
-[ "$(grep -o '<svg ' "$h" | wc -l)" -eq 3 ] || fail "expected 3 plots"
-[ "$(grep -o '</svg>' "$h" | wc -l)" -eq 3 ] || fail "an SVG is not closed"
+[ "$(grep -o '<svg ' "$h" | wc -l)" -eq 4 ] || fail "expected 4 plots"
+[ "$(grep -o '</svg>' "$h" | wc -l)" -eq 4 ] || fail "an SVG is not closed"
 for h2 in Summary "Voltage along the feeder" "Feeder map" "Phasors at bus" Unbalance \
           "What causes the unbalance" "Neutral current" "Suggested phase moves"; do
   grep -q "<h2>$h2" "$h" || fail "no section '$h2'"
@@ -117,14 +117,14 @@ done
 grep -q '>neutral current (A)</text>' "$tmp/n.html" || fail "--map neutral: the map legend names another index"
 "$kilter" study "$feeder" --map colour --html "$tmp/x.html" >/dev/null 2>"$tmp/err"
 [ $? -eq 64 ] || fail "--map colour should be refused with exit 64"
-grep -q -- "--map needs vuf, neutral or voltage" "$tmp/err" || fail "--map colour: unclear message"
+grep -q -- "--map needs vuf, neutral, voltage or loading" "$tmp/err" || fail "--map colour: unclear message"
 [ ! -e "$tmp/x.html" ] || fail "--map colour still wrote a report"
 
 # With a rebalancing plan: the moves table and the before/after plot join the page.
 "$kilter" rebalance "$feeder" --max-moves 3 --html "$tmp/plan.html" >/dev/null 2>"$tmp/err" \
   || { cat "$tmp/err"; fail "kilter rebalance --html failed"; }
 grep -q '<table class="moves">' "$tmp/plan.html" || fail "the plan's report has no moves table"
-[ "$(grep -o '<svg ' "$tmp/plan.html" | wc -l)" -eq 4 ] || fail "the plan's report lacks its plot"
+[ "$(grep -o '<svg ' "$tmp/plan.html" | wc -l)" -eq 5 ] || fail "the plan's report lacks its plot"
 nmoves=$(awk '/<table class="moves">/{on=1;next} on&&/<\/table>/{on=0} on&&/^<tr><td>/{n++} END{print n+0}' "$tmp/plan.html")
 [ "$nmoves" -ge 1 ] && [ "$nmoves" -le 3 ] || fail "the plan's report lists $nmoves moves (expected 1 to 3)"
 

@@ -168,12 +168,16 @@ START_TEST(every_part_present)
     ck_assert_ptr_nonnull(strstr(h, "<!DOCTYPE html>"));
     ck_assert_ptr_nonnull(strstr(h, "</html>"));
     static const char *const heads[] = {"<h2>Summary</h2>", "<h2>Voltage along the feeder</h2>",
-        "<h2>Feeder map</h2>", "<h2>Phasors at bus ", "<h2>Unbalance</h2>",
+        "<h2>Feeder map</h2>", "<h2>Loading</h2>", "<h2>Phasors at bus ", "<h2>Unbalance</h2>",
         "<h2>Neutral current</h2>", "<h2>Suggested phase moves</h2>"};
     for (size_t k = 0; k < sizeof heads / sizeof *heads; k++)
         ck_assert_msg(strstr(h, heads[k]), "missing %s", heads[k]);
-    ck_assert_int_eq(count(h, "<svg "), 3);
-    ck_assert_int_eq(count(h, "</svg>"), 3);
+    ck_assert_int_eq(count(h, "<svg "), 4);
+    ck_assert_int_eq(count(h, "</svg>"), 4);
+    /* the loading map's legend: its bands at the limits' warning level */
+    ck_assert_ptr_nonnull(strstr(h, "loading (% of rating)"));
+    ck_assert_ptr_nonnull(strstr(h, "80 to 100 % (note)"));
+    ck_assert_ptr_nonnull(strstr(h, "over 100 % (overloaded)"));
     /* self-contained: nothing fetched from elsewhere */
     ck_assert_ptr_null(strstr(h, "src=\""));
     ck_assert_ptr_null(strstr(h, "href="));
@@ -518,7 +522,7 @@ START_TEST(with_a_plan)
     x.rin.rephaser = &rp;
     char *h = render(&x.rin, &st, &err);
     ck_assert_int_eq(st, KL_OK);
-    ck_assert_int_eq(count(h, "<svg "), 4);
+    ck_assert_int_eq(count(h, "<svg "), 5);
     ck_assert_ptr_nonnull(strstr(h, "<table class=\"moves\">"));
     ck_assert_ptr_nonnull(strstr(h, "<td class=\"n\">tap&lt;&#39;3&#39;&gt;</td><td class=\"n\">lateral"
                                     "</td><td class=\"n\">a &rarr; b</td>"));

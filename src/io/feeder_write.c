@@ -373,7 +373,7 @@ static void write_regulators(FILE *o, const kl_feeder *f)
             fprintf(o, "    pt_ratio: %.17g\n", g->pt_ratio);
         if (g->ct_primary_a > 0)
             fprintf(o, "    ct_primary: %.17g A\n", g->ct_primary_a);
-        if (g->rated_current_a > 0)
+        if (g->rated_current_a > 0 && g->rated_current_a != g->ct_primary_a) /* the default: ct_primary */
             fprintf(o, "    rated_current: %.17g A\n", g->rated_current_a);
         if (g->emergency_current_a > 0)
             fprintf(o, "    emergency_current: %.17g A\n", g->emergency_current_a);
