@@ -159,6 +159,17 @@ void kl_loading_section(const kl_feeder *f, const kl_loading_currents *c, int s,
     loading_of_ends(f, s, &e, out);
 }
 
+/* Whether section s has a rating to be loaded against (what the advisor
+ * checks first, so that unrated sections cost it nothing). */
+static int rated(const kl_feeder *f, const kl_section *sc)
+{
+    double normal, emerg;
+    if (sc->kind == KL_SEC_TRANSFORMER)
+        return sc->device >= 0 && sc->device < f->ntransformers && f->transformers[sc->device].kva > 0;
+    amp_ratings(f, sc, &normal, &emerg);
+    return normal > 0;
+}
+
 /* The network's branch currents: the sending end of the section's first
  * branch, the receiving end of its last (a distributed load splits a line in
  * two), the phases the network gives it now (a rephased lateral's). */
@@ -167,7 +178,7 @@ void kl_loading_network(const kl_network *n, int s, kl_loading *out)
     int k1 = n->sec_first[s], k2 = n->sec_last[s];
     ends e;
     clear(out);
-    if (k1 < 0 || k2 < 0)
+    if (k1 < 0 || k2 < 0 || !rated(n->feeder, &n->feeder->sections[s]))
         return;
     kl_sweep_i_from(n, k1, e.i);
     const kl_complex *ir = kl_network_i_to(n, k2), *vf = kl_network_bus_v(n, n->br_from[k1]);
