@@ -257,12 +257,13 @@ radial: true
 
 # ----------------------------------------------------------------------------- source
 # Quillmere substation, 69 kV / 12.47 kV bank with load tap changer holding the
-# 12.47 kV bus; the equivalent is the bank plus the 69 kV system seen from the bus.
+# 12.47 kV bus (its positive sequence) at 1.025 pu, 123 V on the 120 V base; the
+# equivalent is the bank plus the 69 kV system seen from the bus.
 source:
   bus: sub
   nominal_voltage: 12.47 kV
   frequency: 60 Hz
-  regulated_voltage: 1.04 pu
+  regulated_voltage: 1.025 pu
   angle: 0 deg
   equivalent:
     positive_sequence: 0.12 + j1.05 ohm

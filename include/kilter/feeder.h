@@ -223,10 +223,15 @@ typedef struct {
     int bus;                  /* source bus id */
     double kv_ll;             /* nominal line-to-line kV */
     double freq_hz;
-    double v_pu;              /* regulated voltage, per unit of nominal */
-    double angle_deg;         /* phase-a angle */
+    double v_pu;              /* regulated voltage, per unit of nominal: the positive-sequence
+                               * magnitude held at the source bus by the substation tap changer */
+    double angle_deg;         /* phase-a angle of that positive-sequence voltage */
     int has_equivalent;       /* 1: behind a Thevenin equivalent */
     kl_complex z1_ohm, z0_ohm;/* positive- and zero-sequence source impedance */
+    int has_background;       /* 1: a background unbalance of the supply is stated */
+    kl_complex background;    /* stated V2/V1 of the supply's phase-to-neutral voltages with this
+                               * feeder unloaded (0 when none): the upstream unbalance the feeder
+                               * sees on top of its own (kl_flow_result.source_emf) */
     double relay_pickup_a;    /* ground relay pickup at the head, 0 when not given */
     kl_loc loc;
 } kl_source;

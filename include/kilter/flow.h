@@ -48,6 +48,14 @@ typedef struct kl_flow_result {
     double *q_cap;         /* [3*ncapacitors] actual var per entry */
     int *tap;              /* [3*nregulators] final taps */
 
+    /* the source: the phase-to-neutral voltages behind its equivalent as solved,
+     * V (the tap changer's output; the source bus's own voltages without an
+     * equivalent).  Their negative sequence is the supply's background V2
+     * (source.background times their positive sequence), the unbalance the
+     * source bus shows with the feeder unloaded; the rest of the bus's V2 is
+     * the feeder's own current through the equivalent. */
+    kl_complex source_emf[3];
+
     /* totals per phase at the source bus */
     kl_complex s_head[3];  /* power delivered into the feeder, W + j var */
     kl_complex s_losses[3];/* sum of s_loss over all sections */

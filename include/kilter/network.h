@@ -146,8 +146,14 @@ typedef struct kl_network {
     int *reg_branch;       /* [nregulators] branch id */
     int *tap;              /* [3*nregulators] present taps */
 
-    /* source: ideal voltages, and the Thevenin impedance when there is one */
-    kl_complex v_source[3];
+    /* source (src/flow/source.c): the balanced positive-sequence phase voltages
+     * the substation tap changer holds at the source bus, the negative-sequence
+     * set of the same size, the stated background V2/V1 of the supply, the
+     * present voltages behind the equivalent (the tap's output, updated by
+     * each solver iteration), and the Thevenin impedance when there is one */
+    kl_complex v_held[3], v_neg[3];
+    kl_complex background;
+    kl_complex v_emf[3];
     int has_zsource;
     kl_complex zsource[9];
 

@@ -34,6 +34,16 @@ double kl_unb_rate(const double mag[3]);
 kl_status kl_unb_vuf_from_line_mags(const double vll_mag[3], double *vuf,
                                     kl_errors *err);
 
+/* The complex ratio V2/V1 of the phase-to-neutral voltages behind three measured
+ * line-to-line magnitudes (Vab, Vbc, Vca): line voltages sum to zero, so the three
+ * magnitudes fix their triangle up to a rotation, which V2/V1 does not see; with
+ * the a-b-c sequence, Vbc lags Vab.  V2/V1 of the line voltages times 1 /60 deg
+ * gives that of the phase voltages (Vab1 = sqrt3 /30 Va1, Vab2 = sqrt3 /-30 Va2);
+ * its magnitude is the closed form above.  Zero sequence cannot be seen from line
+ * voltages.  KL_EINPUT (message in err, may be NULL) as kl_unb_vuf_from_line_mags. */
+kl_status kl_unb_ratio_from_line_mags(const double vll_mag[3], kl_complex *v2_v1,
+                                      kl_errors *err);
+
 /* Voltage indices of one three-phase bus. */
 typedef struct {
     int defined;   /* 1 when V1 is not zero; 0: bus dead, every index NAN */

@@ -2,6 +2,7 @@
  * check runs everything the analyses run before they solve (load, line
  * constants, network build), so a file it passes is one they accept. */
 #include <complex.h>
+#include <math.h>
 #include <stdio.h>
 #include <string.h>
 #include "kilter/lines.h"
@@ -74,6 +75,20 @@ static void summarise(const kl_feeder *f, summary *u)
     }
 }
 
+/* What the source bus is held at, and what is behind it (feeders/README.md, "The regulated bus"). */
+static void source_line(FILE *o, const kl_source *s)
+{
+    if (s->has_equivalent)
+        fprintf(o, "source bus held   %.3f pu (positive sequence) by the substation tap changer, "
+                "behind %.4g %c j%.4g ohm\n", s->v_pu, creal(s->z1_ohm),
+                cimag(s->z1_ohm) < 0 ? '-' : '+', fabs(cimag(s->z1_ohm)));
+    else
+        fprintf(o, "source bus        %.3f pu (positive sequence), an ideal source\n", s->v_pu);
+    if (s->has_background)
+        fprintf(o, "background        V2/V1 %.2f %% at %.1f deg, stated for the supply\n",
+                100 * cabs(s->background), carg(s->background) * KL_DEG_PER_RAD);
+}
+
 static void print_table(FILE *o, const kl_feeder *f, const summary *u)
 {
     kl_complex t = u->s_va[0] + u->s_va[1] + u->s_va[2];
@@ -81,6 +96,7 @@ static void print_table(FILE *o, const kl_feeder *f, const summary *u)
     fprintf(o, "feeder            %s\n", f->name);
     fprintf(o, "file              %s\n", f->path);
     fprintf(o, "nominal voltage   %.4g kV line-to-line at bus %s\n", f->source.kv_ll, f->buses[f->source.bus].name);
+    source_line(o, &f->source);
     fprintf(o, "buses             %d\n", f->nbuses);
     fprintf(o, "sections          %d: %d lines, %d switches (%d open), %d transformers, %d regulators\n",
             f->nsections, u->kinds[KL_SEC_LINE], u->kinds[KL_SEC_SWITCH], u->open_switches,

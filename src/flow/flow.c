@@ -137,6 +137,7 @@ static void fill_results(const kl_network *n, const kl_flow_options *opt, kl_flo
     section_results(n, r);
     kl_load_powers(n, opt->load_scale, r);
     memcpy(r->tap, n->tap, 3 * (size_t)f->nregulators * sizeof r->tap[0]);
+    memcpy(r->source_emf, n->v_emf, sizeof r->source_emf);
     const kl_complex *vh = kl_network_bus_v(n, n->source), *jh = kl_network_bus_j(n, n->source);
     for (int p = 0; p < 3; p++)
         r->s_head[p] = vh[p] * conj(jh[p]);

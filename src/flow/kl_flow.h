@@ -37,6 +37,10 @@ int kl_regulator_control(struct kl_network *net, int r);
 /* Relay (compensated) voltage of each unit on the 120 V base. */
 void kl_regulator_relay_voltage(const struct kl_network *net, int r, double vr[3]);
 
+/* source.c: the voltages behind the source equivalent that hold the source
+ * bus's positive sequence at its set value while the feeder draws j[3] from
+ * it (NULL: no load); with no equivalent, the bus's own voltages. */
+void kl_source_emf(const struct kl_network *net, const kl_complex j[3], kl_complex e[3]);
 /* load_model.c: adds every load's and capacitor's current at the present
  * voltages (net->vs) into net->js, both by sweep position (scale multiplies
  * load powers).  Reads the load parts (network.h), refreshing their phase

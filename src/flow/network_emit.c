@@ -192,12 +192,16 @@ static void source_setup(kl_network *n, bus_rec *br)
     double base = src->kv_ll * 1000.0 / sqrt(3.0);
     bus_place(n, br, b, 0, -1, KL_PH_ABC, base, 0);
     double vpu = src->v_pu > 0 ? src->v_pu : 1.0;
-    for (int p = 0; p < 3; p++)
-        n->v_source[p] = vpu * base * cexp(I * (src->angle_deg - 120.0 * p) * DEG);
+    for (int p = 0; p < 3; p++) {
+        n->v_held[p] = vpu * base * cexp(I * (src->angle_deg - 120.0 * p) * DEG);
+        n->v_neg[p] = vpu * base * cexp(I * (src->angle_deg + 120.0 * p) * DEG);
+    }
+    n->background = src->has_background ? src->background : 0;
     n->has_zsource = src->has_equivalent;
     /* Zs = z1 U + (z0 - z1)/3 (ones): the phase form of the sequence impedances */
     for (int i = 0; i < 9; i++)
         n->zsource[i] = (src->z0_ohm - src->z1_ohm) / 3.0 + (i % 4 == 0 ? src->z1_ohm : 0);
+    kl_source_emf(n, NULL, n->v_emf); /* at no load */
 }
 
 kl_status kl_network_emit_tree(kl_network *n, const kl_feeder_tree *t, const unsigned char *has_dist,

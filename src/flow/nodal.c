@@ -21,7 +21,9 @@
  * accumulation down a tree is possible there).
  *
  * Source: an ideal source replaces its bus's KCL rows by V = E; a Thevenin
- * source adds Ys = Zs^-1 to them with the Norton current Ys E.
+ * source adds Ys = Zs^-1 to them with the Norton current Ys E, E updated each
+ * iteration so that the bus's positive sequence stays at its set value
+ * (source.c).
  *
  * Loads and capacitors are current injections (fixed-point current-injection
  * iteration): M does not depend on the loads, so it is ordered and factored
@@ -482,14 +484,31 @@ static void build_rhs(kl_nodal *w, const kl_network *n)
             w->x[w->vidx[i]] = -kl_network_bus_j(n, i / 3)[i % 3];
     const int *vs = w->vidx + 3 * n->source;
     for (int p = 0; p < 3; p++) {
-        kl_complex e = n->v_source[p];
+        kl_complex e = n->v_emf[p];
         if (w->ideal_source) {
             w->x[vs[p]] = e;
             continue;
         }
         for (int q = 0; q < 3; q++)
-            w->x[vs[p]] += w->ys[3 * p + q] * n->v_source[q];
+            w->x[vs[p]] += w->ys[3 * p + q] * n->v_emf[q];
     }
+}
+
+/* The voltages behind the equivalent for the next solve (source.c): from the
+ * current the last solution drew through it, J = Ys (E - V), so E1 moves by
+ * the bus's remaining error V1_held - V1; at no load, as the file sets them. */
+static void source_update(const kl_nodal *w, kl_network *n, int loads)
+{
+    kl_complex j[3], dv[3];
+    const kl_complex *v = kl_network_bus_v(n, n->source);
+    if (!loads || w->ideal_source || !n->v_valid) {
+        kl_source_emf(n, NULL, n->v_emf);
+        return;
+    }
+    for (int p = 0; p < 3; p++)
+        dv[p] = n->v_emf[p] - v[p];
+    kl_cm3_vec(w->ys, dv, j);
+    kl_source_emf(n, j, n->v_emf);
 }
 
 /* Copies the solution into net->vs (and loop-closing switches' currents
@@ -530,6 +549,7 @@ static kl_status solve_step(kl_nodal *w, kl_network *n, int loads, double scale,
     memset(n->js, 0, 3 * (size_t)n->nbuses * sizeof n->js[0]);
     if (loads)
         kl_load_inject(n, scale);
+    source_update(w, n, loads);
     build_rhs(w, n);
     if (!klu_z_solve(w->sym, w->num, w->n, 1, (double *)w->x, &w->common))
         return klu_failure(n, w, err);

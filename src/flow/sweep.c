@@ -12,8 +12,9 @@
  * whose fixed point is the generalized one (a = U + ZY/2, b = Z,
  * c = Y + YZY/4, d = U + YZ/2; Kersting ch. 6, from memory), at a quarter of
  * the memory traffic, and single-phase laterals cost scalar products only;
- * with the source bus held at its ideal voltages (or E - Z_s J_source behind
- * a Thevenin equivalent).  Converged when the largest change of any phase
+ * with the source bus at E - Z_s J_source, E the voltages behind the
+ * equivalent that hold the bus's positive sequence at its set value
+ * (source.c; E itself without an equivalent).  Converged when the largest change of any phase
  * voltage between two iterations is below tol (per unit of the bus base).
  * Everything is read and written by sweep position (network.h), so each
  * pass walks its arrays front to back (or back to front). */
@@ -213,7 +214,8 @@ static inline double set_voltage(kl_network *n, int i, const kl_complex vnew[3],
 static double sweep_forward(kl_network *n, int *where)
 {
     kl_complex vs[3], t[3];
-    memcpy(vs, n->v_source, sizeof vs);
+    kl_source_emf(n, n->js, n->v_emf); /* js at position 0: what the feeder draws */
+    memcpy(vs, n->v_emf, sizeof vs);
     if (n->has_zsource) {
         kl_cm3_vec(n->zsource, n->js, t);
         for (int p = 0; p < 3; p++)

@@ -12,6 +12,7 @@
 #include <stdio.h>
 #include <string.h>
 #include <unistd.h>
+#include "kilter/units.h"
 #include "kl_io.h"
 
 static const char *const PH[3] = {"a", "b", "c"};
@@ -98,6 +99,9 @@ static void write_head(FILE *o, const kl_feeder *f)
     }
     if (s->relay_pickup_a > 0)
         fprintf(o, "  ground_relay_pickup: %.17g A\n", s->relay_pickup_a);
+    if (s->has_background) /* as V2/V1: measured line voltages were turned into it on loading */
+        fprintf(o, "  background_unbalance:\n    ratio: %.17g\n    angle: %.17g deg\n",
+                cabs(s->background), carg(s->background) * 180.0 / KL_PI);
 }
 
 static void write_conductors_cables(FILE *o, const kl_feeder *f)

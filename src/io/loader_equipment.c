@@ -7,6 +7,7 @@
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+#include "kilter/unbalance.h"
 #include "kilter/units.h"
 #include "kl_io.h"
 
@@ -49,9 +50,10 @@ static void name_add(kl_loader *L, kl_names *t, const char *name, int index)
 }
 
 /* ---- source */
-enum { SRC_BUS, SRC_KV, SRC_FREQ, SRC_VPU, SRC_ANGLE, SRC_EQ, SRC_RELAY };
+enum { SRC_BUS, SRC_KV, SRC_FREQ, SRC_VPU, SRC_ANGLE, SRC_EQ, SRC_RELAY, SRC_BG };
 static const char *const source_keys[] = {"bus", "nominal_voltage", "frequency", "regulated_voltage",
-                                          "angle", "equivalent", "ground_relay_pickup", NULL};
+                                          "angle", "equivalent", "ground_relay_pickup",
+                                          "background_unbalance", NULL};
 enum { EQ_Z1, EQ_Z0, EQ_SC, EQ_XR };
 static const char *const equivalent_keys[] = {"positive_sequence", "zero_sequence", "short_circuit",
                                               "x_over_r", NULL};
@@ -83,6 +85,56 @@ static void source_equivalent(kl_loader *L, int node, kl_source *s)
         kl_ld_complex(L, &fl, EQ_Z0, KL_Q_IMPEDANCE, &s->z0_ohm, 0);
 }
 
+enum { BG_RATIO, BG_ANGLE, BG_LINES };
+static const char *const background_keys[] = {"ratio", "angle", "line_voltages", NULL};
+
+/* Three measured line-to-line magnitudes, in the order ab, bc, ca. */
+static void background_lines(kl_loader *L, int seq, kl_source *s)
+{
+    double v[3];
+    int k = 0, ok = 1;
+    for (int n = kl_ynode_at(L->r, seq)->first; n >= 0; n = kl_ynode_at(L->r, n)->next, k++)
+        if (k < 3 && kl_ld_real_node(L, n, "line_voltages", KL_Q_VOLTAGE, &v[k], KL_F_POS) < 0)
+            ok = 0;
+    if (k != 3) {
+        kl_ld_error(L, seq, "'line_voltages' lists %d values: give the three measured line-to-line "
+                    "magnitudes in the order ab, bc, ca (e.g. [12.52 kV, 12.41 kV, 12.47 kV])", k);
+        return;
+    }
+    if (ok && kl_unb_ratio_from_line_mags(v, &s->background, NULL) != KL_OK)
+        kl_ld_error(L, seq, "'line_voltages' %g, %g, %g V cannot be three line-to-line voltages: "
+                    "each must be at most the sum of the other two (check the readings)",
+                    v[0], v[1], v[2]);
+}
+
+/* The supply's unbalance before this feeder's load: V2/V1 with its angle, or
+ * three measured line voltages (whose V2/V1 follows from their triangle). */
+static void source_background(kl_loader *L, int node, kl_source *s)
+{
+    kl_fields fl;
+    double ratio = 0, ang = 0;
+    if (kl_ld_fields(L, node, background_keys, &fl, "source background unbalance") < 0)
+        return;
+    s->has_background = 1;
+    if (fl.val[BG_LINES] >= 0) {
+        if (fl.val[BG_RATIO] >= 0 || fl.val[BG_ANGLE] >= 0)
+            kl_ld_error(L, fl.val[BG_LINES], "give either 'line_voltages' or 'ratio' with "
+                        "'angle', not both");
+        else if (kl_ld_node(L, &fl, BG_LINES, KL_YSEQ, 0) >= 0)
+            background_lines(L, fl.val[BG_LINES], s);
+        return;
+    }
+    if (kl_ld_real(L, &fl, BG_RATIO, KL_Q_SHARE, &ratio, 0, KL_F_REQ | KL_F_NONNEG) < 0)
+        return;
+    kl_ld_real(L, &fl, BG_ANGLE, KL_Q_ANGLE, &ang, 0, 0);
+    if (!(ratio < 1)) {
+        kl_ld_error(L, fl.val[BG_RATIO], "'ratio' is |V2/V1|, expected below 100 %% (a supply "
+                    "rarely exceeds 3 %%), got '%s'", kl_ynode_text(L->r, fl.val[BG_RATIO]));
+        return;
+    }
+    s->background = ratio * cexp(I * ang * KL_PI / 180.0);
+}
+
 void kl_ld_source(kl_loader *L, int map)
 {
     kl_source *s = &L->f->source;
@@ -109,6 +161,8 @@ void kl_ld_source(kl_loader *L, int map)
         source_equivalent(L, fl.val[SRC_EQ], s);
         s->kv_ll = kv;
     }
+    if (kl_ld_node(L, &fl, SRC_BG, KL_YMAP, 0) >= 0)
+        source_background(L, fl.val[SRC_BG], s);
 }
 
 /* ---- conductors */

@@ -4,6 +4,7 @@
 #include <math.h>
 #include "kilter/sequence.h"
 #include "kilter/unbalance.h"
+#include "kilter/units.h"
 
 /* Below this share of the largest phase magnitude the positive sequence is
  * taken as zero: a ratio over rounding noise would be a meaningless number. */
@@ -86,6 +87,29 @@ kl_status kl_unb_vuf_from_line_mags(const double vll_mag[3], double *vuf,
     }
     double r = sqrt(d);
     *vuf = sqrt((1.0 - r) / (1.0 + r));
+    return KL_OK;
+}
+
+/* Law of cosines on the closed triangle Vab + Vbc + Vca = 0: |Vab + Vbc| = |Vca|,
+ * so cos(theta) = (Vca^2 - Vab^2 - Vbc^2) / (2 Vab Vbc), theta the angle of Vbc from
+ * Vab, taken lagging (-120 deg when balanced). */
+kl_status kl_unb_ratio_from_line_mags(const double vll_mag[3], kl_complex *v2_v1,
+                                      kl_errors *err)
+{
+    double vuf;
+    *v2_v1 = NAN;
+    kl_status st = kl_unb_vuf_from_line_mags(vll_mag, &vuf, err); /* validates the triangle */
+    if (st)
+        return st;
+    double a = vll_mag[0], b = vll_mag[1], c = vll_mag[2];
+    double cth = (c * c - a * a - b * b) / (2.0 * a * b);
+    cth = cth > 1 ? 1 : (cth < -1 ? -1 : cth); /* rounding at a degenerate triangle */
+    kl_complex vll[3], s012[3];
+    vll[0] = a;
+    vll[1] = b * (cth - I * sqrt(1.0 - cth * cth));
+    vll[2] = -(vll[0] + vll[1]);
+    kl_seq_from_phase(vll, s012);
+    *v2_v1 = s012[2] / s012[1] * cexp(I * KL_PI / 3.0);
     return KL_OK;
 }
 

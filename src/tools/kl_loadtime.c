@@ -154,6 +154,7 @@ static void dump(FILE *o, const kl_feeder *f)
     fprintf(o, "\nsource");
     i(o, "bus", x->bus); d(o, "kv", x->kv_ll); d(o, "hz", x->freq_hz); d(o, "vpu", x->v_pu);
     d(o, "ang", x->angle_deg); i(o, "eq", x->has_equivalent); c(o, "z1", x->z1_ohm); c(o, "z0", x->z0_ohm);
+    i(o, "bg", x->has_background); c(o, "bgv", x->background);
     d(o, "relay", x->relay_pickup_a); loc(o, x->loc);
     fprintf(o, "counts %d %d %d %d %d %d %d %d %d %d\n", f->nconductors, f->ncables, f->nlayouts,
             f->nconstructions, f->nbuses, f->nsections, f->nloads, f->ncapacitors, f->ntransformers,
