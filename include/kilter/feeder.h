@@ -264,6 +264,17 @@ typedef struct kl_feeder {
                                     NULL for a feeder assembled in code, whose users build one */
 } kl_feeder;
 
+/* The de-energized part (src/model/deenergized.c): buses beyond open
+ * switches, from the loader's feeder tree (a feeder assembled in code has
+ * none, and nothing of it is de-energized).  No analysis counts their loads
+ * and capacitors as connected; the load flow leaves them at zero volts. */
+int kl_deenergized_bus(const kl_feeder *f, int bus);
+/* A load whose bus (or whose distributed section) is de-energized. */
+int kl_deenergized_load(const kl_feeder *f, int load);
+/* The one note about the de-energized part, into buf (empty when there is
+ * none); returns the number of de-energized buses. */
+int kl_deenergized_note(const kl_feeder *f, char *buf, size_t n);
+
 /* Reads and validates a feeder file.  On any error returns KL_EINPUT (or
  * KL_EIO / KL_ENOMEM), stores every problem found in `err` and sets *out to
  * NULL.  The loader keeps going after an error so that all are reported. */

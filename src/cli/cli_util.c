@@ -270,6 +270,9 @@ int kl_cli_load(const kl_cli_args *a, kl_feeder **f)
     kl_errors_init(&e);
     s = kl_feeder_load(a->feeder, f, &e);
     kl_cli_print_errors(&e);
+    char note[768];
+    if (s == KL_OK && kl_deenergized_note(*f, note, sizeof note) > 0)
+        fprintf(stderr, "kilter: note: %s\n", note); /* the one note, every command and format */
     if (s == KL_ENOMEM && e.count == 0)
         kl_cli_error("%s: out of memory while reading the feeder", a->feeder);
     if (s == KL_OK) {

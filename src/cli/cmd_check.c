@@ -18,6 +18,7 @@ typedef struct {
     double cap_var[3];
     int tap1[3];            /* single-phase taps on a, b, c */
     int tap2[3];            /* two-phase taps on ab, bc, ca */
+    int dead_loads, dead_caps; /* beyond open switches: left out of the connected totals */
 } summary;
 
 static const int pair_a[3] = {0, 1, 2}, pair_b[3] = {1, 2, 0}; /* ab, bc, ca */
@@ -62,10 +63,17 @@ static void summarise(const kl_feeder *f, summary *u)
             u->line_m += s->length_m;
         count_tap(u, f, s);
     }
-    for (i = 0; i < f->nloads; i++)
-        add_power(u->s_va, f->loads[i].conn, f->loads[i].phases, f->loads[i].s_va);
+    for (i = 0; i < f->nloads; i++) /* beyond an open switch: not connected */
+        if (!kl_deenergized_load(f, i))
+            add_power(u->s_va, f->loads[i].conn, f->loads[i].phases, f->loads[i].s_va);
+        else
+            u->dead_loads++;
     for (i = 0; i < f->ncapacitors; i++) {
         kl_complex q[3], s[3] = {0, 0, 0};
+        if (kl_deenergized_bus(f, f->capacitors[i].bus)) {
+            u->dead_caps++;
+            continue;
+        }
         int k;
         for (k = 0; k < 3; k++)
             q[k] = f->capacitors[i].q_var[k];
@@ -103,7 +111,11 @@ static void print_table(FILE *o, const kl_feeder *f, const summary *u)
             u->kinds[KL_SEC_TRANSFORMER], u->kinds[KL_SEC_REGULATOR]);
     fprintf(o, "line length       %.3f %s\n", kl_units_long_length(f->units, u->line_m),
             kl_units_long_length_name(f->units));
-    fprintf(o, "loads             %d, capacitors %d\n", f->nloads, f->ncapacitors);
+    fprintf(o, "loads             %d, capacitors %d", f->nloads, f->ncapacitors);
+    if (u->dead_loads || u->dead_caps)
+        fprintf(o, " (%d loads, %d capacitors de-energized, not counted below)", u->dead_loads,
+                u->dead_caps);
+    fputc('\n', o);
     fprintf(o, "\nconnected         phase a    phase b    phase c      total\n");
     fprintf(o, "  load kW      %10.1f %10.1f %10.1f %10.1f\n", creal(u->s_va[0]) / 1e3,
             creal(u->s_va[1]) / 1e3, creal(u->s_va[2]) / 1e3, creal(t) / 1e3);

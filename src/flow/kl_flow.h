@@ -75,8 +75,6 @@ static inline void kl_network_err(kl_errors *e, const kl_feeder *f, kl_loc loc, 
 #define KL_DIST_NEAR (2.0 / 3.0) /* share of the load at the internal node */
 /* network_check.c */
 kl_status kl_network_check_ids(const kl_feeder *f, kl_errors *err);
-/* Buses the tree reaches only through an open switch: KL_ETOPO. */
-kl_status kl_network_check_energized(const kl_feeder_tree *t, const kl_feeder *f, kl_errors *err);
 /* network_size.c: has_dist[nsections] (out) marks sections with a
  * distributed load, *ndist counts those loads; kl_network_size_sections
  * returns the zy entries and counts split sections and device slots. */

@@ -1,6 +1,6 @@
 /* kilter: the network for the load flow, built once from a feeder and its
  * feeder tree (src/model/feeder_tree.c) in phases, each in its own file:
- *   check   (network_check.c)  ids the build relies on; buses it cannot solve
+ *   check   (network_check.c)  ids the build relies on
  *   size    (network_size.c)   distributed loads, split sections, device slots,
  *                              the lines' packed Z and Y entries
  *   alloc   (network_alloc.c)  every array at once, prefaulted
@@ -20,9 +20,8 @@ static kl_status analyse(const kl_feeder *f, const kl_feeder_tree *t, kl_status 
 {
     kl_status st = tree_st;
     kl_status st2 = kl_feeder_tree_check_islands(t, f, err);
-    kl_status st3 = kl_network_check_energized(t, f, err);
-    kl_status st4 = kl_network_size_distributed(f, has_dist, ndist, err);
-    return st ? st : st2 ? st2 : st3 ? st3 : st4;
+    kl_status st3 = kl_network_size_distributed(f, has_dist, ndist, err);
+    return st ? st : st2 ? st2 : st3;
 }
 
 /* Sizes, arrays and the lines' packed storage. */

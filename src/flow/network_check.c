@@ -1,7 +1,7 @@
 /* kilter: the network build's checks of its input (network.c): ids the
- * build relies on, and buses it cannot solve (beyond an open switch).  Loops,
- * islands and device direction are the feeder tree's checks
- * (src/model/feeder_tree.c). */
+ * build relies on.  Loops, islands and device direction are the feeder
+ * tree's checks (src/model/feeder_tree.c); buses beyond an open switch are
+ * de-energized, not an error (network_emit.c). */
 #include <math.h>
 #include <stdio.h>
 #include "kl_flow.h"
@@ -33,39 +33,4 @@ kl_status kl_network_check_ids(const kl_feeder *f, kl_errors *err)
         }
     }
     return st;
-}
-
-/* The first open section on the path from the energized part to position i
- * of the tree (i beyond an open switch). */
-static const char *open_switch_above(const kl_feeder_tree *t, const kl_feeder *f, int i)
-{
-    const char *name = "?";
-    for (; i >= t->nlive; i = t->up[i])
-        if (!f->sections[t->sec[i]].closed)
-            name = f->sections[t->sec[i]].name;
-    return name;
-}
-
-kl_status kl_network_check_energized(const kl_feeder_tree *t, const kl_feeder *f, kl_errors *err)
-{
-    int count = 0;
-    if (t->nlive == t->nreached)
-        return KL_OK;
-    for (int b = 0; b < f->nbuses; b++) {
-        int i = t->pos[b];
-        if (i < t->nlive)
-            continue; /* energized, or not reached at all (kl_feeder_tree_check_islands) */
-        if (count++ >= 5)
-            continue;
-        char msg[512];
-        snprintf(msg, sizeof msg, "is not connected to the source bus %s (island beyond open "
-                 "switch %s): the load flow solves energized buses only; close the switch or "
-                 "remove the buses beyond it", f->buses[f->source.bus].name,
-                 open_switch_above(t, f, i));
-        kl_network_err(err, f, f->buses[b].loc, "bus", f->buses[b].name, msg);
-    }
-    if (count > 5)
-        kl_errors_add(err, f->path, 0, 0, NULL, "%d more buses are not connected to the source",
-                      count - 5);
-    return KL_ETOPO;
 }

@@ -204,14 +204,30 @@ static void source_setup(kl_network *n, bus_rec *br)
     kl_source_emf(n, NULL, n->v_emf); /* at no load */
 }
 
+/* Buses beyond open switches (tree positions nlive .. nreached - 1) are
+ * de-energized: no branch feeds them, so they take the sweep positions after
+ * the last tree branch's to-bus, with no phases (every solver and load pass
+ * skips them; their voltages stay zero) and the base the loader gave them. */
+static void place_dead(kl_network *n, const kl_feeder_tree *t, bus_rec *br, int nbr)
+{
+    const kl_feeder *f = n->feeder;
+    int at = nbr + 1;
+    for (int i = t->nlive; i < t->nreached; i++) {
+        int b = t->order[i];
+        double base = f->buses[b].base_kv_ll > 0 ? f->buses[b].base_kv_ll * 1e3 / sqrt(3.0)
+                                                 : br[n->source].base;
+        bus_place(n, br, b, at++, -1, 0, base, 0);
+    }
+}
+
 kl_status kl_network_emit_tree(kl_network *n, const kl_feeder_tree *t, const unsigned char *has_dist,
                                int *mid_of, kl_errors *err)
 {
     const kl_feeder *f = n->feeder;
     walk_bus *bq = (walk_bus *)(void *)n->js;
     bus_rec *br = (bus_rec *)(void *)((char *)n->js + (size_t)n->nbuses * sizeof *bq);
-    KL_ASSERT(t->nlive == f->nbuses); /* every bus energized (kl_network_check_energized): each
-                                       * bus and branch array is written whole */
+    KL_ASSERT(t->nreached == f->nbuses); /* every bus reached (kl_feeder_tree_check_islands):
+                                          * each bus and branch array is written whole */
     KL_ASSERT((size_t)n->nbuses * (sizeof *bq + sizeof *br) <= 3 * (size_t)n->nbuses * sizeof n->js[0]);
     KL_ASSERT((uintptr_t)(void *)br % _Alignof(bus_rec) == 0);
     kl_status st = KL_OK;
@@ -228,7 +244,9 @@ kl_status kl_network_emit_tree(kl_network *n, const kl_feeder_tree *t, const uns
     }
     if (st)
         return st;
-    KL_ASSERT(nbr == n->nbranches && nbus == n->nbuses);
+    place_dead(n, t, br, nbr);
+    KL_ASSERT(nbr == n->nbranches && nbus == n->nbuses &&
+              nbr + 1 + (t->nreached - t->nlive) == n->nbuses);
     scatter(n, br);
     /* a split section's two branches are emitted one after the other */
     for (int s = 0; s < f->nsections; s++)

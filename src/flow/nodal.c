@@ -103,8 +103,8 @@ static void number_unknowns(const kl_network *n, kl_nodal *w)
         w->iidx[i] = -1;
     for (int o = n->nbuses - 1; o >= 0; o--) {
         int b = n->order[o], k = n->parent[b];
-        if (b == n->source)
-            continue;
+        if (b == n->source || !n->phases[b])
+            continue; /* the source is numbered last; a de-energized bus has no unknowns */
         /* leaves first only if every bus comes after its parent in order[] */
         KL_ASSERT(k >= 0 && n->pos[b] == o && n->pos[n->br_from[k]] < o);
         if (k >= 0 && !is_line(n, k))

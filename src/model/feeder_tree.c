@@ -24,6 +24,9 @@ typedef struct {
     int *adj;            /* [2 * closed sections] pairs: 2 * section + (1 when the bus is the
                             section's `to`), the bus at the other end */
     unsigned char *met;  /* [nsections] 1 once a loop-closing section has been met */
+    int *later;          /* [2 * nsections] pairs (section, bus walked): devices met from their
+                            load side, walked only if nothing else reaches their source side */
+    int nlater;
     int head, tail;      /* the queue is t->order itself */
     int live;            /* 1 while walking through closed sections from the source */
     int nlinks_cap;
@@ -57,18 +60,75 @@ static const char *bus_name(const kl_feeder *f, int b)
     return f->buses[b].name ? f->buses[b].name : "?";
 }
 
+static int is_device(const kl_feeder *f, int e)
+{
+    return f->sections[e].kind == KL_SEC_TRANSFORMER || f->sections[e].kind == KL_SEC_REGULATOR;
+}
+
+static const char *sec_name(const kl_feeder *f, int e)
+{
+    return f->sections[e].name ? f->sections[e].name : "?";
+}
+
+/* The loop that section e (between buses u and v, both placed) closes: e and
+ * the tree sections from u and from v up to their common bus (positions
+ * climb: up[i] < i).  Named for the section an engineer opens to break it: a
+ * switch when the loop has one (the tie), else e unless e is a transformer or
+ * regulator (whose direction fixes which side feeds it), else the first line
+ * of the loop.  *list gets the loop's sections in order, up to 8 names. */
+static int loop_closer(const kl_feeder_tree *t, const kl_feeder *f, int e, int u, int v,
+                       char *list, size_t nlist)
+{
+    int up_u[8], up_v[8], nu = 0, nv = 0, count = 1, pick = -1;
+    for (int a = t->pos[u], b = t->pos[v]; a != b && a >= 0 && b >= 0; count++) {
+        int from_u = a > b, s = t->sec[from_u ? a : b];
+        if (from_u && nu < 8)
+            up_u[nu++] = s;
+        else if (!from_u && nv < 8)
+            up_v[nv++] = s;
+        if (pick < 0 && f->sections[s].kind == KL_SEC_SWITCH)
+            pick = s;
+        if (from_u)
+            a = t->up[a];
+        else
+            b = t->up[b];
+    }
+    if (f->sections[e].kind == KL_SEC_SWITCH || (pick < 0 && !is_device(f, e)))
+        pick = e;
+    /* in loop order: e, then from u up to the common bus, then down to v */
+    int secs[17], n = 0;
+    secs[n++] = e;
+    for (int k = 0; k < nu; k++)
+        secs[n++] = up_u[k];
+    for (int k = nv - 1; k >= 0; k--)
+        secs[n++] = up_v[k];
+    for (int k = 0; pick < 0 && k < n; k++)
+        if (!is_device(f, secs[k]))
+            pick = secs[k];
+    list[0] = '\0';
+    for (int k = 0; k < n && k < 10; k++)
+        snprintf(list + strlen(list), nlist - strlen(list), "%s'%.40s'", k ? ", " : "",
+                 sec_name(f, secs[k]));
+    if (count > 10)
+        snprintf(list + strlen(list), nlist - strlen(list), " and %d more", count - 10);
+    return pick >= 0 ? pick : e;
+}
+
 /* A closed section e between bus u (being walked) and bus v, reached already. */
-static void loop_met(kl_feeder_tree *t, walk *w, const kl_feeder *f, kl_errors *err, int e, int v)
+static void loop_met(kl_feeder_tree *t, walk *w, const kl_feeder *f, kl_errors *err, int e, int u,
+                     int v)
 {
     if (w->met[e])
         return;
     w->met[e] = 1;
     if (f->radial) {
-        int p = t->sec[t->pos[v]];
-        report(t, f, err, e, "closes a loop: bus '%s' is already fed through section '%s'; a radial "
-               "feeder has one path from the source to each bus (make one section an open switch, "
-               "remove it, or set 'radial: false' and use the nodal solver, --solver nodal)",
-               bus_name(f, v), p >= 0 && f->sections[p].name ? f->sections[p].name : "(the source)");
+        char list[400], msg[700];
+        int c = loop_closer(t, f, e, u, v, list, sizeof list);
+        snprintf(msg, sizeof msg, "closes a loop (sections %s; bus '%s' is reached both ways): a "
+                 "radial feeder has one path from the source to each bus; make '%s' an open switch "
+                 "(the normally-open point), remove it, or set 'radial: false' and use the nodal "
+                 "solver (--solver nodal)", list, bus_name(f, v), sec_name(f, c));
+        report(t, f, err, c, "%s%s", msg, "");
         return;
     }
     if (!w->live)
@@ -101,20 +161,41 @@ static void feed(kl_feeder_tree *t, walk *w, const kl_feeder *f, kl_errors *err,
                f->sections[e].kind == KL_SEC_TRANSFORMER ? "transformer" : "regulator", bus_name(f, u));
 }
 
-/* Breadth-first from the buses queued, through closed sections. */
+/* Breadth-first from the buses queued, through closed sections.  A
+ * transformer or regulator met from its load side waits until nothing else
+ * is left: in a loop the walk then reaches it from its source side and the
+ * loop is named by its tie, not blamed on the device's direction; walked
+ * last, it is written backwards (feed reports it).  A feeder without loops
+ * or backward devices is walked in the same order either way. */
 static void walk_run(kl_feeder_tree *t, walk *w, const kl_feeder *f, kl_errors *err)
 {
-    while (w->head < w->tail) {
-        int i = w->head++, u = t->order[i], pu = t->sec[i];
-        for (int k = w->start[u]; k < w->start[u + 1]; k++) {
-            int e = w->adj[2 * k] >> 1, v = w->adj[2 * k + 1];
-            if (e == pu)
-                continue;
-            if (t->pos[v] >= 0)
-                loop_met(t, w, f, err, e, v);
-            else
-                feed(t, w, f, err, e, u, v, w->adj[2 * k] & 1);
+    for (;;) {
+        while (w->head < w->tail) {
+            int i = w->head++, u = t->order[i], pu = t->sec[i];
+            for (int k = w->start[u]; k < w->start[u + 1]; k++) {
+                int e = w->adj[2 * k] >> 1, v = w->adj[2 * k + 1], rev = w->adj[2 * k] & 1;
+                if (e == pu)
+                    continue;
+                if (t->pos[v] >= 0)
+                    loop_met(t, w, f, err, e, u, v);
+                else if (rev && is_device(f, e)) {
+                    w->later[2 * w->nlater] = e;
+                    w->later[2 * w->nlater++ + 1] = u;
+                } else
+                    feed(t, w, f, err, e, u, v, rev);
+            }
         }
+        int fed = 0;
+        while (w->nlater > 0 && !fed) {
+            int e = w->later[2 * --w->nlater], u = w->later[2 * w->nlater + 1];
+            int v = f->sections[e].from; /* met from `to`: its source side is `from` */
+            if (t->pos[v] < 0) {
+                feed(t, w, f, err, e, u, v, 1);
+                fed = 1;
+            }   /* else reached from its source side meanwhile: that walk met the loop */
+        }
+        if (!fed)
+            return;
     }
 }
 
@@ -150,7 +231,8 @@ static kl_status walk_build(const kl_feeder *f, walk *w)
     w->start = kl_calloc(nb + 1, sizeof(int));
     w->adj = kl_malloc((4 * ns + 1) * sizeof(int));
     w->met = kl_calloc(ns + 1, 1);
-    if (!w->start || !w->adj || !w->met)
+    w->later = kl_malloc((2 * ns + 1) * sizeof(int));
+    if (!w->start || !w->adj || !w->met || !w->later)
         return KL_ENOMEM;
     for (int e = 0; e < f->nsections; e++) {
         const kl_section *s = &f->sections[e];
@@ -227,6 +309,7 @@ done:
     kl_free(w.start);
     kl_free(w.adj);
     kl_free(w.met);
+    kl_free(w.later);
     if (st == KL_ENOMEM) {
         kl_feeder_tree_free(t);
         return st;

@@ -171,6 +171,12 @@ static void limits_list(FILE *out, const kl_report_input *in, const summary *s)
             "(EN 50160 / IEC 61000-2-2 level), %d above %.0f %% (ANSI C84.1 recommendation)</li>\n",
             s->vuf_over_compat ? "bad" : "ok", s->vuf_over_compat, s->nthree, 100 * l->vuf_compat,
             s->vuf_over_supply, 100 * l->vuf_supply);
+    char note[768];
+    if (kl_deenergized_note(in->feeder, note, sizeof note) > 0) {
+        fputs("<li class=\"bad\">", out);
+        kl_xml_escape(out, note);
+        fputs("</li>\n", out);
+    }
     fputs("</ul>\n", out);
 }
 

@@ -47,9 +47,17 @@ static int bus_rows(const void *ctx)
     return ROWS(ctx)->feeder->nbuses;
 }
 
+/* A de-energized bus (beyond an open switch) is listed on its own phases at
+ * zero volts, so the table says so rather than leave it out. */
+static int bus_phases(const kl_flow_rows *w, int b)
+{
+    int ph = w->flow->phases[b];
+    return ph || !kl_deenergized_bus(w->feeder, b) ? ph : w->feeder->buses[b].phases;
+}
+
 static int bus_next(const void *ctx, int b, int p)
 {
-    return next_phase(ROWS(ctx)->flow->phases[b], p);
+    return next_phase(bus_phases(ROWS(ctx), b), p);
 }
 
 static void bus_name(const void *ctx, int b, int p, kl_cell *c)
@@ -77,6 +85,10 @@ static void bus_pu(const void *ctx, int b, int p, kl_cell *c)
 
 static void bus_angle(const void *ctx, int b, int p, kl_cell *c)
 {
+    if (!ROWS(ctx)->flow->phases[b]) {
+        c->num = NAN; /* de-energized: no angle */
+        return;
+    }
     c->num = deg(ROWS(ctx)->flow->v[3 * b + p]);
 }
 
