@@ -246,6 +246,8 @@ typedef struct kl_feeder {
     kl_unit_system units;      /* the file's own unit system, for printing */
     double earth_resistivity_ohm_m; /* default 100 */
     int radial;                /* 1 (default): loops and islands are errors */
+    double loading_warning;    /* share of a continuous rating above which loading is noted (the
+                                  planning margin of the feeder's owner); 0 when not given */
     kl_source source;
 
     kl_conductor *conductors;      int nconductors;

@@ -455,6 +455,8 @@ static int write_html(const char *path, const kl_feeder *f, kl_network *net,
     kl_cli_out out;
     int rc = 0;
     kl_study_options_default(&so);
+    if (f->loading_warning > 0) /* the feeder file's planning margin */
+        so.limits.loading_warning = f->loading_warning;
     kl_flow_options_default(&fo);
     fo.load_scale = o->level[0].scale;
     kl_status st = kl_flow_result_alloc(net, &res, e);
@@ -468,6 +470,7 @@ static int write_html(const char *path, const kl_feeder *f, kl_network *net,
         kl_report_input in = {.feeder = f, .ph = kl_report_phases_of(res), .study = s,
                               .plan = plan, .rephaser = rp};
         kl_report_options_default(&in.opt);
+        in.opt.limits = so.limits;
         in.opt.load_scale = fo.load_scale;
         st = kl_report_html_write(out.f, &in, e);
         if (st) {

@@ -183,9 +183,12 @@ static int read_options(const kl_cli_args *a, study_args *x)
     return 0;
 }
 
-/* The bus named by --at, after the feeder is loaded. */
+/* What the feeder file sets, after it is loaded: its loading warning level
+ * (the option wins), and the bus named by --at. */
 static int resolve_at(const kl_cli_args *a, const kl_feeder *f, study_args *x)
 {
+    if (!a->val[OPT_LOADWARN] && f->loading_warning > 0)
+        x->so.limits.loading_warning = f->loading_warning;
     if (!a->val[OPT_AT])
         return 0;
     x->ci.bus = kl_feeder_find_bus(f, a->val[OPT_AT]);

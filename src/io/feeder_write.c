@@ -86,6 +86,8 @@ static void write_head(FILE *o, const kl_feeder *f)
     fprintf(o, "\nunits: %s\nearth_resistivity: %.17g ohm-m\nradial: %s\n",
             f->units == KL_UNITS_SI ? "si" : "us", f->earth_resistivity_ohm_m,
             f->radial ? "true" : "false");
+    if (f->loading_warning > 0)
+        fprintf(o, "loading_warning: %.17g\n", f->loading_warning);
     fputs("source:\n  bus: ", o);
     put_str(o, f->buses[s->bus].name);
     fprintf(o, "\n  nominal_voltage: %.17g V\n  frequency: %.17g Hz\n  regulated_voltage: %.17g pu\n"
