@@ -51,6 +51,13 @@ void kl_load_inject(struct kl_network *net, double scale);
  * the branches' sending-end currents into js toward the source (nodal.c
  * uses it too). */
 void kl_sweep_tree_currents(struct kl_network *net);
+/* Capacitor c's load-model parts (I = j (Q / V_n^2) v per entry); their count. */
+int kl_load_cap_parts(const struct kl_network *net, int c, kl_load_part out[3]);
+/* diverge.c: the likely reason a solve did not converge, for its message
+ * (low_pu: the lowest voltage, worst: the last change, per unit); returns 1
+ * when a capacitor near resonance with its line is the cause. */
+int kl_diverge_hint(const struct kl_network *net, double low_pu, double worst, char *buf,
+                    size_t len);
 /* Builds net->parts from the network loads and capacitors (kl_network_build). */
 kl_status kl_load_parts_build(struct kl_network *net);
 /* Actual powers at the present voltages into res->s_load, q_cap, s_loads. */

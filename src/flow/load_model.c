@@ -141,7 +141,7 @@ static int load_parts_of(const kl_network *n, int m, kl_load_part out[9])
 }
 
 /* Capacitor c's parts: constant susceptance, I = j (Q / V_n^2) v. */
-static int cap_parts_of(const kl_network *n, int c, kl_load_part out[3])
+int kl_load_cap_parts(const kl_network *n, int c, kl_load_part out[3])
 {
     const kl_capacitor *cp = &n->feeder->capacitors[c];
     int delta = cp->conn == KL_CONN_DELTA, cnt = 0;
@@ -196,7 +196,7 @@ static void parts_fill(const kl_network *n, kl_load_part *dst, int *start, int c
     for (int m = 0; m < nitems; m++) {
         int b = caps ? n->feeder->capacitors[m].bus : n->loads[m].bus;
         int *at = &start[n->pos[b]];
-        int got = caps ? cap_parts_of(n, m, dst + *at) : load_parts_of(n, m, dst + *at);
+        int got = caps ? kl_load_cap_parts(n, m, dst + *at) : load_parts_of(n, m, dst + *at);
         /* the counting pass reserved exactly this many (parts_count) */
         KL_ASSERT(got == (caps ? cap_nparts(n, m) : load_nparts(n, m)));
         *at += got;

@@ -626,11 +626,8 @@ static void report_noconv(const kl_network *n, int it, double worst, int where,
                 lowbus = b;
             }
         }
-    const char *why = (!isfinite(worst) || !isfinite(low) || low < 0.5)
-        ? "voltages collapse: the load is beyond what the network can carry (check load "
-          "values and their units, or lower the load scale)"
-        : "the current-injection iteration creeps or oscillates: raise the iteration limit, "
-          "or look for very large loads on weak branches";
+    char why[700];
+    kl_diverge_hint(n, low, worst, why, sizeof why); /* the sweep's reasons, same iteration */
     kl_errors_add(err, n->feeder->path, 0, 0, "load flow (nodal)",
                   "did not converge after %d iterations: largest voltage change %.3g pu at bus "
                   "%s; lowest voltage %.3f pu at bus %s; likely reason: %s", it, worst,

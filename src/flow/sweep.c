@@ -272,15 +272,8 @@ static void report_noconv(const kl_network *n, int it, double worst, int where, 
     char b1[64], b2[64];
     int lowbus = -1;
     double low = lowest_voltage(n, &lowbus);
-    const char *why;
-    /* a sweep that still moves voltages by whole percent after all its
-     * iterations is not creeping toward a solution: there is none near */
-    if (!isfinite(worst) || !isfinite(low) || low < 0.5 || worst > 0.01)
-        why = "voltages collapse or swing between iterations: the load is beyond what the "
-              "feeder can carry (check load values and their units, or lower the load scale)";
-    else
-        why = "the iteration creeps toward a solution too slowly: raise the iteration limit, "
-              "or look for very large loads or near-zero impedances";
+    char why[700];
+    kl_diverge_hint(n, low, worst, why, sizeof why);
     char lowtxt[160];
     if (isfinite(low) && worst < 1.0)
         snprintf(lowtxt, sizeof lowtxt, "lowest voltage %.3f pu at bus %s", low,
