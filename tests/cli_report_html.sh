@@ -100,8 +100,23 @@ while IFS=$'\t' read -r name vals; do
   m=$((m + 1))
 done <"$tmp/h_neu"
 
+# Loading table (issue 12 point 1): the rated sections' loading against the CSV section table,
+# most loaded first.
+"$kilter" study "$feeder" --format csv --table sections >"$tmp/sections.csv" 2>"$tmp/err" \
+  || { cat "$tmp/err"; fail "kilter study --format csv --table sections failed"; }
+rows loading data | awk -F'\t' '{ split($2, v, " "); print $1 "\t" v[1] }' >"$tmp/h_load"
+[ -s "$tmp/h_load" ] || fail "the loading table is empty"
+csv_cols "$tmp/sections.csv" loading_pct >"$tmp/c_load" || fail "the section CSV lacks loading_pct"
+prev=""
+while IFS=$'\t' read -r name val; do
+  want=$(awk -F'\t' -v b="$name" '$1 == b { print $2; exit }' "$tmp/c_load")
+  [ "$val" = "$want" ] || fail "section '$name': HTML loading '$val', CSV '$want'"
+  [ -z "$prev" ] || awk -v a="$prev" -v b="$val" 'BEGIN { exit !(a + 0 >= b + 0) }' || fail "loading table not ranked"
+  prev=$val
+done <"$tmp/h_load"
+
 # The text people read is the same figure, rounded: within half a unit of its last digit.
-for t in unbalance neutral; do
+for t in unbalance neutral loading; do
   paste <(rows $t data | cut -f2) <(rows $t text | cut -f2) | awk -F'\t' -v t="$t" '
     { nd = split($1, d, " "); split($2, x, " ")
       for (i = 1; i <= nd; i++) {

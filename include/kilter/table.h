@@ -181,6 +181,7 @@ extern const kl_table kl_table_study_neutrals;
 extern const kl_table kl_table_study_runs;
 extern const kl_table kl_table_study_contributors;
 extern const kl_table kl_table_study_motors;       /* HTML: motor buses */
+extern const kl_table kl_table_study_loading;      /* HTML: rated sections, most loaded first */
 
 /* ---- the rebalancing plan's tables (table_plan.c); docs/rebalance.md */
 typedef struct {

@@ -98,6 +98,8 @@ kl_status kl_report_study_neutral(FILE *out, const kl_report_input *in, kl_error
 kl_status kl_report_study_runs(FILE *out, const kl_report_input *in, kl_errors *err);
 void kl_report_study_contrib(FILE *out, const kl_report_input *in);
 kl_status kl_report_study_motors(FILE *out, const kl_report_input *in, kl_errors *err);
+/* The most loaded sections (table), inside the loading map's section. */
+kl_status kl_report_study_loading(FILE *out, const kl_report_input *in, kl_errors *err);
 
 /* plot_moves.c: the body of "Suggested phase moves" (in->plan set). */
 kl_status kl_report_moves(FILE *out, const kl_report_input *in, kl_errors *err);

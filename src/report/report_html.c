@@ -265,6 +265,21 @@ static kl_status section_plot(FILE *out, const char *id, const char *heading, co
     return st;
 }
 
+/* The loading map, and with the study the most loaded sections. */
+static kl_status section_loading(FILE *out, const kl_report_input *in, kl_errors *err)
+{
+    fputs("<section id=\"loading\">\n<h2>Loading</h2>\n<div class=\"plot\">\n", out);
+    kl_status st = kl_plot_map_loading_write(out, in, err);
+    fputs("</div>\n<p class=\"note\">Each section coloured by its loading: its most loaded phase's "
+          "current over its continuous rating (lines: ampacity; regulators: rated current; "
+          "transformers: rated current of each winding, and the bank's kVA). Grey: no rating in the "
+          "feeder file.</p>\n", out);
+    if (st == KL_OK && in->study)
+        st = kl_report_study_loading(out, in, err);
+    fputs("</section>\n", out);
+    return st;
+}
+
 static int choose_phasor_bus(const kl_report_input *in, const summary *s)
 {
     if (in->opt.phasor_bus >= 0)
@@ -352,11 +367,7 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
         st = section_plot(out, "map", "Feeder map", "Line weight and dash show the phasing; "
                           "colour shows the chosen index.", kl_plot_map_write, in, err);
     if (st == KL_OK)
-        st = section_plot(out, "loading", "Loading", "Each section coloured by its loading: its "
-                          "most loaded phase's current over its continuous rating (lines: "
-                          "ampacity; regulators: rated current; transformers: rated current of "
-                          "each winding, and the bank's kVA). Grey: no rating in the feeder file.",
-                          kl_plot_map_loading_write, in, err);
+        st = section_loading(out, in, err);
     kl_progress_step(in->progress, "writing the report", 3, 6);
     if (st == KL_OK)
         st = section_phasors(out, in, &s, err);

@@ -105,6 +105,25 @@ void kl_report_study_contrib(FILE *out, const kl_report_input *in)
     fputs("</section>\n", out);
 }
 
+kl_status kl_report_study_loading(FILE *out, const kl_report_input *in, kl_errors *err)
+{
+    kl_study_rows rows = rows_of(in);
+    kl_table_shown s;
+    kl_status st = kl_table_html_select(&kl_table_study_loading, &rows, in->opt.max_table_rows, &s, err);
+    if (st)
+        return st;
+    if (s.total == 0) {
+        fputs("<p class=\"note\">No section has a rating in the feeder file.</p>\n", out);
+    } else {
+        fprintf(out, "<p class=\"note\">Sections with a rating, most loaded first (%d of %d shown); "
+                "over %.0f %% of the rating is noted, over 100 %% is an overload.</p>\n", s.shown, s.total,
+                100.0 * in->opt.limits.loading_warning);
+        kl_table_html(out, &kl_table_study_loading, &rows, "loading", &s);
+    }
+    kl_table_shown_free(&s);
+    return KL_OK;
+}
+
 kl_status kl_report_study_motors(FILE *out, const kl_report_input *in, kl_errors *err)
 {
     kl_study_rows rows = rows_of(in);

@@ -475,6 +475,49 @@ const kl_table kl_table_study_neutrals = {
     .rows = sec_rows, .keep = neutral_keep, .rank = neutral_rank,
 };
 
+/* ---- loading (HTML): the rated sections, most loaded first */
+
+static double loading_rank(const void *ctx, int k)
+{
+    return ROWS(ctx)->study->loading[k];
+}
+
+static void sec_kind(const void *ctx, int k, int j, kl_cell *c)
+{
+    static const char *const kind[5] = {"?", "line", "switch", "transformer", "regulator"};
+    unsigned t = (unsigned)ROWS(ctx)->feeder->sections[k].kind;
+    c->str = kind[t < 5 ? t : 0];
+}
+
+static void loading_verdict(const void *ctx, int k, int j, kl_cell *c)
+{
+    int fl = ROWS(ctx)->study->loading_flag[k];
+    c->cls = fl == KL_LOADING_OVER ? "bad" : fl == 0 ? "ok" : NULL;
+    c->str = fl == KL_LOADING_OVER ? "over its rating" : fl == KL_LOADING_NOTE ? "over the warning level"
+           : "within";
+}
+
+static const kl_column loading_cols[] = {
+    {.key = "section", .help = "section name", .type = KL_CELL_STR, .get = sec_name, .in = KL_IN_HTML,
+     .html_head = "section"},
+    {.key = "kind", .help = "line, transformer or regulator", .type = KL_CELL_STR, .get = sec_kind,
+     .in = KL_IN_HTML, HTML("kind", NULL)},
+    {.key = "phases", .type = KL_CELL_STR, .get = sec_own_phases, .in = KL_IN_HTML,
+     HTML("phases", NULL)},
+    {NUMF("loading_pct", "%", "the section's loading (flow.md, Loading)", sec_loading, KL_IN_HTML,
+          "", NULL), HTML("loading %", "%.1f")},
+    {NUMF("loading_emergency_pct", "%", "the same over the emergency rating", sec_loading_emerg,
+          KL_IN_HTML, "", NULL), HTML("of emergency rating %", "%.1f")},
+    {.key = "against", .help = "against the rating and the warning level", .type = KL_CELL_STR,
+     .get = loading_verdict, .in = KL_IN_HTML, HTML("against the rating", NULL)},
+};
+
+const kl_table kl_table_study_loading = {
+    .name = "loading", .help = "sections with a rating, most loaded first", .col = loading_cols,
+    .ncol = (int)(sizeof loading_cols / sizeof loading_cols[0]), .rows = sec_rows,
+    .rank = loading_rank,
+};
+
 /* ---- neutral runs */
 
 static int run_rows(const void *ctx)
