@@ -13,6 +13,7 @@
 #include <math.h>
 #include <string.h>
 #include "kilter/lines.h"
+#include "kl_base.h" /* CMPLX under clang */
 #include "ref_ieee13.h"
 
 #ifndef M_PI

@@ -129,7 +129,7 @@ START_TEST(test_pile_on_one_phase)
     for (int mode = KL_SEARCH_HEURISTIC; mode <= KL_SEARCH_EXHAUSTIVE; mode++) {
         kl_rebalance_options opt;
         kl_rebalance_options_default(&opt);
-        opt.mode = mode;
+        opt.mode = (kl_search_mode)mode;
         kl_rebalance_plan *plan = run_plan(&x, &opt);
         /* reasoning (file comment): all on a, the residual is the phase-a
          * current, about 3 x 206 kVA / 7.2 kV = 86 A */
@@ -243,7 +243,7 @@ START_TEST(test_heuristic_equals_exhaustive)
         }
         if (fabs(score[0] - score[1]) > 1e-9 * fabs(score[1]))
             fprintf(stderr, "objective %s: heuristic %.12g exhaustive %.12g\n",
-                    kl_objective_name(o), score[0], score[1]);
+                    kl_objective_name((kl_objective)o), score[0], score[1]);
         ck_assert_double_eq_tol(score[0], score[1], 1e-9 * fabs(score[1]));
     }
     fixture_free(&x);

@@ -12,6 +12,7 @@
 #include <gsl/gsl_rng.h>
 #include <gsl/gsl_vector.h>
 #include "kilter/sequence.h"
+#include "kl_base.h" /* CMPLX under clang */
 #include "ref_ieee13.h"
 
 #define PI 3.14159265358979323846

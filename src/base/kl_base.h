@@ -8,6 +8,14 @@
 #include "kilter/error.h"
 #include "kilter/types.h"
 
+/* C11 7.3.9.3 CMPLX(x, y): a complex from its parts without the x + y*I
+ * product (which turns an infinite or NaN part into NaN + NaN i).  glibc's
+ * <complex.h> defines it only for GCC 4.7 and later (it tests __GNUC_PREREQ),
+ * so clang, which claims GCC 4.2, gets it from its own builtin here. */
+#ifndef CMPLX
+#define CMPLX(x, y) __builtin_complex((double)(x), (double)(y))
+#endif
+
 /* ---- check.c: KL_ASSERT(cond) states an invariant that a speed trick relies
  * on (a struct's field order an accessor depends on, a stride, the sweep
  * order of an array).  Checked in the debug and sanitizer builds (KILTER_CHECKS,

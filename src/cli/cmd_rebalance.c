@@ -335,7 +335,7 @@ static void print_table(FILE *o, const view *w)
     fprintf(o, "objective:");
     for (int k = 0; k < KL_OBJ_COUNT; k++)
         if (p->weight[k] > 0)
-            fprintf(o, " %s (weight %g)", kl_objective_name(k), p->weight[k]);
+            fprintf(o, " %s (weight %g)", kl_objective_name((kl_objective)k), p->weight[k]);
     fprintf(o, "; score 1 = the feeder as given\n%s\n", CAUTION);
     for (int l = 0; l < p->nlevels; l++) {
         table_plan(o, w, l);
@@ -376,7 +376,7 @@ static void print_json(FILE *o, const view *w)
             "heuristic", p->nmovable, p->evaluations, p->seconds, p->seconds_greedy,
             p->timed_out ? "true" : "false");
     for (int k = 0; k < KL_OBJ_COUNT; k++)
-        fprintf(o, "%s\"%s\": %g", k ? ", " : "", kl_objective_name(k), p->weight[k]);
+        fprintf(o, "%s\"%s\": %g", k ? ", " : "", kl_objective_name((kl_objective)k), p->weight[k]);
     fputs("},\n \"levels\": [", o);
     for (int l = 0; l < p->nlevels; l++)
         fprintf(o, "%s{\"scale\": %g, \"weight\": %g}", l ? ", " : "", p->level[l].scale,

@@ -63,7 +63,7 @@ static void summary_voltage(FILE *o, const kl_study_print *p, const char *what, 
         return;
     double pu = s->v_pu[3 * b + ph];
     fprintf(o, "  %-38s%-14s %c %7.4f pu  %6.1f V on 120 V  %s\n", what, p->f->buses[b].name,
-            PH[ph], pu, 120.0 * pu, kl_service_class_str(s->service[3 * b + ph]));
+            PH[ph], pu, 120.0 * pu, kl_service_class_str((kl_service_class)s->service[3 * b + ph]));
 }
 
 static void summary_head(FILE *o, const kl_study_print *p)
@@ -320,7 +320,7 @@ static void at_voltages(FILE *o, const kl_study_print *p, int b)
             continue;
         fprintf(o, "  V%c  %9.1f V /%8.2f deg  %7.4f pu  %6.1f V on 120 V  %s\n", PH[q],
                 cabs(v->x[q]), carg(v->x[q]) * RAD2DEG, s->v_pu[3 * b + q],
-                120.0 * s->v_pu[3 * b + q], kl_service_class_str(s->service[3 * b + q]));
+                120.0 * s->v_pu[3 * b + q], kl_service_class_str((kl_service_class)s->service[3 * b + q]));
     }
     if (!(v->defined & KL_SEQ_DEF_SEQUENCE)) {
         fprintf(o, "  (fewer than three phases: no sequence components or unbalance indices)\n");

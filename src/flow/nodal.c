@@ -152,7 +152,7 @@ static void put_raw(kl_nodal *w, int i, int j, kl_complex v)
         /* refactoring keeps the pattern of the first assembly: every value
          * stamped later must fall on it (stamp_device stamps A and d in full
          * on the masks for that reason) */
-        KL_ASSERT(!"a value stamped outside the nodal matrix's pattern");
+        KL_ASSERT(0 && "a value stamped outside the nodal matrix's pattern");
     }
 }
 

@@ -257,7 +257,7 @@ void kl_ld_cable(kl_loader *L, int map)
     c->name = elem_name(L, &fl, CA_NAME, "cable", i, &L->h_cable, 1);
     if (fl.val[CA_KIND] < 0)
         kl_ld_error(L, map, "missing required key 'kind' (concentric-neutral or tape-shielded)");
-    c->kind = kl_ld_enum(L, &fl, CA_KIND, cable_kinds, 0) + 1;
+    c->kind = (kl_cable_kind)(kl_ld_enum(L, &fl, CA_KIND, cable_kinds, 0) + 1); /* an index of cable_kinds, 0-1 */
     s = kl_ld_str(L, &fl, CA_COND, KL_F_REQ);
     if (s)
         kl_ld_ref(L, KL_REF_CABLE_COND, i, s, fl.val[CA_COND], &c->phase_conductor, &L->h_cond);

@@ -153,7 +153,7 @@ static void cons_ampacity(kl_feeder *f, kl_construction *c)
         const kl_cable *cb = &f->cables[c->cable];
         c->ampacity_a = cb->ampacity_a;
         c->emergency_ampacity_a = cb->emergency_ampacity_a;
-        if (!c->ampacity_a && cb->phase_conductor >= 0) {
+        if (c->ampacity_a == 0.0 && cb->phase_conductor >= 0) {
             c->ampacity_a = f->conductors[cb->phase_conductor].ampacity_a;
             c->emergency_ampacity_a = f->conductors[cb->phase_conductor].emergency_ampacity_a;
         }

@@ -85,7 +85,7 @@ static void fill_tree(kl_loader *L, const kl_feeder_tree *t)
 }
 
 /* Wye: a, b, c must be at the bus; delta pair ab needs a and b, and so on. */
-static int needed_phases(int conn, int mask)
+static int needed_phases(kl_connection conn, int mask)
 {
     static const int pair[3] = {KL_PH_A | KL_PH_B, KL_PH_B | KL_PH_C, KL_PH_C | KL_PH_A};
     int need = 0, k;
@@ -98,7 +98,7 @@ static int needed_phases(int conn, int mask)
 }
 
 static void check_element(kl_loader *L, const char *kind, const char *name, int i, const kl_loc *loc,
-                          int conn, int mask, int has, const char *where, const char *wname)
+                          kl_connection conn, int mask, int has, const char *where, const char *wname)
 {
     int need = needed_phases(conn, mask);
     char b1[4], b2[4];

@@ -2,6 +2,7 @@
  * (C. L. Fortescue, AIEE Trans. 37, 1918); line quantities Xab = Xa - Xb. */
 #include <math.h>
 #include "kilter/sequence.h"
+#include "kl_math.h" /* CMPLX under clang */
 
 /* a = -1/2 + j sqrt(3)/2 and a^2 = conj(a), written out rather than computed
  * with cexp so that the round trip is exact to rounding (1 + a + a^2 == 0). */

@@ -31,7 +31,8 @@ static long peak_kib(void)
 }
 
 static void s(FILE *o, const char *k, const char *v) { fprintf(o, " %s=%s", k, v ? v : "(null)"); }
-static void i(FILE *o, const char *k, int v) { fprintf(o, " %s=%d", k, v); }
+/* long: an enum (unsigned under clang) or an int widens to it without a sign change */
+static void i(FILE *o, const char *k, long v) { fprintf(o, " %s=%ld", k, v); }
 static void d(FILE *o, const char *k, double v) { fprintf(o, " %s=%a", k, v); }
 static void c(FILE *o, const char *k, kl_complex v) { fprintf(o, " %s=%a,%a", k, creal(v), cimag(v)); }
 static void loc(FILE *o, kl_loc l) { fprintf(o, " @%d:%d\n", l.line, l.col); }

@@ -128,7 +128,7 @@ static int tree_build(synth_tree *t, long n, uint64_t seed)
     /* Total line length, and with it line charging, would grow with N; spans shrink
      * as 1/sqrt(N) past SHORTEN_FROM buses so a million-bus feeder carries about
      * 2,000 mi of line rather than 40,000 (its charging stays well under its load). */
-    t->span_scale = n > SHORTEN_FROM ? sqrt(SHORTEN_FROM / (double)n) : 1.0;
+    t->span_scale = (double)n > SHORTEN_FROM ? sqrt(SHORTEN_FROM / (double)n) : 1.0;
     if (t->span_scale < 0.05) t->span_scale = 0.05;
     t->nthree = m;
     t->ntwo = two;
@@ -441,7 +441,7 @@ int main(int argc, char **argv)
 {
     long n = -1, seed = -1;
     const char *out = NULL;
-    for (int i = 1; i < argc; i++) {
+    for (int i = 1; i < argc; i += 2) { /* options come in pairs: name, value */
         const char *a = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
         if (!strcmp(a, "-h") || !strcmp(a, "--help")) { usage(stdout); return 0; }
         if (!v) { fprintf(stderr, "kl_synth: %s: missing value or unknown option\n", a); usage(stderr); return 2; }
@@ -462,7 +462,6 @@ int main(int argc, char **argv)
             usage(stderr);
             return 2;
         }
-        i++;
     }
     if (n < 0 || seed < 0) { fputs("kl_synth: --buses and --seed are required\n", stderr); usage(stderr); return 2; }
 
