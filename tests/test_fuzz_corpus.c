@@ -1,13 +1,18 @@
-/* Loader fuzz corpus: every file under tests/corpus/ (truncated, binary, deeply
- * nested, alias bomb, huge and non-finite numbers, empty ...) and a fixed set
- * of byte mutations of a valid feeder must give KL_OK or a located KL_EINPUT,
- * never a crash, hang or leak (the sanitizer build checks the last). */
+/* Fuzz corpus: every file under tests/corpus/ (truncated, binary, deeply
+ * nested, alias bomb, huge and non-finite numbers, empty ..., and every
+ * finding of the fuzz targets, scripts/fuzz.sh) and a fixed set of byte
+ * mutations of a valid feeder must give KL_OK or a located KL_EINPUT, never a
+ * crash, hang or leak (the sanitizer builds check the last).  Each corpus file
+ * is also run through the fuzz_pipeline target's chain (tests/fuzz/fuzz_run.c:
+ * load, lines, network, flow, study, with its contract checks), so a finding
+ * of either target replays here exactly as it was found. */
 #include <check.h>
 #include <dirent.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include "kilter/feeder.h"
+#include "fuzz/fuzz_run.h"
 
 #define CORPUS KILTER_SOURCE_DIR "/tests/corpus"
 
@@ -22,6 +27,26 @@ static void check_one(kl_status s, const kl_feeder *f, const kl_errors *e, const
         ck_assert_msg(e->items[i].line >= 0 && e->items[i].col >= 0, "%s: bad position", what);
         ck_assert_msg(e->items[i].message[0], "%s: empty message", what);
     }
+}
+
+/* The whole chain on the file's bytes; fuzz_run_pipeline aborts (the test
+ * fails, CK_FORK) on a broken contract, and says which on stderr. */
+static void replay_chain(const char *path)
+{
+    FILE *fp = fopen(path, "rb");
+    long size;
+    char *buf;
+    ck_assert_ptr_nonnull(fp);
+    ck_assert_int_eq(fseek(fp, 0, SEEK_END), 0);
+    size = ftell(fp);
+    ck_assert_int_ge(size, 0);
+    rewind(fp);
+    buf = malloc((size_t)size + 1);
+    ck_assert_ptr_nonnull(buf);
+    ck_assert_int_eq((long)fread(buf, 1, (size_t)size, fp), size);
+    fclose(fp);
+    fuzz_run_pipeline((const uint8_t *)buf, (size_t)size);
+    free(buf);
 }
 
 START_TEST(corpus_files)
@@ -43,6 +68,7 @@ START_TEST(corpus_files)
         check_one(s, f, &e, de->d_name);
         kl_feeder_free(f);
         kl_errors_free(&e);
+        replay_chain(path);
         n++;
     }
     closedir(d);
