@@ -30,7 +30,7 @@ layers="base math model io lines flow study rebalance report"
 
 # The layer of each public header.
 declare -A pub
-for h in types error units progress version; do pub[$h]=base; done
+for h in types error units progress version output; do pub[$h]=base; done
 for h in sequence unbalance; do pub[$h]=math; done
 pub[feeder]=model; pub[lines]=lines; pub[network]=flow; pub[flow]=flow
 pub[limits]=study; pub[study]=study; pub[rebalance]=rebalance; pub[report]=report; pub[table]=report

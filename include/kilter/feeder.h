@@ -15,6 +15,7 @@
 #include <complex.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 #include "kilter/error.h"
 #include "kilter/types.h"
 
@@ -324,10 +325,14 @@ int kl_phases_rotate(int mask, int r);
  * with section i's phases rotated by sec_rot[i] and load i's entries by
  * load_rot[i] (either may be NULL: no rotation).  Line constructions used by
  * rotated sections are written once more, rotated, under a new name.  The
- * file is written to a temporary name beside `path` and renamed: whole or
- * not at all. */
+ * file is written as one output of kilter/output.h: whole or not at all,
+ * never over the file the feeder was read from. */
 kl_status kl_feeder_write(const kl_feeder *f, const int *sec_rot, const int *load_rot,
                           const char *path, kl_errors *err);
+/* The same, to a stream (one output of a set written together, kilter/output.h);
+ * KL_EIO when the stream reports a write error. */
+kl_status kl_feeder_write_stream(const kl_feeder *f, const int *sec_rot, const int *load_rot, FILE *o,
+                                 kl_errors *err);
 
 
 

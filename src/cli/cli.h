@@ -46,17 +46,26 @@ typedef struct {
 int kl_cli_parse(kl_cli_args *a, int argc, char **argv, const char *summary,
                  const kl_cli_opt *opts, int nopts);
 
-/* Command output: to standard output (path NULL), or to FILE.tmp.PID renamed
- * to FILE when complete, so that FILE is written whole or not at all. */
+/* Command output: to standard output (path NULL), or to a file of the
+ * command's output set (kilter/output.h): every file a command writes is put
+ * in place when the command has succeeded (kl_cli_outputs_finish, called by
+ * main), all of them or none, never over a file the command read. */
 typedef struct {
-    FILE *f;         /* write the report here */
+    FILE *f;         /* write the output here */
     const char *path;
-    char tmp[4096];
 } kl_cli_out;
 
 int kl_cli_out_open(kl_cli_out *o, const char *path); /* 0, or an exit code */
-int kl_cli_out_close(kl_cli_out *o);    /* finishes (renames); 0, or an exit code */
-void kl_cli_out_abandon(kl_cli_out *o); /* drops a file being written */
+/* Standard output: flushed and checked; a file: checked, put in place at the
+ * end.  0, or an exit code. */
+int kl_cli_out_close(kl_cli_out *o);
+void kl_cli_out_abandon(kl_cli_out *o); /* not written whole: no output file of the command changes */
+/* A file the command reads (the feeder, a rules file): never an output. */
+void kl_cli_input(const char *path);
+/* Called by main with the command's exit code: checks standard output, then
+ * puts every output file in place if all went well, or drops them all.
+ * Returns the exit code (KL_EXIT_IO when writing failed). */
+int kl_cli_outputs_finish(int rc);
 
 /* Prints every item as `kilter: file:line:col: element: message` on stderr. */
 void kl_cli_print_errors(const kl_errors *e);

@@ -8,6 +8,7 @@
 #include <string.h>
 #include <unistd.h>
 #include "cli.h"
+#include "kilter/output.h"
 #include "kilter/table.h"
 
 void kl_cli_error(const char *fmt, ...)
@@ -180,64 +181,108 @@ int kl_cli_parse(kl_cli_args *a, int argc, char **argv, const char *summary,
 
 /* Output is streamed, not built in memory: a million-bus table is tens of
  * megabytes (hundreds as JSON), which would count against the memory the
- * load flow itself is allowed.  A named file is written as FILE.tmp.PID and
- * renamed to FILE only once it is complete, so FILE is whole or untouched. */
+ * load flow itself is allowed.  Every file a command names goes into one
+ * output set (kilter/output.h, src/base/output.c), put in place when the
+ * command is done: whole or not at all, every file or none.  The program runs
+ * one command, so the set is the program's (the library keeps none). */
+static kl_output *outputs;
+static int outputs_failed; /* a file was abandoned or not written whole */
+
+static int outputs_ready(void)
+{
+    kl_errors e;
+    kl_errors_init(&e);
+    if (!outputs && kl_output_create(&outputs, &e) != KL_OK) {
+        kl_cli_error("out of memory");
+        kl_errors_free(&e);
+        return KL_EXIT_NOMEM;
+    }
+    kl_errors_free(&e);
+    return 0;
+}
+
+void kl_cli_input(const char *path)
+{
+    kl_errors e;
+    if (!path || outputs_ready())
+        return;
+    kl_errors_init(&e);
+    kl_output_input(outputs, path, &e);
+    kl_errors_free(&e);
+}
+
 int kl_cli_out_open(kl_cli_out *o, const char *path)
 {
+    kl_errors e;
+    int rc;
     o->path = path;
-    o->tmp[0] = '\0';
+    o->f = NULL;
     if (!path) {
         o->f = stdout;
         return 0;
     }
-    if (snprintf(o->tmp, sizeof o->tmp, "%s.tmp.%ld", path, (long)getpid()) >=
-        (int)sizeof o->tmp) {
-        kl_cli_error("%s: output file name too long", path);
-        o->f = NULL;
-        return KL_EXIT_IO;
-    }
-    o->f = fopen(o->tmp, "wb");
-    if (!o->f) {
-        kl_cli_error("%s: cannot write: %s", path, strerror(errno));
-        return KL_EXIT_IO;
+    if ((rc = outputs_ready()))
+        return rc;
+    kl_errors_init(&e);
+    kl_status st = kl_output_add(outputs, path, &o->f, &e);
+    kl_cli_print_errors(&e);
+    kl_errors_free(&e);
+    if (st) {
+        outputs_failed = 1;
+        return st == KL_EINPUT ? KL_EXIT_IO : kl_cli_exit_code(st); /* a file it will not write */
     }
     return 0;
 }
 
 void kl_cli_out_abandon(kl_cli_out *o)
 {
-    if (o->f && o->path) {
-        fclose(o->f);
-        remove(o->tmp);
-    } else if (o->f) {
+    if (o->f && o->path)
+        outputs_failed = 1;
+    else if (o->f)
         fflush(o->f);
-    }
     o->f = NULL;
 }
 
 int kl_cli_out_close(kl_cli_out *o)
 {
     FILE *f = o->f;
-    int ok;
     o->f = NULL;
     if (!f)
         return KL_EXIT_IO;
-    if (!o->path) {
-        if (fflush(f) != 0 || ferror(f)) {
+    if (fflush(f) != 0 || ferror(f)) {
+        if (o->path) {
+            kl_cli_error("%s: cannot write: %s; no output file of this command was changed", o->path,
+                         strerror(errno));
+            outputs_failed = 1;
+        } else {
             kl_cli_error("cannot write to standard output: %s", strerror(errno));
-            return KL_EXIT_IO;
         }
-        return 0;
-    }
-    ok = fflush(f) == 0 && !ferror(f);
-    ok = (fsync(fileno(f)) == 0 || errno == EINVAL) && ok;
-    ok = (fclose(f) == 0) && ok;
-    if (!ok || rename(o->tmp, o->path) != 0) {
-        kl_cli_error("%s: cannot write: %s", o->path, strerror(errno));
-        remove(o->tmp);
         return KL_EXIT_IO;
     }
     return 0;
+}
+
+int kl_cli_outputs_finish(int rc)
+{
+    if (fflush(stdout) != 0 || ferror(stdout)) {
+        kl_cli_error("cannot write to standard output: %s", strerror(errno));
+        if (!rc)
+            rc = KL_EXIT_IO;
+    }
+    if (outputs && !rc && !outputs_failed) {
+        kl_errors e;
+        kl_errors_init(&e);
+        kl_status st = kl_output_commit(outputs, &e);
+        kl_cli_print_errors(&e);
+        kl_errors_free(&e);
+        if (st)
+            rc = kl_cli_exit_code(st);
+    }
+    if (!rc && outputs_failed)
+        rc = KL_EXIT_IO;
+    kl_output_free(outputs); /* drops whatever was not committed */
+    outputs = NULL;
+    return rc;
 }
 
 void kl_cli_print_errors(const kl_errors *e)
@@ -267,6 +312,7 @@ int kl_cli_load(const kl_cli_args *a, kl_feeder **f)
 {
     kl_errors e;
     kl_status s;
+    kl_cli_input(a->feeder);
     kl_errors_init(&e);
     s = kl_feeder_load(a->feeder, f, &e);
     kl_cli_print_errors(&e);

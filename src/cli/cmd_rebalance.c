@@ -229,6 +229,7 @@ static int rules_from_list(kl_rephaser *rp, int kind, const char *list, const ch
 /* Rules file: lines `pin ITEM`, `forbid ITEM PHASES`, `cost ITEM X`; # comments. */
 static int rules_from_file(kl_rephaser *rp, const char *path)
 {
+    kl_cli_input(path);
     FILE *fp = fopen(path, "r");
     if (!fp) {
         kl_cli_error("%s: cannot read the rules file: %s", path, strerror(errno));
@@ -432,9 +433,16 @@ static kl_status write_feeder(const char *path, kl_rephaser *rp, const kl_rebala
     int *sr = calloc((size_t)f->nsections + 1, sizeof(int));
     int *lr = calloc((size_t)f->nloads + 1, sizeof(int));
     kl_status st = KL_ENOMEM;
+    kl_cli_out out;
     if (sr && lr) {
         kl_rephase_feeder_rotations(rp, p->rot, sr, lr);
-        st = kl_feeder_write(f, sr, lr, path, e);
+        /* one of the command's outputs, put in place with the others */
+        if (kl_cli_out_open(&out, path))
+            st = KL_EIO; /* said by kl_cli_out_open */
+        else if ((st = kl_feeder_write_stream(f, sr, lr, out.f, e)) != KL_OK)
+            kl_cli_out_abandon(&out);
+        else if (kl_cli_out_close(&out))
+            st = KL_EIO;
     }
     free(sr);
     free(lr);

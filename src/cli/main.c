@@ -48,17 +48,19 @@ int main(int argc, char **argv)
         usage(stderr);
         return KL_EXIT_USAGE;
     }
+    /* Every path out checks standard output (a --help into a full disk fails
+     * like any output) and puts the command's files in place, or drops them. */
     if (strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0) {
         usage(stdout);
-        return KL_EXIT_OK;
+        return kl_cli_outputs_finish(KL_EXIT_OK);
     }
     if (strcmp(argv[1], "--version") == 0) {
         printf("kilter %s\n", KL_VERSION);
-        return KL_EXIT_OK;
+        return kl_cli_outputs_finish(KL_EXIT_OK);
     }
     for (i = 0; i < NCOMMANDS; i++)
         if (strcmp(argv[1], commands[i].name) == 0)
-            return commands[i].run(argc - 1, argv + 1);
+            return kl_cli_outputs_finish(commands[i].run(argc - 1, argv + 1));
     fprintf(stderr, "kilter: unknown command '%s' (try 'kilter --help')\n", argv[1]);
     return KL_EXIT_USAGE;
 }

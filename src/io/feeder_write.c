@@ -5,13 +5,14 @@
  * rotation r (a -> b -> c -> a, r steps) may be applied to sections and
  * loads on the way out: a rotated line section points at a copy of its
  * construction whose phase positions (or matrix entries) are relabelled the
- * same way, Z'[(i+r)%3][(j+r)%3] = Z[i][j].  The file goes to a temporary
- * name beside the target and is renamed only when complete. */
+ * same way, Z'[(i+r)%3][(j+r)%3] = Z[i][j].  kl_feeder_write puts the file in
+ * place through the output set (src/base/output.c): whole or not at all. */
 #include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
 #include <unistd.h>
+#include "kilter/output.h"
 #include "kilter/units.h"
 #include "kl_io.h"
 
@@ -463,22 +464,11 @@ static void write_loads_caps(FILE *o, const kl_feeder *f, const int *load_rot)
     }
 }
 
-kl_status kl_feeder_write(const kl_feeder *f, const int *sec_rot, const int *load_rot,
-                          const char *path, kl_errors *err)
+kl_status kl_feeder_write_stream(const kl_feeder *f, const int *sec_rot, const int *load_rot, FILE *o,
+                                 kl_errors *err)
 {
-    if (!f || !path || !err)
+    if (!f || !o || !err)
         return KL_EARG;
-    char tmp[4096];
-    if (snprintf(tmp, sizeof tmp, "%s.tmp.%ld", path, (long)getpid()) >= (int)sizeof tmp) {
-        kl_errors_add(err, path, 0, 0, "feeder file", "the path is too long");
-        return KL_EARG;
-    }
-    FILE *o = fopen(tmp, "w");
-    if (!o) {
-        kl_errors_add(err, path, 0, 0, "feeder file", "cannot create %s: %s (check that the "
-                      "directory exists and is writable)", tmp, strerror(errno));
-        return KL_EIO;
-    }
     write_head(o, f);
     write_conductors_cables(o, f);
     write_layouts(o, f);
@@ -488,13 +478,27 @@ kl_status kl_feeder_write(const kl_feeder *f, const int *sec_rot, const int *loa
     write_transformers(o, f);
     write_regulators(o, f);
     write_loads_caps(o, f, load_rot);
-    int bad = ferror(o);
-    bad |= fclose(o) != 0;
-    if (bad || rename(tmp, path) != 0) {
-        kl_errors_add(err, path, 0, 0, "feeder file", "could not write the file (%s); nothing "
-                      "was written", strerror(errno));
-        remove(tmp);
-        return KL_EIO;
-    }
-    return KL_OK;
+    return ferror(o) ? KL_EIO : KL_OK;
+}
+
+/* Through the output set (kilter/output.h), so the file it read from is never
+ * the file it writes, and the target is whole or untouched. */
+kl_status kl_feeder_write(const kl_feeder *f, const int *sec_rot, const int *load_rot,
+                          const char *path, kl_errors *err)
+{
+    if (!f || !path || !err)
+        return KL_EARG;
+    kl_output *out = NULL;
+    FILE *o = NULL;
+    kl_status st = kl_output_create(&out, err);
+    if (!st && f->path)
+        st = kl_output_input(out, f->path, err);
+    if (!st)
+        st = kl_output_add(out, path, &o, err);
+    if (!st)
+        st = kl_feeder_write_stream(f, sec_rot, load_rot, o, err);
+    if (!st)
+        st = kl_output_commit(out, err);
+    kl_output_free(out);
+    return st;
 }
