@@ -37,6 +37,9 @@ typedef struct {
     long evals;
     double t0, last_report;
     int timed_out;
+    int plan_moves;          /* moves of the best state so far (the strategies keep it): the
+                              * plan ordering after the search is reserved time for
+                              * (kl_search_engine_time_up) */
     int *movable;            /* [nitems] ids of items that may move */
     int nmov;
     int auto_regs;           /* 1: some regulator controls its taps */
@@ -45,6 +48,9 @@ typedef struct {
     double *load0;           /* [nlevels*nsections] each section's loading in the feeder as
                                 given (kl_loading.worst, NAN unrated), per level */
     int load0_set;           /* 1 once the base case has filled load0 */
+    int *total;              /* [nitems] greedy workspace: each item's total rotation */
+    unsigned char *sub_ok;   /* [nitems] greedy workspace: bit r, the item and those inside
+                              * it keep off their forbidden phases turned r more */
     uint64_t *ckey;          /* [cache size] scores of states seen (few items only): */
     double *cval;            /* key = base-3 digits of the movable items + 1, 0 empty */
 } kl_search_engine;
@@ -70,7 +76,8 @@ int kl_search_engine_voltage_ok(const kl_search_engine *e, const kl_rebalance_su
  * overloaded in the feeder as given, or loads an overloaded one more. */
 int kl_search_engine_loading_ok(const kl_search_engine *e, const kl_rebalance_summary *sum);
 int kl_search_engine_converged(const kl_search_engine *e, const kl_rebalance_summary *sum);
-/* 1 once the time limit has passed (and reports progress on the way). */
+/* 1 once the time limit has passed, less the time the plan ordering will
+ * take (and reports progress on the way). */
 int kl_search_engine_time_up(kl_search_engine *e);
 /* Moves in rot[] (and their cost into *cost unless NULL). */
 int kl_search_engine_count_moves(const kl_search_engine *e, const int *rot, double *cost);

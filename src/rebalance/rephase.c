@@ -16,6 +16,7 @@
  * so the moved feeder could not be written back.) */
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 #include "kilter/rebalance.h"
 #include "kl_rebalance.h"
@@ -66,11 +67,14 @@ typedef struct {
     kl_rephaser *rp;
     const kl_network *net;
     unsigned char *ct_below; /* [nbuses] at or below a center-tap secondary */
-    unsigned char *in_sub;   /* [nbuses] scratch: in the present subtree */
     int *owner;              /* [nbuses] innermost lateral item holding the bus, -1 */
     int *bus_loads_start;    /* [nbuses+1] network loads by bus (CSR) */
     int *bus_loads;          /* [net nloads] feeder load ids */
     unsigned char *ld_seen;  /* [feeder nloads] scratch */
+    int *bus_br_start;       /* [nbuses+1] branches by their source-side bus (CSR) */
+    int *bus_br;             /* [nbranches] branch ids, ascending within a bus */
+    int *cap_first;          /* [nbuses] lowest capacitor id at the bus, -1 */
+    int *sub;                /* [nbranches] scratch: the branches of one subtree */
     list br, bus, ld;
     int cap_items, cap_skipped;
 } finder;
@@ -80,16 +84,33 @@ static kl_status finder_init(finder *w)
     const kl_network *n = w->net;
     size_t nb = (size_t)n->nbuses;
     w->ct_below = kl_calloc(nb, 1);
-    w->in_sub = kl_calloc(nb, 1);
     w->owner = kl_malloc(sizeof(int) * nb);
     w->bus_loads_start = kl_calloc(nb + 1, sizeof(int));
     w->bus_loads = kl_calloc((size_t)n->nloads + 1, sizeof(int));
     w->ld_seen = kl_calloc((size_t)n->feeder->nloads + 1, 1);
-    if (!w->ct_below || !w->in_sub || !w->owner || !w->bus_loads_start || !w->bus_loads ||
-        !w->ld_seen)
+    w->bus_br_start = kl_calloc(nb + 1, sizeof(int));
+    w->bus_br = kl_calloc((size_t)n->nbranches + 1, sizeof(int));
+    w->cap_first = kl_malloc(sizeof(int) * (nb + 1));
+    w->sub = kl_calloc((size_t)n->nbranches + 1, sizeof(int));
+    if (!w->ct_below || !w->owner || !w->bus_loads_start || !w->bus_loads ||
+        !w->ld_seen || !w->bus_br_start || !w->bus_br || !w->cap_first || !w->sub)
         return KL_ENOMEM;
     for (size_t b = 0; b < nb; b++)
-        w->owner[b] = -1;
+        w->owner[b] = w->cap_first[b] = -1;
+    /* branches by source-side bus, so that a lateral's subtree is walked in
+     * its own size (subtree_collect), not by scanning every later branch */
+    for (int k = 0; k < n->nbranches; k++)
+        w->bus_br_start[n->br_from[k] + 1]++;
+    for (size_t b = 0; b < nb; b++)
+        w->bus_br_start[b + 1] += w->bus_br_start[b];
+    for (int k = 0; k < n->nbranches; k++)
+        w->bus_br[w->bus_br_start[n->br_from[k]] + w->sub[n->br_from[k]]++] = k;
+    memset(w->sub, 0, sizeof(int) * (size_t)n->nbranches);
+    for (int c = n->feeder->ncapacitors - 1; c >= 0; c--) {
+        int b = n->feeder->capacitors[c].bus;
+        if (b >= 0 && b < n->nbuses)
+            w->cap_first[b] = c;
+    }
     for (int k = 0; k < n->nbranches; k++) {
         int to = n->br_to[k];
         const kl_section *sc = &n->feeder->sections[n->br_section[k]];
@@ -117,11 +138,14 @@ static kl_status finder_init(finder *w)
 static void finder_free(finder *w)
 {
     kl_free(w->ct_below);
-    kl_free(w->in_sub);
     kl_free(w->owner);
     kl_free(w->bus_loads_start);
     kl_free(w->bus_loads);
     kl_free(w->ld_seen);
+    kl_free(w->bus_br_start);
+    kl_free(w->bus_br);
+    kl_free(w->cap_first);
+    kl_free(w->sub);
     kl_free(w->br.v);
     kl_free(w->br.f);
     kl_free(w->bus.v);
@@ -183,24 +207,46 @@ static void item_loads_summary(finder *w, kl_rephase_item *it)
         it->cost = 1.0;
 }
 
+static int int_cmp(const void *a, const void *b)
+{
+    int x = *(const int *)a, y = *(const int *)b;
+    return (x > y) - (x < y);
+}
+
+/* The branches of the subtree below the tap branch k0, k0 first, in
+ * ascending (sweep) order, into w->sub; returns their count.  A walk down the
+ * source-side lists, then a sort: O(s log s) for a subtree of s branches. */
+static int subtree_branches(finder *w, int k0)
+{
+    const kl_network *n = w->net;
+    int ns = 0, done = 0;
+    w->sub[ns++] = k0;
+    while (done < ns) {
+        int to = n->br_to[w->sub[done++]];
+        for (int q = w->bus_br_start[to]; q < w->bus_br_start[to + 1]; q++) {
+            KL_ASSERT(w->bus_br[q] > k0); /* sweep order: below k0 means after it */
+            w->sub[ns++] = w->bus_br[q];
+        }
+    }
+    qsort(w->sub + 1, (size_t)(ns - 1), sizeof(int), int_cmp);
+    return ns;
+}
+
 /* Marks the subtree below the tap branch k0 and records its branches, buses
- * and loads.  Returns 1 when the lateral holds something a rotation cannot
- * carry (a regulator or a capacitor), with *why naming it. */
+ * and loads, in sweep order.  Returns 1 when the lateral holds something a
+ * rotation cannot carry (a regulator or a capacitor), with *why naming it. */
 static int subtree_collect(finder *w, kl_rephase_item *it, int k0, const char **why,
                            const char **what)
 {
     const kl_network *n = w->net;
     const kl_feeder *f = n->feeder;
-    int blocked = 0;
+    int blocked = 0, ns = subtree_branches(w, k0);
     it->first_br = w->br.n;
     it->first_bus = w->bus.n;
     it->first_ld = w->ld.n;
-    w->in_sub[n->br_to[k0]] = 1;
-    for (int k = k0; k < n->nbranches; k++) {
-        if (k != k0 && !w->in_sub[n->br_from[k]])
-            continue;
+    for (int j = 0; j < ns; j++) {
+        int k = w->sub[j];
         int to = n->br_to[k];
-        w->in_sub[to] = 1;
         unsigned char side = (k == k0 || !w->ct_below[n->br_from[k]] ? 1 : 0) |
                              (!w->ct_below[to] ? 2 : 0);
         if (list_push(&w->br, k, side) || list_push(&w->bus, to, !w->ct_below[to]))
@@ -231,17 +277,19 @@ static int subtree_collect(finder *w, kl_rephase_item *it, int k0, const char **
     it->nbr = w->br.n - it->first_br;
     it->nbus = w->bus.n - it->first_bus;
     it->nld = w->ld.n - it->first_ld;
-    for (int c = 0; c < f->ncapacitors && !blocked; c++) {
-        int b = f->capacitors[c].bus;
-        if (b >= 0 && b < n->nbuses && w->in_sub[b] && !w->ct_below[b]) {
-            blocked = 1;
-            *why = "holds capacitor %s (move it by hand)";
-            *what = f->capacitors[c].name;
-        }
+    /* the lowest-numbered capacitor on a bus of the subtree (not below a
+     * center tap), as a scan of every capacitor would name */
+    int cap = -1;
+    for (int j = 0; j < ns && !blocked; j++) {
+        int b = n->br_to[w->sub[j]];
+        if (!w->ct_below[b] && w->cap_first[b] >= 0 && (cap < 0 || w->cap_first[b] < cap))
+            cap = w->cap_first[b];
     }
-    for (int q = 0; q < it->nbus; q++)
-        w->in_sub[w->bus.v[it->first_bus + q]] = 0;
-    w->in_sub[n->br_to[k0]] = 0;
+    if (cap >= 0 && !blocked) {
+        blocked = 1;
+        *why = "holds capacitor %s (move it by hand)";
+        *what = f->capacitors[cap].name;
+    }
     for (int q = 0; q < it->nld; q++)
         w->ld_seen[w->ld.v[it->first_ld + q]] = 0;
     return blocked;

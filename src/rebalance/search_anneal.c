@@ -79,6 +79,7 @@ static void anneal_round(kl_search_engine *e, gsl_rng *rng, int *x, double *J, i
             if (Jy < *J - 1e-12 * fabs(*J)) {
                 memcpy(x, y, sizeof(int) * (size_t)n);
                 *J = Jy;
+                e->plan_moves = kl_search_engine_count_moves(e, x, NULL);
             }
         }
     }

@@ -24,6 +24,7 @@ static int try_change(kl_search_engine *e, int *x, int *y, double *J, kl_rebalan
         return 0;
     memcpy(x, y, sizeof(int) * (size_t)n);
     *J = Jy;
+    e->plan_moves = kl_search_engine_count_moves(e, x, NULL);
     return 1;
 }
 
@@ -38,7 +39,9 @@ kl_status kl_search_descent(kl_search_engine *e, int *x, double *J, kl_rebalance
         return KL_ENOMEM;
     while (improved && !kl_search_engine_time_up(e)) {
         improved = 0;
-        for (int p = 0; p < e->nmov && !improved; p++) {
+        /* the time is checked before every item: one pass over many items
+         * is one load flow each */
+        for (int p = 0; p < e->nmov && !improved && !kl_search_engine_time_up(e); p++) {
             int i = e->movable[p];
             for (int ri = 0; ri < 3 && !improved; ri++) {
                 if (ri == x[i] || !(e->rp->items[i].allowed & (1 << ri)))
