@@ -3,7 +3,9 @@
 # Idempotent: when everything is present it installs nothing and needs no network.
 # Usage: scripts/setup.sh [--with-browser]   (--with-browser adds chromium for the HTML report test)
 set -eu
-pkgs="build-essential cmake pkg-config libsuitesparse-dev libyaml-dev libgsl-dev check"
+# clang and its runtime libraries (libclang-rt-dev: the sanitizers and libFuzzer) for the
+# third build of scripts/test.sh and the fuzz targets
+pkgs="build-essential cmake pkg-config libsuitesparse-dev libyaml-dev libgsl-dev check clang libclang-rt-dev"
 for a in "$@"; do
   case "$a" in
     --with-browser) pkgs="$pkgs chromium" ;;

@@ -64,9 +64,10 @@ fi
 
 # 2. no mutable state in the library; the shared one exports the public API only.
 if command -v objdump >/dev/null; then
-    # Sanitizers add their own globals (__asan_*, __odr_asan*, .L*); the library's are checked.
+    # Sanitizers add their own globals (__asan_*, __odr_asan*, .L*; clang's UBSan its handler data,
+    # __unnamed_*); the library's are checked.
     objdump -t "$libdir/libkilter.a" |
-        awk '$0 ~ /[ \t](\.data|\.bss|\.tdata|\.tbss|\*COM\*)[ \t]/ && $NF !~ /^(\.|__asan|__odr_asan|__ubsan|__sancov)/' \
+        awk '$0 ~ /[ \t](\.data|\.bss|\.tdata|\.tbss|\*COM\*)[ \t]/ && $NF !~ /^(\.|__asan|__odr_asan|__ubsan|__sancov|__unnamed_)/' \
         >"$work/state"
     [ -s "$work/state" ] && { fail "libkilter.a has mutable global state:"; head -5 "$work/state"; }
 fi

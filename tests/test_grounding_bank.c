@@ -57,7 +57,7 @@ static void check_published(const ref_ieee4_gry_delta *c, int solver)
     HARNESS_OK(&h, harness_build(&h));
     kl_flow_options opt;
     kl_flow_options_default(&opt);
-    opt.solver = solver;
+    opt.solver = (kl_solver)solver; /* a kl_solver value, looped over as int */
     HARNESS_OK(&h, harness_solve(&h, &opt));
     const kl_feeder *f = h.f;
     const kl_flow_result *r = h.res;
