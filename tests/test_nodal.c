@@ -231,7 +231,9 @@ static void add_regulator(hand_feeder *h, const char *from, const char *to, kl_r
     r->name = "reg";
     r->conn = conn;
     r->mode = mode;
-    r->phases = conn == KL_REG_OPEN_DELTA ? (KL_PH_A | KL_PH_B) : KL_PH_ABC;
+    /* open delta: units ab and cb (slots a, c), sharing b */
+    r->phases = conn == KL_REG_OPEN_DELTA ? (KL_PH_A | KL_PH_C) : KL_PH_ABC;
+    r->shared = conn == KL_REG_OPEN_DELTA ? KL_PH_B : 0;
     r->steps = 16;
     r->step_pu = 0.00625;
     /* IEEE 13-node published regulator settings: 122 V level, 2 V band, PT 20, CT 700 A,

@@ -200,12 +200,21 @@ typedef struct {
 typedef enum { KL_REG_WYE = 1, KL_REG_CLOSED_DELTA = 2, KL_REG_OPEN_DELTA = 3 } kl_reg_connection;
 typedef enum { KL_REG_FIXED = 1, KL_REG_AUTO = 2 } kl_reg_mode;
 
-/* Step-voltage regulator: one single-phase unit per phase (ANSI type B by default). */
+/* Step-voltage regulator: single-phase units (ANSI type B by default).  Wye:
+ * one unit per phase, line to neutral; closed delta: three units, unit p
+ * between lines p and p+1; open delta: two units, each named by the pair of
+ * phases it connects ("ab", "cb"): the line it regulates (its series winding
+ * and CT) and the phase both units share, which passes through.  Per-unit
+ * arrays (tap, ldc_*) are indexed by the unit's phase slot: the phase of a
+ * wye unit, the regulated line of an open-delta unit. */
 typedef struct {
     const char *name;
     kl_reg_connection conn;
     kl_reg_mode mode;
-    int phases;               /* mask of units present */
+    int phases;               /* mask of units present, by slot (open delta ab, cb: a | c);
+                                 the section passes all three phases of an open delta */
+    int shared;               /* open delta: mask of the phase both units share (b for ab,
+                                 cb); 0 for every other connection */
     int tap[3];               /* fixed taps, or the starting taps for automatic control */
     int steps;                /* steps each way, default 16 */
     double step_pu;           /* default 0.00625 (5/8 %) */
@@ -318,6 +327,11 @@ int kl_feeder_find_load(const kl_feeder *f, const char *name);
 const char *kl_phases_str(int mask, char buf[4]);
 /* How many of a, b, c a mask holds (0..3). */
 int kl_phases_count(int mask);
+/* The name of regulator r's unit in phase slot 0..2: the phase letter ("a")
+ * for wye and closed-delta banks; for an open delta the pair "pq", the line
+ * it regulates then the phase its units share ("ab", "cb"); "" for a slot
+ * without a name. */
+const char *kl_regulator_unit_name(const kl_regulator *r, int slot);
 /* Cyclic relabelling of a phase mask by r steps (a -> b for r = 1). */
 int kl_phases_rotate(int mask, int r);
 

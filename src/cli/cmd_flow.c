@@ -45,9 +45,20 @@ static void table_totals(FILE *o, const view *w)
         }
         fprintf(o, "%-22s %10.3f %10.3f %10.3f %10.3f\n", lbl[k], v[0], v[1], v[2], t);
     }
-    for (int g = 0; g < w->f->nregulators; g++)
-        fprintf(o, "regulator %-12s taps a %d, b %d, c %d\n", w->f->regulators[g].name,
-                r->tap[3 * g], r->tap[3 * g + 1], r->tap[3 * g + 2]);
+    for (int g = 0; g < w->f->nregulators; g++) {
+        const kl_regulator *rg = &w->f->regulators[g];
+        if (rg->conn != KL_REG_OPEN_DELTA) {
+            fprintf(o, "regulator %-12s taps a %d, b %d, c %d\n", rg->name, r->tap[3 * g],
+                    r->tap[3 * g + 1], r->tap[3 * g + 2]);
+            continue;
+        }
+        fprintf(o, "regulator %-12s taps", rg->name);
+        for (int p = 0, n = 0; p < 3; p++)
+            if (rg->phases & (1 << p))
+                fprintf(o, "%s %s %d", n++ ? "," : "", kl_regulator_unit_name(rg, p),
+                        r->tap[3 * g + p]);
+        fputc('\n', o);
+    }
 }
 
 static void print_table(FILE *o, const view *w, int sections)
@@ -93,6 +104,16 @@ static void json_elements(FILE *o, const view *w)
     for (int g = 0; g < w->f->nregulators; g++) {
         fprintf(o, "    {\"name\": ");
         kl_cli_json_str(o, w->f->regulators[g].name);
+        const kl_regulator *rg = &w->f->regulators[g];
+        if (rg->conn == KL_REG_OPEN_DELTA) { /* keyed by unit: {"ab": 7, "cb": 4} */
+            fprintf(o, ", \"taps\": {");
+            for (int p = 0, n = 0; p < 3; p++)
+                if (rg->phases & (1 << p))
+                    fprintf(o, "%s\"%s\": %d", n++ ? ", " : "", kl_regulator_unit_name(rg, p),
+                            w->r->tap[3 * g + p]);
+            fprintf(o, "}}%s\n", g + 1 < w->f->nregulators ? "," : "");
+            continue;
+        }
         fprintf(o, ", \"taps\": {\"a\": %d, \"b\": %d, \"c\": %d}}%s\n", w->r->tap[3 * g],
                 w->r->tap[3 * g + 1], w->r->tap[3 * g + 2], g + 1 < w->f->nregulators ? "," : "");
     }

@@ -29,6 +29,9 @@ kl_status kl_transformer_matrices(const kl_transformer *t, int src_phases, int s
 int kl_transformer_step_up(const kl_transformer *t, double source_base_ln);
 
 /* regulator.c */
+/* NULL when r describes a bank the model can solve, else what is wrong with
+ * it (an open delta whose units do not share one phase: a feeder built in code). */
+const char *kl_regulator_check(const kl_regulator *r);
 void kl_regulator_matrices(const kl_regulator *r, const int tap[3], int phases,
                            kl_complex A[9], kl_complex d[9], kl_complex a[9]);
 /* Moves the taps of automatic regulator r once, from the solved state in net;

@@ -57,6 +57,12 @@ kl_status kl_network_branch_device(kl_network *n, int k, const kl_section *sc, k
             kl_network_err(err, f, sc->loc, "section", sc->name, "names an unknown regulator");
             return KL_EINPUT;
         }
+        const char *why = kl_regulator_check(&f->regulators[sc->device]);
+        if (why) {
+            kl_network_err(err, f, f->regulators[sc->device].loc, "regulator",
+                           f->regulators[sc->device].name, why);
+            return KL_EINPUT;
+        }
         n->br_kind[k] = KL_BR_REGULATOR;
         n->reg_branch[sc->device] = k;
         kl_regulator_update(n, sc->device);

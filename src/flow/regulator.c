@@ -7,23 +7,27 @@
  * tap 10; the published IEEE 13-node results use 1 + step * tap (its RG60
  * voltages are 1.0625, 1.0500, 1.06875 pu at taps 10, 8, 11), so kilter does.
  *
- * Wye: one unit per phase, line to neutral.  Open delta (two units, pairs
- * given by the regulator's phase mask: bit 0 ab, bit 1 bc, bit 2 ca) acts on
- * line-to-line voltages, V_pq = a_pq V_PQ for the two units, the third side
- * closing by KVL, and the load side's line-to-neutral voltages are W V_ll
- * (zero sequence free).  Closed delta: three units, each with its series
- * winding in one line (below).
+ * Wye: one unit per phase, line to neutral.  Open delta: two units, each
+ * named by the pair of phases it connects, "pq": its shunt winding across
+ * lines p and q, its series winding (and CT) in line p; both share the same
+ * q (units ab and cb share b), which passes through unregulated.  So
+ *   V_q' = V_Q,   V_p' = V_Q + a_p (V_P - V_Q)   for each unit p,
+ * i.e. V_pq' = a_p V_PQ for both units and the third side closes by KVL, with
+ * the phase-to-ground voltages exact (Kersting ch. 7, the open-delta
+ * connection with its common phase, from memory).  Closed delta: three
+ * units, each with its series winding in one line (below).
  *
  * Line-drop compensation (Kersting ch. 7, from memory): the relay sees
  *   V_relay = V_out / PT - (R + jX) I_line / CT_primary    [volts, 120 V base]
  * with R, X the compensator settings in volts at rated CT current; each tap
- * moves the relay voltage by step * 120 V. */
+ * moves the relay voltage by step * 120 V.  V_out and I_line are each unit's
+ * own: a wye unit's V_p and I_p; an open-delta unit pq's V_pq and I_p (the
+ * published wiring: the unit across a-b reads V_ab with I_a, the unit across
+ * c-b reads V_cb with I_c); a closed-delta unit's V_p,p+1 and I_p. */
 #include <math.h>
 #include <string.h>
 #include "kilter/network.h"
 #include "kl_flow.h"
-
-static const double W[9] = {2 / 3.0, 1 / 3.0, 0, 0, 2 / 3.0, 1 / 3.0, 1 / 3.0, 0, 2 / 3.0};
 
 static double ratio(const kl_regulator *r, int tap)
 {
@@ -44,34 +48,39 @@ static void closed_delta(const kl_regulator *r, const int tap[3], kl_complex A[9
     }
 }
 
-/* Open-delta regulators: A = W M D with D the line-to-line difference matrix. */
-static void delta_matrices(const kl_regulator *r, const int tap[3], kl_complex A[9])
+/* Index (0..2) of the phase an open-delta bank's units share, -1 when the
+ * bank is not a valid open delta (kl_regulator_check). */
+static int shared_index(const kl_regulator *r)
 {
-    if (r->conn == KL_REG_CLOSED_DELTA) {
-        closed_delta(r, tap, A);
+    int q = r->shared == KL_PH_A ? 0 : r->shared == KL_PH_B ? 1 : r->shared == KL_PH_C ? 2 : -1;
+    return q >= 0 && r->phases == (KL_PH_ABC & ~r->shared) ? q : -1;
+}
+
+/* Open delta with shared phase q: row q passes V_Q, row p is
+ * a_p e_p + (1 - a_p) e_q (top of the file). */
+static void open_delta(const kl_regulator *r, const int tap[3], kl_complex A[9])
+{
+    int q = shared_index(r);
+    KL_ASSERT(q >= 0); /* kl_regulator_check refused any other bank */
+    if (q < 0)
         return;
-    }
-    kl_complex M[9] = {0}, D[9] = {0}, Wc[9], WM[9];
+    A[4 * q] = 1.0;
     for (int p = 0; p < 3; p++) {
-        D[3 * p + p] = 1.0;
-        D[3 * p + (p + 1) % 3] = -1.0;
-        Wc[3 * p] = W[3 * p];
-        Wc[3 * p + 1] = W[3 * p + 1];
-        Wc[3 * p + 2] = W[3 * p + 2];
+        if (p == q)
+            continue;
+        double a = ratio(r, tap[p]);
+        A[4 * p] = a;
+        A[3 * p + q] = 1.0 - a;
     }
-    int missing = -1;
-    for (int p = 0; p < 3; p++) {
-        if (r->phases & (1 << p))
-            M[3 * p + p] = ratio(r, tap[p]);
-        else
-            missing = p;
-    }
-    if (missing >= 0)
-        for (int p = 0; p < 3; p++)
-            if (p != missing)
-                M[3 * missing + p] = -M[3 * p + p];
-    kl_cm3_mul(Wc, M, WM);
-    kl_cm3_mul(WM, D, A);
+}
+
+const char *kl_regulator_check(const kl_regulator *r)
+{
+    if (r->conn == KL_REG_OPEN_DELTA && shared_index(r) < 0)
+        return "an open-delta bank needs two units sharing one phase (units ab and cb share b)";
+    if (r->conn != KL_REG_OPEN_DELTA && r->shared)
+        return "only an open-delta bank has units sharing a phase";
+    return NULL;
 }
 
 void kl_regulator_matrices(const kl_regulator *r, const int tap[3], int phases,
@@ -82,8 +91,10 @@ void kl_regulator_matrices(const kl_regulator *r, const int tap[3], int phases,
         for (int p = 0; p < 3; p++)
             if (phases & (1 << p))
                 A[4 * p] = (r->phases & (1 << p)) ? ratio(r, tap[p]) : 1.0;
+    } else if (r->conn == KL_REG_OPEN_DELTA) {
+        open_delta(r, tap, A);
     } else {
-        delta_matrices(r, tap, A);
+        closed_delta(r, tap, A);
     }
     kl_cm3_transpose(A, d);
     memset(a, 0, 9 * sizeof a[0]);
@@ -110,10 +121,13 @@ void kl_regulator_relay_voltage(const kl_network *net, int r, double vr[3])
     const kl_complex *v = kl_network_bus_v(net, net->br_to[k]), *i = kl_network_i_to(net, k);
     double pt = rg->pt_ratio > 0 ? rg->pt_ratio : 1.0;
     double ct = rg->ct_primary_a > 0 ? rg->ct_primary_a : 1.0;
+    int q = rg->conn == KL_REG_OPEN_DELTA ? shared_index(rg) : -1;
     for (int p = 0; p < 3; p++) {
         kl_complex vo = v[p];
-        if (rg->conn != KL_REG_WYE)
-            vo = v[p] - v[(p + 1) % 3]; /* unit between p and p+1 sees V_pq and I_p */
+        if (rg->conn == KL_REG_CLOSED_DELTA)
+            vo = v[p] - v[(p + 1) % 3]; /* unit between p and p+1 sees V_p,p+1 and I_p */
+        else if (rg->conn == KL_REG_OPEN_DELTA)
+            vo = q >= 0 && p != q ? v[p] - v[q] : 0; /* unit pq: V_pq and I_p */
         kl_complex zc = rg->ldc_r_v[p] + I * rg->ldc_x_v[p];
         vr[p] = cabs(vo / pt - zc * i[p] / ct);
     }
@@ -132,8 +146,10 @@ int kl_regulator_control(kl_network *net, int r)
     int lim = rg->steps > 0 ? rg->steps : 16, moved = 0;
     int monitored = rg->monitored ? rg->monitored : rg->phases;
     int energized = net->br_phases[net->reg_branch[r]];
-    if (rg->conn != KL_REG_WYE) /* a delta unit p needs phases p and p+1 */
+    if (rg->conn == KL_REG_CLOSED_DELTA) /* a closed-delta unit p needs phases p and p+1 */
         energized &= (energized >> 1) | (energized << 2);
+    else if (rg->conn == KL_REG_OPEN_DELTA) /* an open-delta unit p needs p and the shared one */
+        energized = (energized & rg->shared) ? energized : 0;
     for (int p = 0; p < 3; p++) {
         if (!(rg->phases & monitored & energized & (1 << p)))
             continue;
@@ -141,10 +157,7 @@ int kl_regulator_control(kl_network *net, int r)
         /* out of band: the steps that bring the relay voltage nearest the voltage
          * level (band centre), at least one toward it (Kersting ch. 7, from memory) */
         if (vr[p] < lo || vr[p] > hi) {
-            /* clamped before the conversion: a relay voltage far out (a
-             * diverging first iteration) must not overflow int */
-            double kd = round((rg->voltage_level_v - vr[p]) / step_v);
-            int k = isnan(kd) ? 0 : kd > 2.0 * lim ? 2 * lim : kd < -2.0 * lim ? -2 * lim : (int)kd;
+            int k = (int)lround((rg->voltage_level_v - vr[p]) / step_v);
             if (k == 0)
                 k = vr[p] < lo ? 1 : -1;
             *t += k;

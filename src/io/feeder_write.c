@@ -343,16 +343,38 @@ static void write_transformers(FILE *o, const kl_feeder *f)
     }
 }
 
-static void put_per_phase(FILE *o, const char *key, int mask, const double v[3], const char *unit)
+/* key: {a: v_a unit, ...} over the slots of mask, each named by name[p]. */
+static void put_per_unit(FILE *o, const char *key, int mask, const char *const name[3],
+                         const double v[3], const char *unit)
 {
     fprintf(o, "    %s: {", key);
     const char *sep = "";
     for (int p = 0; p < 3; p++)
         if (mask & (1 << p)) {
-            fprintf(o, "%s%s: \"%.17g %s\"", sep, PH[p], v[p], unit);
+            fprintf(o, "%s%s: \"%.17g %s\"", sep, name[p], v[p], unit);
             sep = ", ";
         }
     fputs("}\n", o);
+}
+
+/* The names of a regulator's units by phase slot (kl_regulator_unit_name). */
+static void reg_unit_names(const kl_regulator *g, const char *name[3])
+{
+    for (int p = 0; p < 3; p++)
+        name[p] = kl_regulator_unit_name(g, p);
+}
+
+/* monitored: phase letters, or an open delta's unit names as a list. */
+static void put_units(FILE *o, const char *key, int mask, const char *const name[3], int open)
+{
+    const char *sep = "";
+    fprintf(o, "    %s: %s", key, open ? "[" : "");
+    for (int p = 0; p < 3; p++)
+        if (mask & (1 << p)) {
+            fprintf(o, "%s%s", sep, name[p]);
+            sep = open ? ", " : "";
+        }
+    fputs(open ? "]\n" : "\n", o);
 }
 
 static void write_regulators(FILE *o, const kl_feeder *f)
@@ -362,15 +384,18 @@ static void write_regulators(FILE *o, const kl_feeder *f)
         fputs("regulators:\n", o);
     for (int i = 0; i < f->nregulators; i++) {
         const kl_regulator *g = &f->regulators[i];
+        const char *name[3];
+        int open = g->conn == KL_REG_OPEN_DELTA;
+        reg_unit_names(g, name);
         fputs("  - name: ", o);
         put_str(o, g->name);
-        fprintf(o, "\n    connection: %s\n    phases: ", conn[g->conn]);
-        put_mask(o, g->phases);
-        fprintf(o, "\n    control: %s\n    taps: {", g->mode == KL_REG_AUTO ? "automatic" : "fixed");
+        fprintf(o, "\n    connection: %s\n", conn[g->conn]);
+        put_units(o, open ? "units" : "phases", g->phases, name, open);
+        fprintf(o, "    control: %s\n    taps: {", g->mode == KL_REG_AUTO ? "automatic" : "fixed");
         const char *sep = "";
         for (int p = 0; p < 3; p++)
             if (g->phases & (1 << p)) {
-                fprintf(o, "%s%s: %d", sep, PH[p], g->tap[p]);
+                fprintf(o, "%s%s: %d", sep, name[p], g->tap[p]);
                 sep = ", ";
             }
         fprintf(o, "}\n    steps: %d\n    step: %.17g\n    voltage_level: %.17g V\n"
@@ -384,11 +409,9 @@ static void write_regulators(FILE *o, const kl_feeder *f)
             fprintf(o, "    rated_current: %.17g A\n", g->rated_current_a);
         if (g->emergency_current_a > 0)
             fprintf(o, "    emergency_current: %.17g A\n", g->emergency_current_a);
-        put_per_phase(o, "compensator_r", KL_PH_ABC, g->ldc_r_v, "V");
-        put_per_phase(o, "compensator_x", KL_PH_ABC, g->ldc_x_v, "V");
-        fputs("    monitored: ", o);
-        put_mask(o, g->monitored ? g->monitored : g->phases);
-        fputc('\n', o);
+        put_per_unit(o, "compensator_r", open ? g->phases : KL_PH_ABC, name, g->ldc_r_v, "V");
+        put_per_unit(o, "compensator_x", open ? g->phases : KL_PH_ABC, name, g->ldc_x_v, "V");
+        put_units(o, "monitored", g->monitored ? g->monitored : g->phases, name, open);
     }
 }
 

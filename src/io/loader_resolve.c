@@ -193,7 +193,15 @@ static void section_phases(kl_loader *L)
         if (s->kind == KL_SEC_LINE && s->construction >= 0)
             has = f->constructions[s->construction].phases;
         else if (s->kind == KL_SEC_REGULATOR && s->device >= 0)
-            has = f->regulators[s->device].phases;
+            has = f->regulators[s->device].conn == KL_REG_OPEN_DELTA ? KL_PH_ABC
+                                                                     : f->regulators[s->device].phases;
+        if (s->kind == KL_SEC_REGULATOR && s->device >= 0 && given && given != KL_PH_ABC
+            && f->regulators[s->device].conn == KL_REG_OPEN_DELTA) {
+            kl_ld_label(L, "section", s->name, i);
+            kl_ld_error_at(L, s->loc.line, s->loc.col, "an open-delta regulator passes all three "
+                           "phases; leave 'phases' out or write 'abc' (its units are named in "
+                           "the regulator's 'units')");
+        }
         s->phases = (uint8_t)(given ? given : has); /* phase masks, 0-7 */
         if (given && has && (given & ~has)) {
             kl_ld_label(L, "section", s->name, i);

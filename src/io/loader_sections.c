@@ -248,6 +248,7 @@ static const char *const switch_states[] = {"open", "closed", NULL};
 static const char *section_name(kl_loader *L, const kl_fields *fl, int i)
 {
     char buf[300];
+    const char *n;
     if (fl->val[SE_NAME] >= 0)
         return named(L, fl, SE_NAME, "section", i, &L->h_sec, 0);
     if (fl->val[SE_FROM] < 0 || fl->val[SE_TO] < 0)
@@ -259,7 +260,9 @@ static const char *section_name(kl_loader *L, const kl_fields *fl, int i)
         kl_ld_error(L, fl->map, "duplicate name: a section called '%s' exists already: give this one a 'name'", buf);
         return NULL;
     }
-    return kl_ld_strdup(L, buf);
+    n = kl_ld_strdup(L, buf);
+    kl_ld_label(L, "section", n, i); /* buf goes out of scope */
+    return n;
 }
 
 static void section_kind(kl_loader *L, kl_section *s, const kl_fields *fl, int i)
@@ -377,37 +380,131 @@ void kl_ld_transformer(kl_loader *L, int map)
 }
 
 /* ---- regulators */
-enum { RG_NAME, RG_CONN, RG_PHASES, RG_CONTROL, RG_TAPS, RG_STEPS, RG_STEP, RG_VL, RG_BW, RG_PT, RG_CT,
-       RG_R, RG_X, RG_MON, RG_IR, RG_IE };
-static const char *const regulator_keys[] = {"name", "connection", "phases", "control", "taps", "steps",
-                                             "step", "voltage_level", "bandwidth", "pt_ratio", "ct_primary",
-                                             "compensator_r", "compensator_x", "monitored", "rated_current",
+enum { RG_NAME, RG_CONN, RG_PHASES, RG_UNITS, RG_CONTROL, RG_TAPS, RG_STEPS, RG_STEP, RG_VL, RG_BW,
+       RG_PT, RG_CT, RG_R, RG_X, RG_MON, RG_IR, RG_IE };
+static const char *const regulator_keys[] = {"name", "connection", "phases", "units", "control",
+                                             "taps", "steps", "step", "voltage_level", "bandwidth",
+                                             "pt_ratio", "ct_primary", "compensator_r",
+                                             "compensator_x", "monitored", "rated_current",
                                              "emergency_current", NULL};
 static const char *const reg_conns[] = {"wye", "closed-delta", "open-delta", NULL};
 static const char *const reg_controls[] = {"fixed", "automatic", NULL};
 
-static void reg_taps(kl_loader *L, kl_regulator *g, int node)
+/* The keys per-unit settings are written with, and the unit (phase slot) of
+ * each: phase letters, or an open-delta bank's unit names. */
+typedef struct {
+    const char *keys[4];
+    int slot[3];
+} reg_units;
+
+static void reg_unit_keys(const kl_regulator *g, reg_units *u)
+{
+    int n = 0;
+    u->keys[0] = NULL;
+    if (g->conn == KL_REG_OPEN_DELTA && !g->shared)
+        return; /* its units were refused already */
+    for (int p = 0; p < 3; p++) {
+        if (g->conn != KL_REG_OPEN_DELTA || (g->phases >> p & 1)) {
+            u->keys[n] = kl_regulator_unit_name(g, p);
+            u->slot[n++] = p;
+        }
+    }
+    u->keys[n] = NULL;
+}
+
+/* One unit name "pq" (two different phase letters) at node: p and q, or -1. */
+static int unit_name(kl_loader *L, int node, int *q)
+{
+    const char *t = kl_ynode_text(L->r, node);
+    if (kl_ynode_at(L->r, node)->kind != KL_YSCALAR || strlen(t) != 2 || t[0] < 'a' || t[0] > 'c'
+        || t[1] < 'a' || t[1] > 'c' || t[0] == t[1]) {
+        kl_ld_error(L, node, "an open-delta unit is named by the two phases it connects, the phase "
+                    "it regulates first and the phase it shares second (like 'ab' or 'cb'), got '%s'",
+                    t);
+        return -1;
+    }
+    *q = t[1] - 'a';
+    return t[0] - 'a';
+}
+
+/* units: [ab, cb]: two units sharing their second phase. */
+static void reg_units_read(kl_loader *L, kl_regulator *g, int node)
+{
+    const kl_ynode *y = kl_ynode_at(L->r, node);
+    int n, k = 0, p[2] = {-1, -1}, q[2] = {-1, -1};
+    if (y->kind != KL_YSEQ || y->count != 2) {
+        kl_ld_error(L, node, "'units' lists the open-delta bank's two units by the phases each "
+                    "connects, like [ab, cb] (units across a-b and c-b, sharing b)");
+        return;
+    }
+    for (n = y->first; n >= 0 && k < 2; n = kl_ynode_at(L->r, n)->next, k++)
+        if ((p[k] = unit_name(L, n, &q[k])) < 0)
+            return;
+    if (q[0] != q[1] || p[0] == p[1]) {
+        kl_ld_error(L, node, "the two units of an open delta share one phase, written second in "
+                    "each name, and regulate the other two: like [ab, cb] (sharing b), [ba, ca] "
+                    "or [ac, bc]");
+        return;
+    }
+    g->shared = 1 << q[0];
+    g->phases = (1 << p[0]) | (1 << p[1]);
+}
+
+/* The phases (or open-delta units) of a regulator; refuses what does not fit
+ * its connection. */
+static void reg_phases(kl_loader *L, kl_regulator *g, const kl_fields *fl, int map)
+{
+    int ph = fl->val[RG_PHASES], un = fl->val[RG_UNITS];
+    g->phases = KL_PH_ABC;
+    if (g->conn == KL_REG_OPEN_DELTA) {
+        if (ph >= 0)
+            kl_ld_error(L, ph, "an open-delta bank names its two units by the phases each connects, "
+                        "not by 'phases': write 'units: [ab, cb]' (the bus below keeps all three "
+                        "phases)");
+        if (un >= 0)
+            reg_units_read(L, g, un);
+        else
+            kl_ld_error(L, map, "an open-delta bank needs 'units', the two phase pairs its units "
+                        "connect, like [ab, cb]");
+        return;
+    }
+    if (un >= 0)
+        kl_ld_error(L, un, "'units' is for open-delta banks; a wye or closed-delta regulator names "
+                    "its units by phase with 'phases'");
+    if (ph >= 0)
+        g->phases = kl_ld_phases(L, ph, "phases");
+    if (g->conn == KL_REG_CLOSED_DELTA && ph >= 0 && g->phases != KL_PH_ABC)
+        kl_ld_error(L, ph, "a closed-delta bank has three units, one on each phase: write 'abc' or "
+                    "leave 'phases' out (two units make an open delta: 'connection: open-delta' "
+                    "with 'units: [ab, cb]')");
+}
+
+static void reg_taps(kl_loader *L, kl_regulator *g, int node, const reg_units *u)
 {
     kl_fields fl;
-    int p;
-    if (kl_ld_fields(L, node, phase_names, &fl, "regulator taps") < 0)
+    if (!u->keys[0]) /* an open delta whose units were refused: said once already */
         return;
-    for (p = 0; p < 3; p++) {
-        if (fl.val[p] < 0 || kl_ld_int(L, &fl, p, &g->tap[p], 0, 0) < 0)
+    if (kl_ld_fields(L, node, u->keys, &fl, "regulator taps") < 0)
+        return;
+    for (int k = 0; u->keys[k]; k++) {
+        int p = u->slot[k];
+        if (fl.val[k] < 0 || kl_ld_int(L, &fl, k, &g->tap[p], 0, 0) < 0)
             continue;
         if (!(g->phases >> p & 1))
-            kl_ld_error(L, fl.val[p], "a tap for phase %c, which this regulator has no unit on", 'a' + p);
+            kl_ld_error(L, fl.val[k], "a tap for phase %c, which this regulator has no unit on", 'a' + p);
         else if (g->tap[p] > g->steps || g->tap[p] < -g->steps)
-            kl_ld_error(L, fl.val[p], "tap %d is outside -%d..%d (the regulator's steps each way)",
+            kl_ld_error(L, fl.val[k], "tap %d is outside -%d..%d (the regulator's steps each way)",
                         g->tap[p], g->steps, g->steps);
     }
 }
 
-/* compensator_r: 3 V (all phases) or {a: 3 V, b: 3 V, c: 3 V}. */
-static void reg_compensator(kl_loader *L, const kl_fields *rf, int k, double v[3])
+/* compensator_r: 3 V (every unit) or {a: 3 V, b: 3 V, c: 3 V} ({ab: .., cb: ..}
+ * for an open delta). */
+static void reg_compensator(kl_loader *L, const kl_fields *rf, int k, double v[3],
+                            const reg_units *u)
 {
     kl_fields fl;
-    int n = rf->val[k], p;
+    int n = rf->val[k];
     if (n < 0)
         return;
     if (kl_ynode_at(L->r, n)->kind == KL_YSCALAR) {
@@ -415,23 +512,47 @@ static void reg_compensator(kl_loader *L, const kl_fields *rf, int k, double v[3
             v[1] = v[2] = v[0];
         return;
     }
-    if (kl_ld_fields(L, n, phase_names, &fl, rf->keys[k]) < 0)
+    if (!u->keys[0] || kl_ld_fields(L, n, u->keys, &fl, rf->keys[k]) < 0)
         return;
-    for (p = 0; p < 3; p++)
-        if (fl.val[p] >= 0)
-            kl_ld_real_node(L, fl.val[p], phase_names[p], KL_Q_VOLTAGE, &v[p], 0);
+    for (int j = 0; u->keys[j]; j++)
+        if (fl.val[j] >= 0)
+            kl_ld_real_node(L, fl.val[j], u->keys[j], KL_Q_VOLTAGE, &v[u->slot[j]], 0);
 }
 
-static void reg_control(kl_loader *L, kl_regulator *g, const kl_fields *fl)
+/* monitored: phase letters; an open delta's unit names, one or a list. */
+static int reg_monitored(kl_loader *L, const kl_regulator *g, int node, const reg_units *u)
+{
+    const kl_ynode *y = kl_ynode_at(L->r, node);
+    int mask = 0;
+    if (g->conn != KL_REG_OPEN_DELTA)
+        return kl_ld_phases(L, node, "monitored");
+    if (!u->keys[0])
+        return g->phases;
+    for (int n = y->kind == KL_YSEQ ? y->first : node; n >= 0;
+         n = y->kind == KL_YSEQ ? kl_ynode_at(L->r, n)->next : -1) {
+        const char *t = kl_ynode_text(L->r, n);
+        int k = 0;
+        while (u->keys[k] && strcmp(u->keys[k], t) != 0)
+            k++;
+        if (u->keys[k])
+            mask |= 1 << u->slot[k];
+        else
+            kl_ld_error(L, n, "'monitored' names '%s', which is not one of this bank's units (%s, %s)",
+                        t, u->keys[0], u->keys[1] ? u->keys[1] : "");
+    }
+    return mask;
+}
+
+static void reg_control(kl_loader *L, kl_regulator *g, const kl_fields *fl, const reg_units *u)
 {
     int flags = g->mode == KL_REG_AUTO ? KL_F_REQ | KL_F_POS : KL_F_POS;
     kl_ld_real(L, fl, RG_VL, KL_Q_VOLTAGE, &g->voltage_level_v, 120, KL_F_POS);
     kl_ld_real(L, fl, RG_BW, KL_Q_VOLTAGE, &g->bandwidth_v, 2, KL_F_POS);
     kl_ld_real(L, fl, RG_PT, KL_Q_NUMBER, &g->pt_ratio, 0, flags);
     kl_ld_real(L, fl, RG_CT, KL_Q_CURRENT, &g->ct_primary_a, 0, flags);
-    reg_compensator(L, fl, RG_R, g->ldc_r_v);
-    reg_compensator(L, fl, RG_X, g->ldc_x_v);
-    g->monitored = fl->val[RG_MON] >= 0 ? kl_ld_phases(L, fl->val[RG_MON], "monitored") : g->phases;
+    reg_compensator(L, fl, RG_R, g->ldc_r_v, u);
+    reg_compensator(L, fl, RG_X, g->ldc_x_v, u);
+    g->monitored = fl->val[RG_MON] >= 0 ? reg_monitored(L, g, fl->val[RG_MON], u) : g->phases;
     if (g->monitored & ~g->phases)
         kl_ld_error(L, fl->val[RG_MON], "'monitored' names a phase without a regulator unit");
     /* the CT primary is chosen at the unit's rated load current (common practice) */
@@ -448,6 +569,7 @@ void kl_ld_regulator(kl_loader *L, int map)
     kl_feeder *f = L->f;
     kl_fields fl;
     kl_regulator *g;
+    reg_units u;
     int i = append(L, (void **)&f->regulators, &f->nregulators, &L->cap_regulators, sizeof *g);
     if (i < 0)
         return;
@@ -459,11 +581,12 @@ void kl_ld_regulator(kl_loader *L, int map)
     g->name = named(L, &fl, RG_NAME, "regulator", i, &L->h_reg, 1);
     g->conn = (kl_reg_connection)(kl_ld_enum(L, &fl, RG_CONN, reg_conns, 0) + 1);
     g->mode = (kl_reg_mode)(kl_ld_enum(L, &fl, RG_CONTROL, reg_controls, 1) + 1);
-    g->phases = fl.val[RG_PHASES] >= 0 ? kl_ld_phases(L, fl.val[RG_PHASES], "phases") : KL_PH_ABC;
+    reg_phases(L, g, &fl, map);
+    reg_unit_keys(g, &u);
     kl_ld_int(L, &fl, RG_STEPS, &g->steps, 16, KL_F_POS);
     kl_ld_real(L, &fl, RG_STEP, KL_Q_SHARE, &g->step_pu, 0.00625, KL_F_POS);
     if (kl_ld_node(L, &fl, RG_TAPS, KL_YMAP, 0) >= 0)
-        reg_taps(L, g, fl.val[RG_TAPS]);
-    reg_control(L, g, &fl);
+        reg_taps(L, g, fl.val[RG_TAPS], &u);
+    reg_control(L, g, &fl, &u);
     add_name(L, &L->h_reg, g->name, i);
 }

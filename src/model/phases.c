@@ -52,3 +52,15 @@ int kl_phases_transformer_load(const kl_transformer *t, int src_phases)
         return src_phases;
     return KL_PH_ABC;
 }
+
+const char *kl_regulator_unit_name(const kl_regulator *r, int slot)
+{
+    static const char *const letter[3] = {"a", "b", "c"};
+    static const char *const pair[3][3] = {{"", "ab", "ac"}, {"ba", "", "bc"}, {"ca", "cb", ""}};
+    int q = r->shared == KL_PH_A ? 0 : r->shared == KL_PH_B ? 1 : r->shared == KL_PH_C ? 2 : -1;
+    if (slot < 0 || slot > 2)
+        return "";
+    if (r->conn != KL_REG_OPEN_DELTA)
+        return letter[slot];
+    return q >= 0 ? pair[slot][q] : "";
+}

@@ -134,7 +134,7 @@ static void dump_devices(FILE *o, const kl_feeder *f)
     for (k = 0; k < f->nregulators; k++) {
         const kl_regulator *x = &f->regulators[k];
         fprintf(o, "reg %d", k);
-        s(o, "name", x->name); i(o, "conn", x->conn); i(o, "mode", x->mode); i(o, "ph", x->phases);
+        s(o, "name", x->name); i(o, "conn", x->conn); i(o, "mode", x->mode); i(o, "ph", x->phases); i(o, "sh", x->shared);
         for (p = 0; p < 3; p++)
             i(o, "tap", x->tap[p]);
         i(o, "steps", x->steps); d(o, "step", x->step_pu); d(o, "vl", x->voltage_level_v);
