@@ -113,7 +113,7 @@ MAIN_B = ["Tarrowby Street at Pibble Road", "Tarrowby Street at Ravel Court",
           "Tarrowby Street at Orchard Rise", "Tarrowby Street at Dunnock Drive",
           "Tarrowby Street at Quarry Lane", "Tarrowby Street, end of line"]
 
-part("Quillmere Road main, substation to the regulator: 556 ACSR on 8 ft crossarms")
+part("Quillmere Road main, substation to the regulator: 556 ACSR on 10 ft crossarms")
 x = 0
 for i, d in enumerate(MAIN_A, 1):
     x += 1050 if i > 1 else 600
@@ -175,12 +175,12 @@ for k in range(1, 6):
     else:
         residential(b, "b", 15, 25, forbidden_phases="c")
 
-part("Underground three-phase loop feed: Pennywort Meadows (250 kcmil AA concentric-neutral cable)")
+part("Underground three-phase loop feed: Pennywort Meadows (350 kcmil AA concentric-neutral cable)")
 prev = "m06"
 for k in range(1, 6):
     b = "pennywort-%d" % k
     bus(b, where["m06"][0], -350 * k, "Pennywort Meadows pad-mount switch %d" % k)
-    sec(prev, b, "ug-cn250")
+    sec(prev, b, "ug-cn350")
     prev = b
 for k, ph in zip(range(1, 6), ("a", "b", "a", "c", "a")):
     residential("pennywort-%d" % k, ph, 30, 45)
@@ -240,7 +240,7 @@ HEAD = """\
 # (edit that script, not this file, then run it again).
 #
 # A 12.47 kV grounded-wye feeder, about 4.2 mi of three-phase main out of Quillmere
-# substation: Quillmere Road (556 ACSR, 8 ft crossarms) to a step-voltage regulator at
+# substation: Quillmere Road (556 ACSR, 10 ft crossarms) to a step-voltage regulator at
 # Osier Lane, then Tarrowby Street (336 ACSR, vertical armless poles).  Two-phase and
 # many single-phase laterals; the single-phase load sits mostly on phase a, on purpose,
 # so that the unbalance study and the rebalancing advisor have something to find.
@@ -271,34 +271,36 @@ source:
   ground_relay_pickup: 240 A
 
 # ----------------------------------------------------------------------------- conductors
-# Conductor data: the usual handbook values for these sizes (from memory).
+# Conductor data: the usual handbook values for these sizes (from memory); 350AA (37
+# strands) has its GMR as 0.768 x its radius and its 50 degC resistance from the
+# aluminium's 20 degC value (common practice).
 conductors:
   - {name: 556ACSR, resistance: 0.1859 ohm/mi, gmr: 0.0313 ft, diameter: 0.927 in, ampacity: 730 A}
   - {name: 336ACSR, resistance: 0.306 ohm/mi, gmr: 0.0244 ft, diameter: 0.721 in, ampacity: 530 A}
   - {name: 4/0ACSR, resistance: 0.592 ohm/mi, gmr: 0.00814 ft, diameter: 0.563 in, ampacity: 340 A}
   - {name: 1/0ACSR, resistance: 1.12 ohm/mi, gmr: 0.00446 ft, diameter: 0.398 in, ampacity: 230 A}
   - {name: 2ACSR, resistance: 1.69 ohm/mi, gmr: 0.00418 ft, diameter: 0.316 in, ampacity: 180 A}
-  - {name: 250AA, resistance: 0.41 ohm/mi, gmr: 0.0171 ft, diameter: 0.567 in, ampacity: 260 A}
+  - {name: 350AA, resistance: 0.29 ohm/mi, gmr: 0.0218 ft, diameter: 0.681 in, ampacity: 330 A}
   - {name: 14CU, resistance: 14.8722 ohm/mi, gmr: 0.00208 ft, diameter: 0.0641 in}
 
 # ----------------------------------------------------------------------------- cables
 cables:
-  - name: cn250
+  - name: cn350                 # Pennywort Meadows: 350 kcmil aluminium, one-third neutral
     kind: concentric-neutral
-    conductor: 250AA
+    conductor: 350AA
     neutral_strand: 14CU
-    strands: 13
-    diameter_over_neutral: 1.29 in
+    strands: 18
+    diameter_over_neutral: 1.46 in
 
 # ----------------------------------------------------------------------------- pole tops and trench
 layouts:
-  - name: crossarm-8ft          # Quillmere Road and Kestrelwick Road
+  - name: crossarm-10ft         # Quillmere Road and Kestrelwick Road
     kind: overhead
     positions:
-      - {id: "1", x: 0 ft, height: 30 ft}
-      - {id: "2", x: 2.5 ft, height: 30 ft}
-      - {id: "3", x: 7 ft, height: 30 ft}
-      - {id: n, x: 4 ft, height: 25 ft}
+      - {id: "1", x: 0 ft, height: 32 ft}
+      - {id: "2", x: 3.5 ft, height: 32 ft}
+      - {id: "3", x: 9.5 ft, height: 32 ft}
+      - {id: n, x: 5.5 ft, height: 27.5 ft}
   - name: vertical-armless      # Tarrowby Street: insulators stacked on one side of the pole
     kind: overhead
     positions:
@@ -312,11 +314,11 @@ layouts:
       - {id: "1", x: 0 ft, height: 29 ft}
       - {id: "2", x: 5 ft, height: 29 ft}
       - {id: n, x: 2.5 ft, height: 25 ft}
-  - name: pin-top
+  - name: pin-top               # single-phase laterals: phase on a pole-top pin, neutral on a rack
     kind: overhead
     positions:
-      - {id: "1", x: 0 ft, height: 30 ft}
-      - {id: n, x: 0.5 ft, height: 25 ft}
+      - {id: "1", x: 0 ft, height: 33 ft}
+      - {id: n, x: 0.7 ft, height: 28.5 ft}
   - name: trench-flat
     kind: underground
     positions:
@@ -327,7 +329,7 @@ layouts:
 # ----------------------------------------------------------------------------- constructions
 constructions:
   - name: main-556
-    layout: crossarm-8ft
+    layout: crossarm-10ft
     phase_conductor: 556ACSR
     phases: {a: "1", b: "2", c: "3"}
     neutrals: [{position: n, conductor: 4/0ACSR}]
@@ -337,13 +339,13 @@ constructions:
     phases: {a: "1", b: "2", c: "3"}
     neutrals: [{position: n, conductor: 4/0ACSR}]
   - name: branch-2
-    layout: crossarm-8ft
+    layout: crossarm-10ft
     phase_conductor: 2ACSR
     phases: {a: "1", b: "2", c: "3"}
     neutrals: [{position: n, conductor: 2ACSR}]
-  - name: ug-cn250
+  - name: ug-cn350
     layout: trench-flat
-    cable: cn250
+    cable: cn350
     phases: {a: "1", b: "2", c: "3"}
   - {name: oh2-ab, layout: two-phase-arm, phase_conductor: 1/0ACSR, phases: {a: "1", b: "2"}, neutrals: [{position: n, conductor: 1/0ACSR}]}
   - {name: oh2-ac, layout: two-phase-arm, phase_conductor: 1/0ACSR, phases: {a: "1", c: "2"}, neutrals: [{position: n, conductor: 1/0ACSR}]}

@@ -9,9 +9,15 @@
  *    memory), so
  *    the study has something to report;
  *  - a feeder head of 4-7 MVA (a usual 12.47 kV feeder loading: common practice);
- *  - more load on phase a than on b and c (so the rebalancing advisor has work).
+ *  - more load on phase a than on b and c (so the rebalancing advisor has work);
+ *  - a residual current at the head, 3I0 = Ia + Ib + Ic summed here from the head
+ *    section's phase currents, above half the ground relay's pickup (where the study
+ *    flags it) yet below the pickup itself: a ground relay set under the normal load
+ *    residual would trip the feeder at peak load (common practice).
  * VUF is computed here from the phase voltages with the Fortescue transform written out
- * (V2/V1 with a = 1 angle 120 degrees), independently of src/sequence.c. */
+ * (V2/V1 with a = 1 angle 120 degrees), independently of src/sequence.c.  The line
+ * constants are the program's default (Carson's complete earth-return series), so the
+ * figures are those `kilter flow` and `kilter study` print for the demo. */
 #include <check.h>
 #include <complex.h>
 #include <math.h>
@@ -27,7 +33,7 @@ static void setup(void)
 {
     gsl_set_error_handler_off();
     harness_init(&H);
-    harness_solve_file(&H, "feeders/demo/quillmere-f3.yaml", KL_CARSON_APPROX);
+    harness_solve_file(&H, "feeders/demo/quillmere-f3.yaml", KL_CARSON_FULL);
     F = H.f;
     R = H.res;
 }
@@ -79,6 +85,24 @@ START_TEST(head_loading_and_phase_a_heaviest)
 }
 END_TEST
 
+START_TEST(head_residual_under_the_ground_pickup)
+{
+    int head = -1, count = 0;
+    for (int s = 0; s < F->nsections; s++)
+        if (F->sections[s].from == F->source.bus || F->sections[s].to == F->source.bus) {
+            head = s;
+            count++;
+        }
+    ck_assert_msg(count == 1, "the demo's source bus should feed one section, it feeds %d", count);
+    const kl_complex *i = &R->i[3 * head];
+    double residual = cabs(i[0] + i[1] + i[2]), pickup = F->source.relay_pickup_a;
+    ck_assert_msg(pickup > 0, "the demo gives no ground relay pickup");
+    ck_assert_msg(residual > 0.5 * pickup && residual < pickup,
+                  "head residual %.1f A against a %.0f A ground pickup: expected between half and all of it",
+                  residual, pickup);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("feeders_demo");
@@ -87,6 +111,7 @@ int main(void)
     tcase_add_test(tc, voltages_inside_range_a);
     tcase_add_test(tc, some_bus_above_two_percent_vuf);
     tcase_add_test(tc, head_loading_and_phase_a_heaviest);
+    tcase_add_test(tc, head_residual_under_the_ground_pickup);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

@@ -35,7 +35,7 @@ typedef enum {
 typedef struct {
     char file[256];    /* file name as given, or "" */
     int line, col;     /* 1-based; 0 when unknown */
-    char element[128]; /* e.g. "section 632-671" or "" */
+    char element[128]; /* e.g. "section m01-m02" or "" */
     char message[768]; /* what was expected and how to fix it */
 } kl_error_item;
 

@@ -1,6 +1,6 @@
 /* kilter: units of the feeder file and of printed results.
  *
- * The loader turns "500 ft", "0.1859 ohm/mi", "160 + j110 kVA" into SI with
+ * The loader turns "600 ft", "0.1859 ohm/mi", "48 + j15.8 kVA" into SI with
  * these routines; the program converts SI back to the file's own system
  * (`kl_unit_system`) only when it prints.  Exact conversion factors are those
  * of NIST SP 811 (2008), appendix B. */

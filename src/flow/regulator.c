@@ -4,8 +4,9 @@
  * load-side voltage is a_R times the source side and the source-side current
  * a_R times the load side (ideal, lossless: Kersting ch. 7, from memory).
  * The type-B exact ratio 1 / (1 - step * tap) differs by up to 0.06 % at
- * tap 10; the published IEEE 13-node results use 1 + step * tap (its RG60
- * voltages are 1.0625, 1.0500, 1.06875 pu at taps 10, 8, 11), so kilter does.
+ * tap 10; the published IEEE 13-node results use 1 + step * tap (its
+ * regulator's output voltages are 1.0625, 1.0500, 1.06875 pu at taps 10, 8,
+ * 11), so kilter does.
  *
  * Wye: one unit per phase, line to neutral.  Open delta: two units, each
  * named by the pair of phases it connects, "pq": its shunt winding across

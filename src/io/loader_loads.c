@@ -45,7 +45,7 @@ static const char *elem_name(kl_loader *L, const kl_fields *fl, const char *kind
     return n;
 }
 
-/* {a: 160 + j110 kVA, ...} or {ab: ..., ...}: per-phase values, mask returned. */
+/* {a: 48 + j15.8 kVA, ...} or {ab: ..., ...}: per-phase values, mask returned. */
 static int per_phase(kl_loader *L, int node, const char *key, int delta, int cplx, kl_complex v[3])
 {
     kl_fields fl;

@@ -498,7 +498,7 @@ static void reg_taps(kl_loader *L, kl_regulator *g, int node, const reg_units *u
     }
 }
 
-/* compensator_r: 3 V (every unit) or {a: 3 V, b: 3 V, c: 3 V} ({ab: .., cb: ..}
+/* compensator_r: 2 V (every unit) or {a: 2 V, b: 2.5 V, c: 2 V} ({ab: .., cb: ..}
  * for an open delta). */
 static void reg_compensator(kl_loader *L, const kl_fields *rf, int k, double v[3],
                             const reg_units *u)

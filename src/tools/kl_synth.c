@@ -176,7 +176,9 @@ static void write_header(FILE *f, long n, uint64_t seed)
         n, seed, total_kva(n), n, seed, SOURCE_PU);
 }
 
-/* Conductor data: the usual overhead-line handbook values (from memory). */
+/* Conductor data: the usual overhead-line handbook values (from memory); the
+ * cable, pole tops and trench are the demo feeder's (scripts/make_demo.py), our
+ * own dimensions rather than a published test feeder's. */
 static void write_equipment(FILE *f)
 {
     fputs("# Conductor data: usual handbook values (from memory).\n"
@@ -184,36 +186,36 @@ static void write_equipment(FILE *f)
           "  - {name: 336ACSR, resistance: 0.306 ohm/mi, gmr: 0.0244 ft, diameter: 0.721 in, ampacity: 530 A}\n"
           "  - {name: 4/0ACSR, resistance: 0.592 ohm/mi, gmr: 0.00814 ft, diameter: 0.563 in, ampacity: 340 A}\n"
           "  - {name: 1/0ACSR, resistance: 1.12 ohm/mi, gmr: 0.00446 ft, diameter: 0.398 in, ampacity: 230 A}\n"
-          "  - {name: 250AA, resistance: 0.41 ohm/mi, gmr: 0.0171 ft, diameter: 0.567 in, ampacity: 329 A}\n"
+          "  - {name: 350AA, resistance: 0.29 ohm/mi, gmr: 0.0218 ft, diameter: 0.681 in, ampacity: 330 A}\n"
           "  - {name: 14CU, resistance: 14.8722 ohm/mi, gmr: 0.00208 ft, diameter: 0.0641 in}\n"
           "cables:\n"
-          "  - {name: cn250, kind: concentric-neutral, conductor: 250AA, neutral_strand: 14CU, strands: 13,"
-          " diameter_over_neutral: 1.29 in}\n"
+          "  - {name: cn350, kind: concentric-neutral, conductor: 350AA, neutral_strand: 14CU, strands: 18,"
+          " diameter_over_neutral: 1.46 in}\n"
           "layouts:\n"
           "  - name: crossarm\n"
           "    kind: overhead\n"
           "    positions:\n"
-          "      - {id: \"1\", x: 0 ft, height: 28 ft}\n"
-          "      - {id: \"2\", x: 2.5 ft, height: 28 ft}\n"
-          "      - {id: \"3\", x: 7 ft, height: 28 ft}\n"
-          "      - {id: n, x: 4 ft, height: 24 ft}\n"
+          "      - {id: \"1\", x: 0 ft, height: 32 ft}\n"
+          "      - {id: \"2\", x: 3.5 ft, height: 32 ft}\n"
+          "      - {id: \"3\", x: 9.5 ft, height: 32 ft}\n"
+          "      - {id: n, x: 5.5 ft, height: 27.5 ft}\n"
           "  - name: two-phase-arm\n"
           "    kind: overhead\n"
           "    positions:\n"
-          "      - {id: \"1\", x: 0 ft, height: 28 ft}\n"
-          "      - {id: \"2\", x: 7 ft, height: 28 ft}\n"
-          "      - {id: n, x: 4 ft, height: 24 ft}\n"
+          "      - {id: \"1\", x: 0 ft, height: 29 ft}\n"
+          "      - {id: \"2\", x: 5 ft, height: 29 ft}\n"
+          "      - {id: n, x: 2.5 ft, height: 25 ft}\n"
           "  - name: pole-top-pin\n"
           "    kind: overhead\n"
           "    positions:\n"
-          "      - {id: \"1\", x: 0 ft, height: 29 ft}\n"
-          "      - {id: n, x: 0.5 ft, height: 24 ft}\n"
+          "      - {id: \"1\", x: 0 ft, height: 33 ft}\n"
+          "      - {id: n, x: 0.7 ft, height: 28.5 ft}\n"
           "  - name: trench\n"
           "    kind: underground\n"
           "    positions:\n"
-          "      - {id: \"1\", x: 0 in, depth: 4 ft}\n"
-          "      - {id: \"2\", x: 6 in, depth: 4 ft}\n"
-          "      - {id: \"3\", x: 12 in, depth: 4 ft}\n", f);
+          "      - {id: \"1\", x: 0 in, depth: 3.5 ft}\n"
+          "      - {id: \"2\", x: 7.5 in, depth: 3.5 ft}\n"
+          "      - {id: \"3\", x: 15 in, depth: 3.5 ft}\n", f);
 }
 
 static const char *const two_names[3] = {"oh2-ab", "oh2-bc", "oh2-ca"};
@@ -225,7 +227,7 @@ static void write_constructions(FILE *f)
     fputs("constructions:\n"
           "  - {name: oh3, layout: crossarm, phase_conductor: 336ACSR, phases: {a: \"1\", b: \"2\", c: \"3\"},"
           " neutrals: [{position: n, conductor: 4/0ACSR}]}\n"
-          "  - {name: ug3, layout: trench, cable: cn250, phases: {a: \"1\", b: \"2\", c: \"3\"}}\n", f);
+          "  - {name: ug3, layout: trench, cable: cn350, phases: {a: \"1\", b: \"2\", c: \"3\"}}\n", f);
     for (int k = 0; k < 3; k++)
         fprintf(f, "  - {name: %s, layout: two-phase-arm, phase_conductor: 1/0ACSR,"
                 " phases: {%s: \"1\", %s: \"2\"}, neutrals: [{position: n, conductor: 1/0ACSR}]}\n",
