@@ -246,6 +246,61 @@ START_TEST(control_characters_in_names)
 }
 END_TEST
 
+/* Issue 14, defect 3: absurd magnitudes (a slip of the exponent or the unit)
+ * are refused where they are written, naming the value, the element and the
+ * accepted range; odd but real values (a 400 Hz system, a 138 kV source) are
+ * accepted with a located warning.  The ranges are those of
+ * src/io/loader_ranges.c (common practice, sources there). */
+START_TEST(absurd_magnitudes)
+{
+    const char *t = "kilter-feeder: 1\n"                                                          /* 1 */
+                    "source: {bus: sub, nominal_voltage: 1e300 kV, frequency: 1e12 Hz}\n"         /* 2 */
+                    "conductors:\n"                                                               /* 3 */
+                    "  - {name: c1, resistance: 0.3 ohm/mi, gmr: 1e-300 ft, diameter: 0.5 in}\n"  /* 4 */
+                    "constructions:\n"                                                            /* 5 */
+                    "  - {name: m, impedance: {aa: 1e300 + j1 ohm/mi}}\n"                         /* 6 */
+                    "sections:\n"                                                                 /* 7 */
+                    "  - {name: s1, from: sub, to: b1, length: 1e300 ft, construction: m}\n"      /* 8 */
+                    "  - {name: t1, from: b1, to: b2, transformer: x}\n"                          /* 9 */
+                    "transformers:\n"                                                             /* 10 */
+                    "  - {name: x, rating: 1e-300 kVA, high: {voltage: 12.47 kV, connection: delta},\n"
+                    "     low: {voltage: 0.48 kV, connection: grounded-wye}, resistance: 1 %, reactance: 5 %}\n";
+    ck_assert_int_eq(load_text(t), KL_EINPUT);
+    expect_error(2, col_of(t, 2, "1e300"), "source", "'nominal_voltage' = 1e300 kV is outside",
+                 "0.05 to 1200 kV", NULL);
+    expect_error(2, col_of(t, 2, "1e12"), "source", "'frequency' = 1e12 Hz", "10 to 1000 Hz", NULL);
+    expect_error(4, col_of(t, 4, "1e-300"), "conductor \"c1\"", "'gmr' = 1e-300 ft", "0.01 to 1000 mm", NULL);
+    expect_error(6, col_of(t, 6, "1e300"), "construction \"m\"", "'aa' = 1e300 + j1 ohm/mi", "ohm/km", NULL);
+    expect_error(8, col_of(t, 8, "1e300"), "section \"s1\"", "'length' = 1e300 ft", "km", NULL);
+    expect_error(11, col_of(t, 11, "1e-300"), "transformer \"x\"", "'rating' = 1e-300 kVA", "kVA", NULL);
+}
+END_TEST
+
+START_TEST(unusual_magnitudes_warned)
+{
+    const char *t = HEAD "  - {name: s1, from: sub, to: b1, length: 10 ft, construction: k3}\n";
+    char *u = malloc(strlen(t) + 64), *p;
+    int i, warned = 0;
+    ck_assert_ptr_nonnull(u);
+    strcpy(u, t);
+    p = strstr(u, "12.47 kV}");
+    ck_assert_ptr_nonnull(p);
+    memmove(p + strlen("138 kV, frequency: 400 Hz}"), p + strlen("12.47 kV}"), strlen(p + strlen("12.47 kV}")) + 1);
+    memcpy(p, "138 kV, frequency: 400 Hz}", strlen("138 kV, frequency: 400 Hz}"));
+    ck_assert_int_eq(load_text(u), KL_OK); /* accepted ... */
+    for (i = 0; i < err.count; i++) /* ... with a located warning for each */
+        if (err.items[i].warning && err.items[i].line == 3 && strstr(err.items[i].element, "source") &&
+            (strstr(err.items[i].message, "'nominal_voltage' = 138 kV is unusual") ||
+             strstr(err.items[i].message, "'frequency' = 400 Hz is unusual")))
+            warned++;
+    if (warned != 2)
+        dump();
+    ck_assert_int_eq(warned, 2);
+    ck_assert_int_eq(err.count, 2);
+    free(u);
+}
+END_TEST
+
 START_TEST(unknown_references)
 {
     const char *t = HEAD "  - {name: s1, from: sub, to: b1, length: 10 ft, construction: k4}\n"
@@ -562,6 +617,8 @@ int main(void)
     tcase_add_test(tc, duplicates);
     tcase_add_test(tc, duplicate_default_names_label);
     tcase_add_test(tc, control_characters_in_names);
+    tcase_add_test(tc, absurd_magnitudes);
+    tcase_add_test(tc, unusual_magnitudes_warned);
     tcase_add_test(tc, unknown_references);
     tcase_add_test(tc, position_not_in_layout);
     tcase_add_test(tc, section_phases_not_in_construction);

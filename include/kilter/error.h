@@ -37,6 +37,7 @@ typedef struct {
     int line, col;     /* 1-based; 0 when unknown */
     char element[128]; /* e.g. "section m01-m02" or "" */
     char message[768]; /* what was expected and how to fix it */
+    int warning;       /* 1: a warning (the input was accepted), 0: an error */
 } kl_error_item;
 
 typedef struct {
@@ -54,7 +55,13 @@ void kl_errors_clear(kl_errors *e);
 kl_status kl_errors_add(kl_errors *e, const char *file, int line, int col,
                         const char *element, const char *fmt, ...)
     __attribute__((format(printf, 6, 7)));
-/* "file:line:col: element: message" (parts that are empty are left out). */
+/* A warning: the same record, `warning` set.  A function that only warns
+ * still returns KL_OK. */
+kl_status kl_errors_warn(kl_errors *e, const char *file, int line, int col,
+                         const char *element, const char *fmt, ...)
+    __attribute__((format(printf, 6, 7)));
+/* "file:line:col: element: message" (parts that are empty are left out);
+ * a warning reads "file:line:col: warning: element: message". */
 int kl_error_format(const kl_error_item *it, char *buf, size_t n);
 const char *kl_status_name(kl_status s);
 

@@ -85,12 +85,11 @@ static kl_status grow(kl_errors *e)
     return KL_OK;
 }
 
-kl_status kl_errors_add(kl_errors *e, const char *file, int line, int col,
-                        const char *element, const char *fmt, ...)
+static kl_status vadd(kl_errors *e, int warning, const char *file, int line, int col,
+                      const char *element, const char *fmt, va_list ap)
 {
     kl_error_item *it;
     char msg[sizeof it->message];
-    va_list ap;
     if (e->count >= KL_ERRORS_MAX) {
         e->dropped++;
         return KL_OK;
@@ -104,11 +103,32 @@ kl_status kl_errors_add(kl_errors *e, const char *file, int line, int col,
     copy_printable(it->element, sizeof it->element, element);
     it->line = line;
     it->col = col;
-    va_start(ap, fmt);
+    it->warning = warning;
     vsnprintf(msg, sizeof msg, fmt, ap);
-    va_end(ap);
     copy_printable(it->message, sizeof it->message, msg);
     return KL_OK;
+}
+
+kl_status kl_errors_add(kl_errors *e, const char *file, int line, int col,
+                        const char *element, const char *fmt, ...)
+{
+    va_list ap;
+    kl_status st;
+    va_start(ap, fmt);
+    st = vadd(e, 0, file, line, col, element, fmt, ap);
+    va_end(ap);
+    return st;
+}
+
+kl_status kl_errors_warn(kl_errors *e, const char *file, int line, int col,
+                         const char *element, const char *fmt, ...)
+{
+    va_list ap;
+    kl_status st;
+    va_start(ap, fmt);
+    st = vadd(e, 1, file, line, col, element, fmt, ap);
+    va_end(ap);
+    return st;
 }
 
 int kl_error_format(const kl_error_item *it, char *buf, size_t n)
@@ -118,9 +138,10 @@ int kl_error_format(const kl_error_item *it, char *buf, size_t n)
         snprintf(where, sizeof where, "%s:%d:%d: ", it->file, it->line, it->col);
     else if (it->file[0])
         snprintf(where, sizeof where, "%s: ", it->file);
+    const char *w = it->warning ? "warning: " : "";
     if (it->element[0])
-        return snprintf(buf, n, "%s%s: %s", where, it->element, it->message);
-    return snprintf(buf, n, "%s%s", where, it->message);
+        return snprintf(buf, n, "%s%s%s: %s", where, w, it->element, it->message);
+    return snprintf(buf, n, "%s%s%s", where, w, it->message);
 }
 
 const char *kl_status_name(kl_status s)

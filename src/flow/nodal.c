@@ -628,9 +628,14 @@ static void report_noconv(const kl_network *n, int it, double worst, int where,
         }
     char why[700];
     kl_diverge_hint(n, low, worst, why, sizeof why); /* the sweep's reasons, same iteration */
+    char change[64]; /* never "inf" or "nan" in a message: say what it means */
+    if (isfinite(worst))
+        snprintf(change, sizeof change, "%.3g pu", worst);
+    else
+        snprintf(change, sizeof change, "beyond any number");
     kl_errors_add(err, n->feeder->path, 0, 0, "load flow (nodal)",
-                  "did not converge after %d iterations: largest voltage change %.3g pu at bus "
-                  "%s; lowest voltage %.3f pu at bus %s; likely reason: %s", it, worst,
+                  "did not converge after %d iterations: largest voltage change %s at bus "
+                  "%s; lowest voltage %.3f pu at bus %s; likely reason: %s", it, change,
                   where >= 0 ? bus_label(n, where) : "?", isfinite(low) ? low : 0.0,
                   bus_label(n, lowbus), why);
 }

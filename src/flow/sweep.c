@@ -280,9 +280,14 @@ static void report_noconv(const kl_network *n, int it, double worst, int where, 
                  bus_name(n, lowbus, b2, sizeof b2));
     else
         snprintf(lowtxt, sizeof lowtxt, "the voltages diverged");
+    char change[64]; /* never "inf" or "nan" in a message: say what it means */
+    if (isfinite(worst))
+        snprintf(change, sizeof change, "%.3g pu", worst);
+    else
+        snprintf(change, sizeof change, "beyond any number");
     kl_errors_add(err, n->feeder->path, 0, 0, "load flow",
-                  "did not converge after %d iterations: largest voltage change %.3g pu at bus "
-                  "%s; %s; likely reason: %s", it, worst, bus_name(n, where, b1, sizeof b1),
+                  "did not converge after %d iterations: largest voltage change %s at bus "
+                  "%s; %s; likely reason: %s", it, change, bus_name(n, where, b1, sizeof b1),
                   lowtxt, why);
 }
 

@@ -110,6 +110,15 @@ typedef struct {
     int given_phases;  /* matrix constructions: mask from `phases:` */
 } kl_cons_pos;
 
+/* A cached look-up of the range table (loader_ranges.c). */
+typedef struct {
+    const char *kind, *key;
+    int q;
+    int row; /* 1 + the row, -1 for none, 0 for an empty slot */
+} kl_range_slot;
+#define KL_RANGE_CACHE 64
+#define KL_WARNINGS_MAX 50 /* warnings kept per load; more are counted */
+
 typedef struct {
     kl_feeder *f;
     kl_yreader *r;
@@ -133,6 +142,8 @@ typedef struct {
     kl_pending_ref *pending;
     int npending, cap_pending;
     int has_source;
+    int nwarn;               /* warnings this load has given */
+    kl_range_slot range_cache[KL_RANGE_CACHE];
 } kl_loader;
 
 /* Fields of one mapping, looked up by key index. */
@@ -148,6 +159,16 @@ enum { KL_F_REQ = 1, KL_F_POS = 2, KL_F_NONNEG = 4,
 
 void kl_ld_error(kl_loader *L, int node, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
 void kl_ld_error_at(kl_loader *L, int line, int col, const char *fmt, ...) __attribute__((format(printf, 4, 5)));
+/* A value accepted but unusual: a located warning, not counted as a problem. */
+void kl_ld_warning(kl_loader *L, int node, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
+/* The value x read at node for key (a kl_quantity q) of the element being
+ * read, against its plausible range; 0, or -1 after an error. */
+int kl_ld_range(kl_loader *L, int node, const char *key, int q, double x);
+/* loader_ranges.c: 0 when x is usual for (kind, key, q) or has no range, 1
+ * when unusual, 2 when outside the hard limits; *what names the quantity and
+ * span the band (the usual one for 1, the accepted one for 2). */
+int kl_ld_range_judge(kl_range_slot *cache, const char *kind, const char *key, int q, double x,
+                      const char **what, char *span, size_t n);
 void kl_ld_label(kl_loader *L, const char *kind, const char *name, int index);
 int kl_ld_grow(kl_loader *L, void **arr, int *cap, int n, size_t size);
 const char *kl_ld_strdup(kl_loader *L, const char *s);

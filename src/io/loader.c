@@ -289,6 +289,10 @@ static kl_status load(kl_loader *L, kl_feeder **out)
         if (!L->nomem && L->has_source)
             kl_ld_topology(L);
     }
+    if (L->nwarn > KL_WARNINGS_MAX &&
+        kl_errors_warn(L->err, L->file, 0, 0, NULL, "%d more warnings not shown",
+                       L->nwarn - KL_WARNINGS_MAX) == KL_ENOMEM)
+        L->nomem = 1;
     if (L->nomem || kl_yreader_nomem(L->r))
         s = KL_ENOMEM;
     else if (L->nerr || kl_yreader_failed(L->r))

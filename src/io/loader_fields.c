@@ -3,6 +3,7 @@
  * Every value is checked where it is read: its YAML kind, its unit, its range;
  * every problem is reported with the value's own line and column and the
  * element's name, and reading goes on so that all problems are reported. */
+#include <complex.h>
 #include <stdarg.h>
 #include <stdio.h>
 #include <string.h>
@@ -27,6 +28,20 @@ void kl_ld_error(kl_loader *L, int node, const char *fmt, ...)
     va_start(ap, fmt);
     vreport(L, n->line, n->col, fmt, ap);
     va_end(ap);
+}
+
+void kl_ld_warning(kl_loader *L, int node, const char *fmt, ...)
+{
+    const kl_ynode *n = kl_ynode_at(L->r, node);
+    char msg[700];
+    va_list ap;
+    if (L->nwarn++ >= KL_WARNINGS_MAX)
+        return; /* counted; the loader says how many were not shown */
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    if (kl_errors_warn(L->err, L->file, n->line, n->col, label(L), "%s", msg) == KL_ENOMEM)
+        L->nomem = 1;
 }
 
 void kl_ld_error_at(kl_loader *L, int line, int col, const char *fmt, ...)
@@ -339,6 +354,22 @@ static int range_ok(kl_loader *L, int node, const char *key, double x, int flags
     return 1;
 }
 
+int kl_ld_range(kl_loader *L, int node, const char *key, int q, double x)
+{
+    const char *what = "", *text = kl_ynode_text(L->r, node);
+    char span[120];
+    int j = kl_ld_range_judge(L->range_cache, L->elem_kind, key, q, x, &what, span, sizeof span);
+    if (j == 2) {
+        kl_ld_error(L, node, "'%s' = %s is outside what %s can be (%s): check the number, its "
+                    "exponent and its unit", key, text, what, span);
+        return -1;
+    }
+    if (j == 1)
+        kl_ld_warning(L, node, "'%s' = %s is unusual for %s (usually %s): kilter uses it as given; "
+                      "check it if it was not meant", key, text, what, span);
+    return 0;
+}
+
 int kl_ld_real_node(kl_loader *L, int node, const char *key, int q, double *out, int flags)
 {
     char why[300];
@@ -349,7 +380,7 @@ int kl_ld_real_node(kl_loader *L, int node, const char *key, int q, double *out,
         kl_ld_error(L, node, "'%s': %s", key, why);
         return -1;
     }
-    if (!range_ok(L, node, key, x, flags))
+    if (!range_ok(L, node, key, x, flags) || kl_ld_range(L, node, key, q, x) < 0)
         return -1;
     *out = x;
     return 0;
@@ -373,7 +404,7 @@ int kl_ld_complex_node(kl_loader *L, int node, const char *key, int q, kl_comple
         kl_ld_error(L, node, "'%s': %s", key, why);
         return -1;
     }
-    return 0;
+    return kl_ld_range(L, node, key, q, cabs(*out));
 }
 
 int kl_ld_complex(kl_loader *L, const kl_fields *fl, int k, int q, kl_complex *out, int flags)

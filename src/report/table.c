@@ -155,9 +155,10 @@ static void text_cell(FILE *o, const kl_column *c, const kl_cell *v)
 {
     switch (c->type) {
     case KL_CELL_NUM:
-        if (isnan(v->num)) {
+        if (!isfinite(v->num)) {
             /* a dash in the field's width, its separator one space short: as
-             * the study's tables have always printed it */
+             * the study's tables have always printed it (an infinity is no
+             * more a figure than a NaN: never "inf" in a table) */
             text_spec s;
             text_parse(c->text, &s);
             if (s.prefix > 1)
