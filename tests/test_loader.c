@@ -301,6 +301,50 @@ START_TEST(unusual_magnitudes_warned)
 }
 END_TEST
 
+/* Issue 14, defect 2: a source angle of many turns is reduced to one (the
+ * phases stay 120 degrees apart to the last digit), an absurd one refused;
+ * regulator settings whose ratio 1 + step x tap reaches zero, reverses or
+ * runs away (step 6.25 % with tap -16, step 50 %, a billion steps) refused.
+ * The regulating range of a step-voltage regulator is +-10 % in 16 steps of
+ * 5/8 % each way (ANSI/IEEE C57.15, common practice). */
+START_TEST(absurd_angle_and_regulator)
+{
+    const char *t = "kilter-feeder: 1\n"                                                          /* 1 */
+                    "source: {bus: sub, nominal_voltage: 12.47 kV, angle: 1e15 deg}\n"            /* 2 */
+                    "regulators:\n"                                                               /* 3 */
+                    "  - {name: r1, step: 6.25 %, taps: {a: -16}}\n"                              /* 4 */
+                    "  - {name: r2, steps: 16, step: 50 %}\n"                                     /* 5 */
+                    "  - {name: r3, steps: 1000000000}\n"                                         /* 6 */
+                    "  - {name: r4, steps: 48, step: 1.25 %}\n"                                   /* 7 */
+                    "sections:\n"                                                                 /* 8 */
+                    "  - {from: sub, to: b1, regulator: r1}\n"                                    /* 9 */
+                    "  - {from: b1, to: b2, regulator: r2}\n"                                     /* 10 */
+                    "  - {from: b2, to: b3, regulator: r3}\n"                                     /* 11 */
+                    "  - {from: b3, to: b4, regulator: r4}\n";                                    /* 12 */
+    ck_assert_int_eq(load_text(t), KL_EINPUT);
+    expect_error(2, col_of(t, 2, "1e15"), "source", "'angle' = 1e15 deg is outside", "3600 deg", NULL);
+    expect_error(4, col_of(t, 4, "6.25"), "regulator \"r1\"", "'step' = 6.25 % is outside", "0.01 to 5 %", NULL);
+    expect_error(5, col_of(t, 5, "50 %"), "regulator \"r2\"", "'step' = 50 % is outside", NULL);
+    expect_error(6, col_of(t, 6, "1000000000"), "regulator \"r3\"", "'steps' = 1000000000 is outside", NULL);
+    expect_error(7, col_of(t, 7, "1.25"), "regulator \"r4\"", "48 steps of 1.25 % each way give a ratio from 0.4 to 1.6",
+                 NULL);
+}
+END_TEST
+
+START_TEST(angle_reduced)
+{
+    const char *t = "kilter-feeder: 1\nsource: {bus: sub, nominal_voltage: 12.47 kV, angle: -750 deg}\n"
+                    "sections:\n  - {from: sub, to: b1, switch: closed}\n";
+    int i;
+    ck_assert_int_eq(load_text(t), KL_OK);
+    ck_assert(fabs(fd->source.angle_deg - (-30.0)) < 1e-12); /* -750 = -2 x 360 - 30 */
+    for (i = 0; i < err.count; i++) /* two turns: accepted, with a warning */
+        if (err.items[i].warning && strstr(err.items[i].message, "'angle' = -750 deg is unusual"))
+            break;
+    ck_assert_int_lt(i, err.count);
+}
+END_TEST
+
 START_TEST(unknown_references)
 {
     const char *t = HEAD "  - {name: s1, from: sub, to: b1, length: 10 ft, construction: k4}\n"
@@ -619,6 +663,8 @@ int main(void)
     tcase_add_test(tc, control_characters_in_names);
     tcase_add_test(tc, absurd_magnitudes);
     tcase_add_test(tc, unusual_magnitudes_warned);
+    tcase_add_test(tc, absurd_angle_and_regulator);
+    tcase_add_test(tc, angle_reduced);
     tcase_add_test(tc, unknown_references);
     tcase_add_test(tc, position_not_in_layout);
     tcase_add_test(tc, section_phases_not_in_construction);

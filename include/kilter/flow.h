@@ -47,6 +47,11 @@ typedef struct kl_flow_result {
     kl_complex *s_load;    /* [3*nloads] actual power per entry (wye a,b,c; delta ab,bc,ca) */
     double *q_cap;         /* [3*ncapacitors] actual var per entry */
     int *tap;              /* [3*nregulators] final taps */
+    double *reg_relay_v;   /* [3*nregulators] relay voltage of each unit an automatic control
+                            * acts on, V on the 120 V base; NAN for the others */
+    int *reg_limit;        /* [3*nregulators] +1: the unit is at its raise limit and the relay
+                            * voltage is still below the band (the set point is not reached);
+                            * -1: at its lower limit and still above the band; 0 otherwise */
 
     /* the source: the phase-to-neutral voltages behind its equivalent as solved,
      * V (the tap changer's output; the source bus's own voltages without an

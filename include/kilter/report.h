@@ -60,6 +60,8 @@ typedef struct {
                                      NULL: the page then shows what the phases alone give */
     const struct kl_rebalance_plan *plan; /* suggested phase moves (rebalance.h), or NULL */
     const struct kl_rephaser *rephaser;   /* the plan's items (their names); with plan */
+    const struct kl_flow_result *flow;    /* the load flow the phases come from, or NULL: its
+                                             regulators' taps and control are then not shown */
     kl_report_options opt;
     kl_progress *progress;       /* may be NULL */
 } kl_report_input;

@@ -165,6 +165,8 @@ typedef struct {
 } kl_flow_rows;
 extern const kl_table kl_table_flow_buses;    /* a line per bus and phase */
 extern const kl_table kl_table_flow_sections; /* a line per section and phase */
+extern const kl_table kl_table_flow_regulators; /* a line per regulator and unit */
+extern const kl_table kl_table_flow_regulator_units; /* HTML: a row per regulator unit */
 
 /* ---- the unbalance study's tables (table_study.c); docs/study.md */
 typedef struct {

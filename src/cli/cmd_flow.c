@@ -18,7 +18,7 @@ static const char PH[3] = {'a', 'b', 'c'};
 enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
-    {"table", 1, "buses|sections", "which table to print (default buses; JSON holds both)"},
+    {"table", 1, "buses|sections|regulators", "which table to print (default buses; JSON holds all)"},
     {"solver", 1, "sweep|nodal", "backward/forward sweep (default) or the nodal solver"},
     KL_CLI_EARTH_RETURN_OPT,
     {"load-scale", 1, "X", "multiply every load by X (default 1)"},
@@ -31,7 +31,13 @@ typedef struct {
     kl_flow_rows rows;  /* the tables' row record: f and r again */
 } view;
 
-static void table_totals(FILE *o, const view *w)
+/* The table --table names: 0 buses, 1 sections, 2 regulators. */
+static const kl_table *flow_table(int which)
+{
+    return which == 2 ? &kl_table_flow_regulators : which ? &kl_table_flow_sections : &kl_table_flow_buses;
+}
+
+static void table_totals(FILE *o, const view *w, int regulators)
 {
     const kl_flow_result *r = w->r;
     fprintf(o, "\n%-22s %10s %10s %10s %10s\n", "totals", "phase a", "phase b", "phase c", "total");
@@ -45,19 +51,9 @@ static void table_totals(FILE *o, const view *w)
         }
         fprintf(o, "%-22s %10.3f %10.3f %10.3f %10.3f\n", lbl[k], v[0], v[1], v[2], t);
     }
-    for (int g = 0; g < w->f->nregulators; g++) {
-        const kl_regulator *rg = &w->f->regulators[g];
-        if (rg->conn != KL_REG_OPEN_DELTA) {
-            fprintf(o, "regulator %-12s taps a %d, b %d, c %d\n", rg->name, r->tap[3 * g],
-                    r->tap[3 * g + 1], r->tap[3 * g + 2]);
-            continue;
-        }
-        fprintf(o, "regulator %-12s taps", rg->name);
-        for (int p = 0, n = 0; p < 3; p++)
-            if (rg->phases & (1 << p))
-                fprintf(o, "%s %s %d", n++ ? "," : "", kl_regulator_unit_name(rg, p),
-                        r->tap[3 * g + p]);
+    if (w->f->nregulators && regulators) {
         fputc('\n', o);
+        kl_table_text(o, &kl_table_flow_regulators, &w->rows);
     }
 }
 
@@ -68,8 +64,8 @@ static void print_table(FILE *o, const view *w, int sections)
             w->r->reg_rounds, w->r->mismatch_pu);
     fprintf(o, "caution: planning estimates from the feeder model as given; check against "
             "measurements before acting on them.\n\n");
-    kl_table_text(o, sections ? &kl_table_flow_sections : &kl_table_flow_buses, &w->rows);
-    table_totals(o, w);
+    kl_table_text(o, flow_table(sections), &w->rows);
+    table_totals(o, w, sections != 2);
 }
 
 static void json_elements(FILE *o, const view *w)
@@ -100,24 +96,9 @@ static void json_elements(FILE *o, const view *w)
                 w->r->q_cap[3 * c] / 1e3, w->r->q_cap[3 * c + 1] / 1e3, w->r->q_cap[3 * c + 2] / 1e3,
                 c + 1 < w->f->ncapacitors ? "," : "");
     }
-    fprintf(o, "  ],\n  \"regulators\": [\n");
-    for (int g = 0; g < w->f->nregulators; g++) {
-        fprintf(o, "    {\"name\": ");
-        kl_cli_json_str(o, w->f->regulators[g].name);
-        const kl_regulator *rg = &w->f->regulators[g];
-        if (rg->conn == KL_REG_OPEN_DELTA) { /* keyed by unit: {"ab": 7, "cb": 4} */
-            fprintf(o, ", \"taps\": {");
-            for (int p = 0, n = 0; p < 3; p++)
-                if (rg->phases & (1 << p))
-                    fprintf(o, "%s\"%s\": %d", n++ ? ", " : "", kl_regulator_unit_name(rg, p),
-                            w->r->tap[3 * g + p]);
-            fprintf(o, "}}%s\n", g + 1 < w->f->nregulators ? "," : "");
-            continue;
-        }
-        fprintf(o, ", \"taps\": {\"a\": %d, \"b\": %d, \"c\": %d}}%s\n", w->r->tap[3 * g],
-                w->r->tap[3 * g + 1], w->r->tap[3 * g + 2], g + 1 < w->f->nregulators ? "," : "");
-    }
     fprintf(o, "  ],\n");
+    kl_table_json(o, &kl_table_flow_regulators, &w->rows);
+    fputs(",\n", o);
 }
 
 static void json_triple(FILE *o, const char *key, const kl_complex x[3], int comma)
@@ -156,11 +137,11 @@ static int read_options(const kl_cli_args *a, kl_flow_options *o, kl_carson_form
     kl_flow_options_default(o);
     *sections = 0;
     const char *t = a->val[OPT_TABLE], *s = a->val[OPT_SOLVER], *c = a->val[OPT_EARTH_RETURN];
-    if (t && strcmp(t, "buses") && strcmp(t, "sections")) {
-        kl_cli_error("flow: unknown table '%s': expected buses or sections", t);
+    if (t && strcmp(t, "buses") && strcmp(t, "sections") && strcmp(t, "regulators")) {
+        kl_cli_error("flow: unknown table '%s': expected buses, sections or regulators", t);
         return KL_EXIT_USAGE;
     }
-    *sections = t && strcmp(t, "sections") == 0;
+    *sections = !t ? 0 : strcmp(t, "sections") == 0 ? 1 : strcmp(t, "regulators") == 0 ? 2 : 0;
     if (s && strcmp(s, "sweep") && strcmp(s, "nodal")) {
         kl_cli_error("flow: unknown solver '%s': expected sweep or nodal", s);
         return KL_EXIT_USAGE;
@@ -189,7 +170,7 @@ static int emit(const kl_cli_args *a, const view *w, int sections)
     if (a->format == KL_FMT_JSON)
         print_json(out.f, w);
     else if (a->format == KL_FMT_CSV)
-        kl_table_csv(out.f, sections ? &kl_table_flow_sections : &kl_table_flow_buses, &w->rows);
+        kl_table_csv(out.f, flow_table(sections), &w->rows);
     else
         print_table(out.f, w, sections);
     return kl_cli_out_close(&out);

@@ -31,7 +31,7 @@ static const kl_cli_opt opts[NOPTS] = {
     { "neutral-share", 1, "PCT", "flag neutral current above this % of ampacity (default 100)" },
     { "neutral-margin", 1, "PCT", "neutral sizing margin over the worst current (default 25)" },
     { "contributors", 1, "N", "contributors listed per bus (default 10)" },
-    { "table", 1, "NAME", "CSV table: buses, sections, neutrals, runs or contributors" },
+    { "table", 1, "NAME", "CSV table: buses, sections, neutrals, runs, contributors or regulators" },
     { "html", 1, "FILE", "also write the HTML report to FILE" },
     { "load-scale", 1, "X", "multiply every load by X (default 1)" },
     { "map", 1, "vuf|neutral|voltage|loading", "what colours the HTML report's feeder map (default vuf)" },
@@ -85,16 +85,18 @@ static int read_triple(const char *s, const char *opt, double v[3])
 
 static int read_table(const char *t, kl_study_table *out)
 {
-    static const char *const names[] = { "buses", "sections", "neutrals", "runs", "contributors" };
+    static const char *const names[] = { "buses", "sections", "neutrals", "runs", "contributors",
+                                         "regulators" };
     *out = KL_TAB_BUSES;
     if (!t)
         return 0;
-    for (int k = 0; k < 5; k++)
+    for (int k = 0; k < 6; k++)
         if (strcmp(t, names[k]) == 0) {
             *out = (kl_study_table)k;
             return 0;
         }
-    kl_cli_error("study: unknown table '%s': expected buses, sections, neutrals, runs or contributors", t);
+    kl_cli_error("study: unknown table '%s': expected buses, sections, neutrals, runs, contributors "
+                 "or regulators", t);
     return KL_EXIT_USAGE;
 }
 
@@ -216,6 +218,7 @@ static int write_html(const char *path, const kl_feeder *f, const kl_flow_result
     in.ph.i = res->i;
     in.ph.i_neutral = res->i_neutral;
     in.study = s; /* the tables then show the study's own figures, as its CSV */
+    in.flow = res;
     kl_cli_progress_init(&prog);
     in.progress = &prog;
     kl_report_options_default(&in.opt);
@@ -311,7 +314,7 @@ int kl_cmd_study(int argc, char **argv)
         kl_cli_error("study: out of memory");
     rc = kl_cli_exit_code(st);
     if (!st) {
-        kl_study_print p = { q.f, q.s, &q.view.ph, &x.so, q.res->total_iterations, x.range_b,
+        kl_study_print p = { q.f, q.s, q.res, &q.view.ph, &x.so, q.res->total_iterations, x.range_b,
                              x.ci.bus >= 0 ? &cr : NULL, x.ci.bus >= 0 ? &x.ci : NULL };
         rc = emit(&a, &p, &x);
         if (!rc && a.val[OPT_HTML])

@@ -294,6 +294,16 @@ static void print_sections(FILE *o, const kl_study_print *p)
     kl_table_text(o, &kl_table_study_runs, &rows);
 }
 
+/* The regulators' taps and control; a unit held at a limit says so. */
+static void print_regulators(FILE *o, const kl_study_print *p)
+{
+    kl_flow_rows flow = {p->f, p->flow};
+    if (!p->f->nregulators)
+        return;
+    fprintf(o, "\nRegulators (relay voltages on the 120 V base)\n");
+    kl_table_text(o, &kl_table_flow_regulators, &flow);
+}
+
 void kl_study_print_table(FILE *o, const kl_study_print *p)
 {
     fprintf(o, "Unbalance study of %s (%s)\nLoad flow converged in %d iterations.\n\n",
@@ -303,6 +313,7 @@ void kl_study_print_table(FILE *o, const kl_study_print *p)
     print_contributors(o, p);
     print_buses(o, p);
     print_sections(o, p);
+    print_regulators(o, p);
     fprintf(o, "\nCaution: %s.\n", KL_STUDY_CAUTION);
 }
 
@@ -406,7 +417,11 @@ void kl_study_print_csv(FILE *o, const kl_study_print *p, kl_study_table t)
         [KL_TAB_CONTRIB] = &kl_table_study_contributors,
     };
     kl_study_rows rows = rows_of(p);
-    kl_table_csv(o, table[(unsigned)t <= KL_TAB_CONTRIB ? t : KL_TAB_BUSES], &rows);
+    kl_flow_rows flow = {p->f, p->flow};
+    if (t == KL_TAB_REGULATORS)
+        kl_table_csv(o, &kl_table_flow_regulators, &flow);
+    else
+        kl_table_csv(o, table[(unsigned)t <= KL_TAB_CONTRIB ? t : KL_TAB_BUSES], &rows);
 }
 
 /* ---- JSON (contract in docs/study.md) */
@@ -492,6 +507,7 @@ static void json_complaint(FILE *o, const kl_study_print *p)
 void kl_study_print_json(FILE *o, const kl_study_print *p)
 {
     kl_study_rows rows = rows_of(p);
+    kl_flow_rows flow = {p->f, p->flow};
     fputs("{\n  ", o);
     json_name_or_null(o, "feeder", p->f->name, 0);
     fprintf(o, ",\n  \"flow\": {\"converged\": true, \"iterations\": %d},\n", p->iterations);
@@ -504,6 +520,8 @@ void kl_study_print_json(FILE *o, const kl_study_print *p)
     kl_table_json(o, &kl_table_study_runs, &rows);
     fputs(",\n", o);
     kl_table_json(o, &kl_table_study_contributors, &rows);
+    fputs(",\n", o);
+    kl_table_json(o, &kl_table_flow_regulators, &flow);
     fputs(",\n", o);
     fprintf(o, "  \"caution\": \"%s\"\n}\n", KL_STUDY_CAUTION);
 }

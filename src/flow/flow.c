@@ -22,7 +22,8 @@ void kl_flow_result_free(kl_flow_result *r)
     if (!r)
         return;
     void *p[] = {r->v, r->v_base_ln, r->phases, r->i, r->i_recv, r->i_neutral, r->i_earth,
-                 r->s_in, r->s_loss, r->sec_solved, r->s_load, r->q_cap, r->tap};
+                 r->s_in, r->s_loss, r->sec_solved, r->s_load, r->q_cap, r->tap,
+                 r->reg_relay_v, r->reg_limit};
     for (size_t k = 0; k < sizeof p / sizeof p[0]; k++)
         kl_free(p[k]);
     kl_free(r);
@@ -56,9 +57,11 @@ kl_status kl_flow_result_alloc(const kl_network *net, kl_flow_result **out, kl_e
     r->s_load = kl_calloc(3 * (size_t)f->nloads, sizeof(kl_complex));
     r->q_cap = kl_calloc(3 * (size_t)f->ncapacitors, sizeof(double));
     r->tap = kl_calloc(3 * (size_t)f->nregulators, sizeof(int));
+    r->reg_relay_v = kl_calloc(3 * (size_t)f->nregulators, sizeof(double));
+    r->reg_limit = kl_calloc(3 * (size_t)f->nregulators, sizeof(int));
     if (!r->v || !r->v_base_ln || !r->phases || !r->i || !r->i_recv || !r->i_neutral ||
         !r->i_earth || !r->s_in || !r->s_loss || !r->sec_solved || !r->s_load || !r->q_cap ||
-        !r->tap) {
+        !r->tap || !r->reg_relay_v || !r->reg_limit) {
         kl_flow_result_free(r);
         if (err)
             kl_errors_add(err, NULL, 0, 0, "load flow", "out of memory for the results");
@@ -138,6 +141,8 @@ static void fill_results(const kl_network *n, const kl_flow_options *opt, kl_flo
     kl_load_powers(n, opt->load_scale, r);
     memcpy(r->tap, n->tap, 3 * (size_t)f->nregulators * sizeof r->tap[0]);
     memcpy(r->source_emf, n->v_emf, sizeof r->source_emf);
+    for (int g = 0; g < f->nregulators; g++)
+        kl_regulator_state(n, g, r->reg_relay_v + 3 * g, r->reg_limit + 3 * g);
     const kl_complex *vh = kl_network_bus_v(n, n->source), *jh = kl_network_bus_j(n, n->source);
     for (int p = 0; p < 3; p++)
         r->s_head[p] = vh[p] * conj(jh[p]);

@@ -39,6 +39,11 @@ void kl_regulator_matrices(const kl_regulator *r, const int tap[3], int phases,
 int kl_regulator_control(struct kl_network *net, int r);
 /* Relay (compensated) voltage of each unit on the 120 V base. */
 void kl_regulator_relay_voltage(const struct kl_network *net, int r, double vr[3]);
+/* After a solve: the relay voltage of each unit the control acts on (NAN for
+ * the others) and whether it is held at a limit with its set point not met
+ * (+1 at the raise limit, relay voltage below the band; -1 at the lower
+ * limit, above the band; 0 otherwise). */
+void kl_regulator_state(const struct kl_network *net, int r, double vr[3], int limit[3]);
 
 /* source.c: the voltages behind the source equivalent that hold the source
  * bus's positive sequence at its set value while the feeder draws j[3] from

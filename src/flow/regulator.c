@@ -134,10 +134,45 @@ void kl_regulator_relay_voltage(const kl_network *net, int r, double vr[3])
     }
 }
 
-int kl_regulator_control(kl_network *net, int r)
+/* The units of regulator r its control acts on: automatic, monitored and
+ * energized (0 for a fixed regulator). */
+static int controlled_units(const kl_network *net, int r)
 {
     const kl_regulator *rg = &net->feeder->regulators[r];
     if (rg->mode != KL_REG_AUTO || net->reg_branch[r] < 0)
+        return 0;
+    int monitored = rg->monitored ? rg->monitored : rg->phases;
+    int energized = net->br_phases[net->reg_branch[r]];
+    if (rg->conn == KL_REG_CLOSED_DELTA) /* a closed-delta unit p needs phases p and p+1 */
+        energized &= (energized >> 1) | (energized << 2);
+    else if (rg->conn == KL_REG_OPEN_DELTA) /* an open-delta unit p needs p and the shared one */
+        energized = (energized & rg->shared) ? energized : 0;
+    return rg->phases & monitored & energized;
+}
+
+void kl_regulator_state(const kl_network *net, int r, double vr[3], int limit[3])
+{
+    const kl_regulator *rg = &net->feeder->regulators[r];
+    int units = controlled_units(net, r), lim = rg->steps > 0 ? rg->steps : 16;
+    double lo = rg->voltage_level_v - rg->bandwidth_v / 2.0;
+    double hi = rg->voltage_level_v + rg->bandwidth_v / 2.0;
+    double v[3] = {NAN, NAN, NAN};
+    if (units)
+        kl_regulator_relay_voltage(net, r, v);
+    for (int p = 0; p < 3; p++) {
+        int tap = net->tap[3 * r + p], on = units >> p & 1;
+        vr[p] = on ? v[p] : NAN;
+        /* a raising tap boosts the voltage (the control steps up when the
+         * relay voltage is below the band) */
+        limit[p] = !on ? 0 : tap >= lim && v[p] < lo ? 1 : tap <= -lim && v[p] > hi ? -1 : 0;
+    }
+}
+
+int kl_regulator_control(kl_network *net, int r)
+{
+    const kl_regulator *rg = &net->feeder->regulators[r];
+    int units = controlled_units(net, r);
+    if (!units)
         return 0;
     double vr[3];
     kl_regulator_relay_voltage(net, r, vr);
@@ -145,14 +180,8 @@ int kl_regulator_control(kl_network *net, int r)
     double lo = rg->voltage_level_v - rg->bandwidth_v / 2.0;
     double hi = rg->voltage_level_v + rg->bandwidth_v / 2.0;
     int lim = rg->steps > 0 ? rg->steps : 16, moved = 0;
-    int monitored = rg->monitored ? rg->monitored : rg->phases;
-    int energized = net->br_phases[net->reg_branch[r]];
-    if (rg->conn == KL_REG_CLOSED_DELTA) /* a closed-delta unit p needs phases p and p+1 */
-        energized &= (energized >> 1) | (energized << 2);
-    else if (rg->conn == KL_REG_OPEN_DELTA) /* an open-delta unit p needs p and the shared one */
-        energized = (energized & rg->shared) ? energized : 0;
     for (int p = 0; p < 3; p++) {
-        if (!(rg->phases & monitored & energized & (1 << p)))
+        if (!(units & (1 << p)))
             continue;
         int *t = &net->tap[3 * r + p], old = *t;
         /* out of band: the steps that bring the relay voltage nearest the voltage

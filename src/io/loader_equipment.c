@@ -153,7 +153,10 @@ void kl_ld_source(kl_loader *L, int map)
     s->kv_ll /= 1e3; /* the model keeps this one in kV, as its name says */
     kl_ld_real(L, &fl, SRC_FREQ, KL_Q_FREQUENCY, &s->freq_hz, 60, KL_F_POS);
     kl_ld_real(L, &fl, SRC_VPU, KL_Q_PER_UNIT, &s->v_pu, 1.0, KL_F_POS);
-    kl_ld_real(L, &fl, SRC_ANGLE, KL_Q_ANGLE, &s->angle_deg, 0, 0);
+    /* one turn at most: the source phases are then 120 degrees apart to the
+     * last digit, whatever the number of turns written */
+    if (kl_ld_real(L, &fl, SRC_ANGLE, KL_Q_ANGLE, &s->angle_deg, 0, 0) == 0)
+        s->angle_deg = fmod(s->angle_deg, 360.0);
     kl_ld_real(L, &fl, SRC_RELAY, KL_Q_CURRENT, &s->relay_pickup_a, 0, KL_F_POS);
     if (kl_ld_node(L, &fl, SRC_EQ, KL_YMAP, 0) >= 0) {
         double kv = s->kv_ll;

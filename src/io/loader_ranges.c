@@ -45,6 +45,10 @@ static const kl_range ranges[] = {
     /* the source set point: ANSI C84.1 Range B is 0.9 to 1.058 pu at service;
      * a substation bus is held near 1.0 to 1.05 pu */
     {"source", "regulated_voltage", KL_Q_PER_UNIT, 0, 0.5, 1.5, 0.9, 1.1, 1, "pu", "a source voltage"},
+    /* a phase angle: reduced to one turn by the loader; beyond ten turns it is
+     * no angle anyone meant (1e15 deg is not even a whole number of degrees
+     * apart from its neighbours in binary) */
+    {"source", "angle", KL_Q_ANGLE, R_ABS, 0, 3600, 0, 360, 1, "deg", "a source angle"},
     {"source", "ground_relay_pickup", KL_Q_CURRENT, 0, 0.1, 1e5, 1, 5000, 1, "A", "a relay pickup current"},
     {"source", "short_circuit", KL_Q_POWER, 0, 1e5, 1e12, 1e6, 1e11, 1e-6, "MVA", "a short-circuit power"},
     {"source", "x_over_r", KL_Q_NUMBER, 0, 0.01, 1000, 0.5, 100, 1, "", "an X/R ratio"},

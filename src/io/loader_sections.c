@@ -564,6 +564,25 @@ static void reg_control(kl_loader *L, kl_regulator *g, const kl_fields *fl, cons
                     g->rated_current_a);
 }
 
+/* The regulating range, steps x step each way: the ratio 1 + step x tap
+ * must stay well away from zero and from a reversal.  Step-voltage
+ * regulators are built for +-10 % in 16 steps of 5/8 % each way (ANSI/IEEE
+ * C57.15); beyond +-50 % (a ratio of 0.5 to 1.5) the numbers are a slip. */
+static void reg_range(kl_loader *L, const kl_regulator *g, const kl_fields *fl, int map)
+{
+    double span = g->steps * g->step_pu;
+    int at = fl->val[RG_STEP] >= 0 ? fl->val[RG_STEP] : fl->val[RG_STEPS] >= 0 ? fl->val[RG_STEPS] : map;
+    if (span > 0.5)
+        kl_ld_error(L, at, "%d steps of %.4g %% each way give a ratio from %.4g to %.4g: a "
+                    "regulator's range (steps x step) is at most 50 %% each way, usually 10 %% "
+                    "(16 steps of 0.625 %%); check 'steps' and 'step'", g->steps, 100 * g->step_pu,
+                    1 - span, 1 + span);
+    else if (span > 0.15)
+        kl_ld_warning(L, at, "%d steps of %.4g %% each way give a range of %.4g %%, usually 10 %% "
+                      "(16 steps of 0.625 %%): kilter uses it as given", g->steps, 100 * g->step_pu,
+                      100 * span);
+}
+
 void kl_ld_regulator(kl_loader *L, int map)
 {
     kl_feeder *f = L->f;
@@ -583,8 +602,11 @@ void kl_ld_regulator(kl_loader *L, int map)
     g->mode = (kl_reg_mode)(kl_ld_enum(L, &fl, RG_CONTROL, reg_controls, 1) + 1);
     reg_phases(L, g, &fl, map);
     reg_unit_keys(g, &u);
+    int before = L->nerr;
     kl_ld_int(L, &fl, RG_STEPS, &g->steps, 16, KL_F_POS);
     kl_ld_real(L, &fl, RG_STEP, KL_Q_SHARE, &g->step_pu, 0.00625, KL_F_POS);
+    if (L->nerr == before) /* each one read or left at its default */
+        reg_range(L, g, &fl, map);
     if (kl_ld_node(L, &fl, RG_TAPS, KL_YMAP, 0) >= 0)
         reg_taps(L, g, fl.val[RG_TAPS], &u);
     reg_control(L, g, &fl, &u);

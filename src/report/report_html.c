@@ -10,6 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include "kl_report.h"
+#include "kilter/table.h"
 #include "kilter/sequence.h"
 
 
@@ -324,6 +325,36 @@ static kl_status section_tables(FILE *out, const kl_report_input *in, kl_errors 
     return st;
 }
 
+/* Regulators: their taps, and any unit held at a limit with its set point
+ * not reached (the flow converged, but not to what the regulator is set for). */
+static kl_status section_regulators(FILE *out, const kl_report_input *in, kl_errors *err)
+{
+    kl_flow_rows rows = {in->feeder, in->flow};
+    kl_table_shown s;
+    int held = 0;
+    if (!in->flow || in->feeder->nregulators == 0)
+        return KL_OK;
+    kl_status st = kl_table_html_select(&kl_table_flow_regulator_units, &rows, 3 * in->feeder->nregulators,
+                                        &s, err);
+    if (st)
+        return st;
+    for (int k = 0; k < 3 * in->feeder->nregulators; k++)
+        held += in->flow->reg_limit[k] != 0;
+    fputs("<section id=\"regulators\">\n<h2>Regulators</h2>\n", out);
+    if (held)
+        fprintf(out, "<p class=\"note bad\">%d regulator unit%s held at a tap limit with the relay "
+                "voltage outside the band: the set point is not reached, and the voltages below "
+                "are what the regulator can give. Check the regulator's range, the set point and "
+                "the load.</p>\n", held, held > 1 ? "s are" : " is");
+    else
+        fputs("<p class=\"note\">Final taps; the relay voltage is the compensated voltage the "
+              "control sees, on the 120 V base.</p>\n", out);
+    kl_table_html(out, &kl_table_flow_regulator_units, &rows, "regulators", &s);
+    fputs("</section>\n", out);
+    kl_table_shown_free(&s);
+    return KL_OK;
+}
+
 static kl_status section_moves(FILE *out, const kl_report_input *in, kl_errors *err)
 {
     fputs("<section id=\"moves\">\n<h2>Suggested phase moves</h2>\n", out);
@@ -374,6 +405,8 @@ kl_status kl_report_html_write(FILE *out, const kl_report_input *in, kl_errors *
     kl_progress_step(in->progress, "writing the report", 4, 6);
     if (st == KL_OK)
         st = section_tables(out, in, err);
+    if (st == KL_OK)
+        st = section_regulators(out, in, err);
     kl_progress_step(in->progress, "writing the report", 5, 6);
     if (st == KL_OK)
         st = section_moves(out, in, err);

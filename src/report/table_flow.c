@@ -5,6 +5,7 @@
  * in kW and kvar (S = V I*, computed by the flow). */
 #include <complex.h>
 #include <math.h>
+#include <string.h>
 #include "kl_report.h"
 #include "kilter/table.h"
 #include "kilter/units.h"
@@ -334,4 +335,224 @@ const kl_table kl_table_flow_sections = {
     .col = sec_cols, .ncol = (int)(sizeof sec_cols / sizeof sec_cols[0]), .rows = sec_rows,
     .next_sub = sec_next, .sub_key = "phases", .sub_name = phase_name,
     .text_after = sec_text_after,
+};
+
+/* ---- regulators: a line per regulator and unit (phase).  An automatic unit
+ * held at its last tap with its relay voltage still outside the band has a
+ * set point it cannot reach: the status says which limit, the note after the
+ * row says what it means (the load flow has converged; the voltage below the
+ * regulator is what the regulator can give, not what it is set for). */
+
+static const kl_regulator *reg_of(const void *ctx, int g)
+{
+    return &ROWS(ctx)->feeder->regulators[g];
+}
+
+static int reg_rows(const void *ctx)
+{
+    return ROWS(ctx)->feeder->nregulators;
+}
+
+static int reg_next(const void *ctx, int g, int p)
+{
+    return next_phase(reg_of(ctx, g)->phases, p);
+}
+
+static void reg_name(const void *ctx, int g, int p, kl_cell *c)
+{
+    (void)p;
+    c->str = reg_of(ctx, g)->name;
+}
+
+static void reg_tap_of(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->i = ROWS(ctx)->flow->tap[3 * g + p];
+}
+
+static void reg_tap_a(const void *ctx, int g, int p, kl_cell *c)
+{
+    reg_tap_of(ctx, g, 0, c);
+}
+
+static void reg_tap_b(const void *ctx, int g, int p, kl_cell *c)
+{
+    reg_tap_of(ctx, g, 1, c);
+}
+
+static void reg_tap_c(const void *ctx, int g, int p, kl_cell *c)
+{
+    reg_tap_of(ctx, g, 2, c);
+}
+
+/* A unit's name: its phase letter, or an open-delta unit's phase pair ("ab"). */
+static void reg_unit(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->str = kl_regulator_unit_name(reg_of(ctx, g), p);
+}
+
+static const char *reg_unit_name(const void *ctx, int row, int sub, char buf[8])
+{
+    (void)buf;
+    return kl_regulator_unit_name(reg_of(ctx, row), sub);
+}
+
+static void reg_steps(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->i = reg_of(ctx, g)->steps;
+}
+
+static int reg_auto(const void *ctx, int g)
+{
+    return reg_of(ctx, g)->mode == KL_REG_AUTO;
+}
+
+static void reg_level(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->num = reg_auto(ctx, g) ? reg_of(ctx, g)->voltage_level_v : NAN;
+}
+
+static void reg_band(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->num = reg_auto(ctx, g) ? reg_of(ctx, g)->bandwidth_v : NAN;
+}
+
+static void reg_relay(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->num = ROWS(ctx)->flow->reg_relay_v[3 * g + p];
+}
+
+/* fixed, not-monitored, in-band, out-of-band, raise-limit, lower-limit */
+static const char *reg_status_of(const void *ctx, int g, int p)
+{
+    const kl_regulator *rg = reg_of(ctx, g);
+    const kl_flow_result *r = ROWS(ctx)->flow;
+    double v = r->reg_relay_v[3 * g + p];
+    if (rg->mode != KL_REG_AUTO)
+        return "fixed";
+    if (r->reg_limit[3 * g + p])
+        return r->reg_limit[3 * g + p] > 0 ? "raise-limit" : "lower-limit";
+    if (isnan(v))
+        return "not-monitored";
+    return fabs(v - rg->voltage_level_v) <= rg->bandwidth_v / 2 ? "in-band" : "out-of-band";
+}
+
+static void reg_status(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->str = reg_status_of(ctx, g, p);
+    c->cls = strstr(c->str, "limit") ? "bad" : NULL;
+}
+
+static void reg_met(const void *ctx, int g, int p, kl_cell *c)
+{
+    c->i = ROWS(ctx)->flow->reg_limit[3 * g + p] == 0;
+}
+
+/* Text: what a held unit means, and what to do about it. */
+static void reg_text_after(FILE *o, const void *ctx, int g)
+{
+    const kl_regulator *rg = reg_of(ctx, g);
+    const kl_flow_result *r = ROWS(ctx)->flow;
+    for (int p = 0; p < 3; p++) {
+        int lim = r->reg_limit[3 * g + p];
+        if (!lim)
+            continue;
+        fprintf(o, "  note: unit %s is held at its %s limit (tap %+d of %d) with a relay voltage of "
+                "%.1f V, %s the band %.1f-%.1f V: the set point %.1f V is not reached; the "
+                "voltages below it are what the regulator can give (check the regulator's "
+                "range, the set point and the load)\n", kl_regulator_unit_name(rg, p), lim > 0 ? "raise" : "lower",
+                r->tap[3 * g + p], rg->steps, r->reg_relay_v[3 * g + p], lim > 0 ? "below" : "above",
+                rg->voltage_level_v - rg->bandwidth_v / 2, rg->voltage_level_v + rg->bandwidth_v / 2,
+                rg->voltage_level_v);
+    }
+}
+
+static const kl_column reg_cols[] = {
+    {.key = "regulator", .help = "regulator name", .type = KL_CELL_STR, .get = reg_name,
+     .in = TCJ, .json_key = "name", .text_head = "regulator", .text = "%-16s",
+     .html_head = "regulator"},
+    /* JSON: the taps of all three positions, as before the units were listed (an
+     * open-delta bank's units by name under "units") */
+    {.key = "tap_a", .json_key = "taps.a", .type = KL_CELL_INT, .get = reg_tap_a, .in = KL_IN_JSON},
+    {.key = "tap_b", .json_key = "taps.b", .type = KL_CELL_INT, .get = reg_tap_b, .in = KL_IN_JSON},
+    {.key = "tap_c", .json_key = "taps.c", .type = KL_CELL_INT, .get = reg_tap_c, .in = KL_IN_JSON},
+    {.key = "unit", .help = "the unit: its phase (a closed-delta unit: from this phase to the "
+     "next), or an open-delta unit's phase pair, regulated phase first",
+     .type = KL_CELL_STR, .get = reg_unit, .in = TC, .sub = 1,
+     .text_head = "unit", .text = " %-5s", .html_head = "unit"},
+    {.key = "tap", .help = "the unit's final tap (positive raises)", .type = KL_CELL_INT,
+     .get = reg_tap_of, .in = TCJ, .sub = 1, .text_head = "tap", .text = " %5d",
+     .html_head = "tap"},
+    {.key = "steps", .help = "steps each way: the tap limit", .type = KL_CELL_INT, .get = reg_steps,
+     .in = TCJ, .sub = 1, .text_head = "limit", .text = " %5d", .html_head = "limit"},
+    {.key = "voltage_level_v", .unit = "V", .help = "the set point (120 V base); blank for a fixed regulator",
+     .type = KL_CELL_NUM, .get = reg_level, .in = TCJ, .sub = 1, .text_head = "set V",
+     .text = " %7.1f", .html_head = "set point V", .html = "%.1f"},
+    {.key = "bandwidth_v", .unit = "V", .help = "the bandwidth (120 V base); blank for a fixed regulator",
+     .type = KL_CELL_NUM, .get = reg_band, .in = TCJ, .sub = 1, .text_head = "band V",
+     .text = " %7.1f", .html_head = "band V", .html = "%.1f"},
+    {.key = "relay_v", .unit = "V", .help = "the relay (compensated) voltage the control sees, "
+     "120 V base; blank for a unit no automatic control acts on", .type = KL_CELL_NUM,
+     .get = reg_relay, .in = TCJ, .sub = 1, .text_head = "relay V", .text = " %8.2f",
+     .html_head = "relay V", .html = "%.2f"},
+    {.key = "set_point_met", .help = "false when the unit is held at a tap limit with its relay "
+     "voltage outside the band", .type = KL_CELL_BOOL, .get = reg_met, .in = CJ, .sub = 1},
+    {.key = "status", .help = "fixed, not-monitored, in-band, out-of-band, raise-limit or "
+     "lower-limit (held at that limit, the set point not reached)", .type = KL_CELL_STR,
+     .get = reg_status, .in = TCJ, .sub = 1, .text_head = "status", .text = "  %s",
+     .html_head = "status"},
+};
+
+const kl_table kl_table_flow_regulators = {
+    .name = "regulators", .help = "regulator taps and control, a line per regulator and unit",
+    .col = reg_cols, .ncol = (int)(sizeof reg_cols / sizeof reg_cols[0]), .rows = reg_rows,
+    .next_sub = reg_next, .sub_key = "units", .sub_name = reg_unit_name,
+    .text_after = reg_text_after,
+};
+
+/* HTML: a row per unit (row 3 g + p: regulator g, phase p), the writer of
+ * the report having no sub-rows; the figures from the getters above. */
+#define UNIT(get) \
+    static void unit_##get(const void *ctx, int row, int sub, kl_cell *c) \
+    { \
+        (void)sub; \
+        get(ctx, row / 3, row % 3, c); \
+    }
+UNIT(reg_name)
+UNIT(reg_unit)
+UNIT(reg_tap_of)
+UNIT(reg_steps)
+UNIT(reg_level)
+UNIT(reg_band)
+UNIT(reg_relay)
+UNIT(reg_status)
+
+static int unit_rows(const void *ctx)
+{
+    return 3 * ROWS(ctx)->feeder->nregulators;
+}
+
+static int unit_keep(const void *ctx, int row, kl_table_format fmt)
+{
+    (void)fmt;
+    return reg_of(ctx, row / 3)->phases >> (row % 3) & 1;
+}
+
+#define H KL_IN_HTML
+static const kl_column unit_cols[] = {
+    {.key = "regulator", .type = KL_CELL_STR, .get = unit_reg_name, .in = H, .html_head = "regulator"},
+    {.key = "unit", .type = KL_CELL_STR, .get = unit_reg_unit, .in = H, .html_head = "unit"},
+    {.key = "tap", .type = KL_CELL_INT, .get = unit_reg_tap_of, .in = H, .html_head = "tap"},
+    {.key = "steps", .type = KL_CELL_INT, .get = unit_reg_steps, .in = H, .html_head = "limit"},
+    {.key = "voltage_level_v", .unit = "V", .type = KL_CELL_NUM, .get = unit_reg_level, .in = H,
+     .html_head = "set point V", .html = "%.1f"},
+    {.key = "bandwidth_v", .unit = "V", .type = KL_CELL_NUM, .get = unit_reg_band, .in = H,
+     .html_head = "band V", .html = "%.1f"},
+    {.key = "relay_v", .unit = "V", .type = KL_CELL_NUM, .get = unit_reg_relay, .in = H,
+     .html_head = "relay V", .html = "%.2f"},
+    {.key = "status", .type = KL_CELL_STR, .get = unit_reg_status, .in = H, .html_head = "status"},
+};
+
+const kl_table kl_table_flow_regulator_units = {
+    .name = "regulators", .help = "regulator taps and control, a row per unit", .col = unit_cols,
+    .ncol = (int)(sizeof unit_cols / sizeof unit_cols[0]), .rows = unit_rows, .keep = unit_keep,
 };
