@@ -74,6 +74,18 @@ done
 "$kilter" check "$tmp/dead-end.yaml" 2>/dev/null | grep -Eq "^  load kW +10\.0 " \
   || fail "check counts the de-energized load as connected"
 
+# Issue 14, defect 6: no control byte from a feeder file or an argument reaches the terminal raw;
+# a name holding one is refused where it is written (ECMA-48 5.2: ESC and CSI act on the screen).
+printf 'kilter-feeder: 1\nsource: {bus: sub, nominal_voltage: 12.47 kV}\nsections:\n  - {name: "s\\e[2J1", from: sub, to: b1, switch: closed}\n' \
+  >"$tmp/escape.yaml"
+"$kilter" check "$tmp/escape.yaml" >"$tmp/out" 2>"$tmp/err"
+[ $? -eq 2 ] || fail "a name holding ESC: expected exit 2"
+grep -q "escape.yaml:4:12: section #1: 'name' holds a control character (byte 0x1B at byte 2" "$tmp/err" ||
+  { cat -v "$tmp/err"; fail "a name holding ESC: no located message"; }
+"$kilter" flow --table "$(printf 'x\033[2Jy')" 2>"$tmp/err2"
+grep -q 'x\\x1B\[2Jy' "$tmp/err2" || { cat -v "$tmp/err2"; fail "an argument's ESC not escaped"; }
+if LC_ALL=C grep -q "$(printf '\033')" "$tmp/err" "$tmp/err2"; then fail "a raw ESC reached standard error"; fi
+
 "$kilter" check "$tmp/none.yaml" 2>"$tmp/err"
 [ $? -eq 4 ] || fail "missing file: expected exit 4"
 

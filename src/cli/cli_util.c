@@ -11,14 +11,23 @@
 #include "kilter/output.h"
 #include "kilter/table.h"
 
+/* The message goes through the library's error record, which writes any
+ * control byte of it (a file name or an argument quoted back) as an escape:
+ * nothing printed here can act on the terminal. */
 void kl_cli_error(const char *fmt, ...)
 {
+    char msg[sizeof ((kl_error_item *)0)->message];
+    kl_errors e;
     va_list ap;
-    fputs("kilter: ", stderr);
     va_start(ap, fmt);
-    vfprintf(stderr, fmt, ap);
+    vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
-    fputc('\n', stderr);
+    kl_errors_init(&e);
+    if (kl_errors_add(&e, NULL, 0, 0, NULL, "%s", msg) == KL_OK && e.count == 1)
+        fprintf(stderr, "kilter: %s\n", e.items[0].message);
+    else
+        fputs("kilter: out of memory while reporting an error\n", stderr);
+    kl_errors_free(&e);
 }
 
 static void help(const char *cmd, const char *summary, const kl_cli_opt *opts, int nopts)
