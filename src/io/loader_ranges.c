@@ -37,12 +37,12 @@ typedef struct {
 /* Most specific rows first: the first row that matches is used. */
 static const kl_range ranges[] = {
     /* source: nominal voltage, LV networks (0.208 kV) to the highest AC
-     * transmission voltages in service (1100 kV, IEC 60038 Table 5); a
+     * transmission voltages in service (1100 kV, IEC 60038, from memory); a
      * distribution feeder is usually 0.2 to 69 kV */
     {"source", "nominal_voltage", KL_Q_VOLTAGE, 0, 50, 1.2e6, 200, 69e3, 1e-3, "kV", "a nominal voltage"},
     /* 50 and 60 Hz; 16.7 and 25 Hz (railways), 400 Hz (aircraft, ships) are real */
     {"source", "frequency", KL_Q_FREQUENCY, 0, 10, 1000, 45, 65, 1, "Hz", "a system frequency"},
-    /* the source set point: ANSI C84.1 Range B is 0.9 to 1.058 pu at service;
+    /* the source set point: ANSI C84.1 Range B is 0.9 to 1.058 pu at service (from memory);
      * a substation bus is held near 1.0 to 1.05 pu */
     {"source", "regulated_voltage", KL_Q_PER_UNIT, 0, 0.5, 1.5, 0.9, 1.1, 1, "pu", "a source voltage"},
     /* a phase angle: reduced to one turn by the loader; beyond ten turns it is
@@ -99,7 +99,8 @@ static const kl_range ranges[] = {
     {"transformer", "reactance", KL_Q_SHARE, 0, 1e-4, 1, 5e-3, 0.25, 100, "%", "a transformer reactance"},
     {"transformer", "no_load_loss", KL_Q_SHARE, 0, 0, 0.1, 0, 0.02, 100, "%", "a no-load loss"},
     /* step-voltage regulators: 32 steps of 5/8 % for +-10 % (ANSI/IEEE
-     * C57.15); the relay is on a 120 V base */
+     * C57.15, from memory; the 0.625 % step is the IEEE 13-node data
+     * sheet's); the relay is on a 120 V base */
     {"regulator", "steps", KL_Q_NUMBER, 0, 1, 64, 4, 32, 1, "", "a number of regulator steps"},
     {"regulator", "step", KL_Q_SHARE, 0, 1e-4, 0.05, 3e-3, 0.0125, 100, "%", "a regulator step"},
     {"regulator", "voltage_level", KL_Q_VOLTAGE, 0, 60, 180, 110, 135, 1, "V", "a regulator voltage level"},

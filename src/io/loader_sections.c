@@ -567,7 +567,7 @@ static void reg_control(kl_loader *L, kl_regulator *g, const kl_fields *fl, cons
 /* The regulating range, steps x step each way: the ratio 1 + step x tap
  * must stay well away from zero and from a reversal.  Step-voltage
  * regulators are built for +-10 % in 16 steps of 5/8 % each way (ANSI/IEEE
- * C57.15); beyond +-50 % (a ratio of 0.5 to 1.5) the numbers are a slip. */
+ * C57.15, from memory); beyond +-50 % (a ratio of 0.5 to 1.5) the numbers are a slip. */
 static void reg_range(kl_loader *L, const kl_regulator *g, const kl_fields *fl, int map)
 {
     double span = g->steps * g->step_pu;
