@@ -129,7 +129,7 @@ ls "$tmp" | grep -q "\.tmp\." && fail "temporary file left"
 # exit 2.  Both name the section, its position and both voltages.
 sed 's/nominal_voltage: 12.47 kV/nominal_voltage: 13.2 kV/' "$src/feeders/reference/ieee-4-node-gry-gry-balanced.yaml" >"$tmp/fit.yaml"
 "$kilter" flow "$tmp/fit.yaml" >"$tmp/out" 2>"$tmp/err" || fail "13.2 kV feeder: exit $?"
-grep -q "^kilter: warning: $tmp/fit.yaml:[0-9]*:5: section \"bank\": .*rated 12.47 kV.*nominal 13.2 kV" "$tmp/err" \
+grep -q "^kilter: $tmp/fit.yaml:[0-9]*:5: warning: section \"bank\": .*rated 12.47 kV.*nominal 13.2 kV" "$tmp/err" \
   || { cat "$tmp/err"; fail "no warning of a rating 5.5 % off"; }
 sed 's/nominal_voltage: 12.47 kV/nominal_voltage: 24.94 kV/' "$src/feeders/reference/ieee-4-node-gry-gry-balanced.yaml" >"$tmp/fit.yaml"
 "$kilter" check "$tmp/fit.yaml" >"$tmp/out" 2>"$tmp/err"

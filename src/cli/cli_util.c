@@ -331,14 +331,13 @@ int kl_cli_load(const kl_cli_args *a, kl_feeder **f)
     if (s == KL_ENOMEM && e.count == 0)
         kl_cli_error("%s: out of memory while reading the feeder", a->feeder);
     if (s == KL_OK) {
-        /* ratings off by more than a tap range: a warning, the solve goes on */
-        char line[1400];
+        /* ratings off by more than a tap range: a warning, the solve goes on
+         * (printed as the loader's warnings are, "file:line:col: warning: ...") */
         kl_errors_clear(&e);
         kl_feeder_ratings_check(*f, KL_RATING_WARN_TOL, &e);
-        for (int i = 0; i < e.count; i++) {
-            kl_error_format(&e.items[i], line, sizeof line);
-            fprintf(stderr, "kilter: warning: %s\n", line);
-        }
+        for (int i = 0; i < e.count; i++)
+            e.items[i].warning = 1;
+        kl_cli_print_errors(&e);
     }
     kl_errors_free(&e);
     return kl_cli_exit_code(s);

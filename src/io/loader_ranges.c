@@ -111,6 +111,7 @@ static const kl_range ranges[] = {
     /* loads and capacitors, per phase: a house some kVA, a large plant tens of MVA */
     {"load", NULL, KL_Q_POWER, R_ABS, 0, 1e9, 0, 5e7, 1e-3, "kVA", "a load per phase"},
     {"load", "move_cost", KL_Q_NUMBER, 0, 0, 1e9, 0, 1e9, 1, "", "a move cost"},
+    {"capacitor", "rated_voltage", KL_Q_VOLTAGE, 0, 50, 1.2e6, 100, 230e3, 1e-3, "kV", "a rated voltage"},
     {"capacitor", NULL, KL_Q_POWER, R_ABS, 0, 1e8, 0, 1e7, 1e-3, "kvar", "a capacitor per phase"},
 };
 #define NRANGES ((int)(sizeof ranges / sizeof ranges[0]))
