@@ -614,6 +614,61 @@ END_TEST
 
 /* Fail each allocation in turn: the loader must report KL_ENOMEM and free
  * everything (the sanitizer build checks for leaks). */
+/* Issue 14, defect 3, for every quantity at once: each value with a unit in
+ * tests/data/good-small.yaml (every element kind), replaced in turn by 1e30
+ * in its own unit, must be refused at its own line and column (every
+ * physical quantity the loader reads has a range; the file is the loader's
+ * round-trip fixture, which holds one of each key). */
+START_TEST(every_quantity_has_a_range)
+{
+    FILE *f = fopen(DATA "good-small.yaml", "rb");
+    char *text, *buf;
+    long size, p;
+    int cases = 0;
+    ck_assert_ptr_nonnull(f);
+    fseek(f, 0, SEEK_END);
+    size = ftell(f);
+    rewind(f);
+    text = malloc((size_t)size + 1);
+    buf = malloc((size_t)size + 64);
+    ck_assert_ptr_nonnull(text);
+    ck_assert_ptr_nonnull(buf);
+    ck_assert_int_eq((long)fread(text, 1, (size_t)size, f), size);
+    text[size] = '\0';
+    fclose(f);
+    for (p = 1; p < size; p++) {
+        long e = p, start, line = 1, col = 1, k, i;
+        int found = 0;
+        if (!(text[p] >= '0' && text[p] <= '9') || !(text[p - 1] == ' ' || (text[p - 1] == '-' && text[p - 2] == ' ')))
+            continue;
+        while (e < size && ((text[e] >= '0' && text[e] <= '9') || text[e] == '.'))
+            e++;
+        /* a value with a unit ("28 ft", "2 %") or the real part of a complex one ("160 + j110 kVA") */
+        if (!(text[e] == ' ' && ((text[e + 1] >= 'a' && text[e + 1] <= 'z') || (text[e + 1] >= 'A' && text[e + 1] <= 'Z') ||
+                                 text[e + 1] == '%' || ((text[e + 1] == '+' || text[e + 1] == '-') && text[e + 3] == 'j'))))
+            continue;
+        start = text[p - 1] == '-' ? p - 1 : p;
+        for (k = 0; k < start; k++) {
+            col = text[k] == '\n' ? 1 : col + 1;
+            line += text[k] == '\n';
+        }
+        memcpy(buf, text, (size_t)p);
+        memcpy(buf + p, "1e30", 4);
+        memcpy(buf + p + 4, text + e, (size_t)(size - e) + 1);
+        ck_assert_int_eq(load_text(buf), KL_EINPUT);
+        for (i = 0; i < err.count && !found; i++)
+            found = !err.items[i].warning && err.items[i].line == line && err.items[i].col == col;
+        if (!found)
+            dump();
+        ck_assert_msg(found, "1e30 for the value at %ld:%ld ('%.20s') not refused there", line, col, text + start);
+        cases++;
+    }
+    ck_assert_int_ge(cases, 60);
+    free(text);
+    free(buf);
+}
+END_TEST
+
 START_TEST(allocation_failures)
 {
     char *text;
@@ -680,6 +735,7 @@ int main(void)
     tcase_add_test(tc, all_errors_reported);
     tcase_add_test(rt, round_trip_small);
     tcase_add_test(rt, round_trip_demo);
+    tcase_add_test(rt, every_quantity_has_a_range);
     tcase_add_test(rt, allocation_failures);
     tcase_set_timeout(rt, 300);
     suite_add_tcase(s, tc);

@@ -110,6 +110,8 @@ static const kl_range ranges[] = {
     {"regulator", NULL, KL_Q_VOLTAGE, R_ABS, 0, 120, 0, 24, 1, "V", "a compensator setting"},
     /* loads and capacitors, per phase: a house some kVA, a large plant tens of MVA */
     {"load", NULL, KL_Q_POWER, R_ABS, 0, 1e9, 0, 5e7, 1e-3, "kVA", "a load per phase"},
+    /* shares of a load: the zip fractions and the third harmonic, 0 to 100 % */
+    {"load", NULL, KL_Q_SHARE, 0, 0, 1, 0, 1, 100, "%", "a share of the load"},
     {"load", "move_cost", KL_Q_NUMBER, 0, 0, 1e9, 0, 1e9, 1, "", "a move cost"},
     {"capacitor", "rated_voltage", KL_Q_VOLTAGE, 0, 50, 1.2e6, 100, 230e3, 1e-3, "kV", "a rated voltage"},
     {"capacitor", NULL, KL_Q_POWER, R_ABS, 0, 1e8, 0, 1e7, 1e-3, "kvar", "a capacitor per phase"},
