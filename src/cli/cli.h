@@ -77,6 +77,10 @@ int kl_cli_exit_code(kl_status s);
 const char *kl_cli_demo_path(void);
 /* Loads a->feeder, printing the errors; 0 or an exit code. */
 int kl_cli_load(const kl_cli_args *a, kl_feeder **f);
+struct kl_flow_result;
+/* A warning on stderr for each regulator held at a tap limit with its set
+ * point not reached (cli_regulators.c). */
+void kl_cli_regulator_warnings(const kl_feeder *f, const struct kl_flow_result *r);
 
 /* The form of Carson's earth-return terms named by --earth-return (NULL: the
  * default, the complete series).  0, or 64 after printing the accepted values.

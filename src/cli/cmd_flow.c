@@ -208,6 +208,7 @@ int kl_cmd_flow(int argc, char **argv)
     rc = kl_cli_exit_code(st);
     if (!st) {
         view w = {f, res, o.solver == KL_SOLVER_NODAL ? "nodal" : "sweep", {f, res}};
+        kl_cli_regulator_warnings(f, res);
         rc = emit(&a, &w, sections);
     } else if (st == KL_ENOMEM && e.count == 0) {
         kl_cli_error("flow: out of memory");

@@ -316,6 +316,7 @@ int kl_cmd_study(int argc, char **argv)
     if (!st) {
         kl_study_print p = { q.f, q.s, q.res, &q.view.ph, &x.so, q.res->total_iterations, x.range_b,
                              x.ci.bus >= 0 ? &cr : NULL, x.ci.bus >= 0 ? &x.ci : NULL };
+        kl_cli_regulator_warnings(q.f, q.res);
         rc = emit(&a, &p, &x);
         if (!rc && a.val[OPT_HTML])
             rc = write_html(a.val[OPT_HTML], q.f, q.res, q.s, &x);
