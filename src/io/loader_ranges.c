@@ -62,7 +62,7 @@ static const kl_range ranges[] = {
     /* a solid conductor's GMR is 0.7788 r (Kersting, eq. 4.14, from memory) */
     {"conductor", "gmr", KL_Q_LENGTH, 0, 1e-5, 1, 1e-4, 0.1, 1e3, "mm", "a conductor GMR"},
     {"conductor", "diameter", KL_Q_LENGTH, 0, 1e-4, 0.5, 1e-3, 0.1, 1e3, "mm", "a conductor diameter"},
-    {"conductor", "ampacity", KL_Q_CURRENT, 0, 0.1, 1e5, 1, 5000, 1, "A", "an ampacity"},
+    {"conductor", NULL, KL_Q_CURRENT, 0, 0.1, 1e5, 1, 5000, 1, "A", "an ampacity"}, /* and emergency */
     {"conductor", "area", KL_Q_AREA, 0, 1e-9, 1e-2, 1e-7, 3e-3, 1e6, "mm2", "a conductor area"},
     /* cables: concentric-neutral cables have some 6 to 40 strands */
     {"cable", "strands", KL_Q_NUMBER, 0, 1, 1000, 1, 200, 1, "", "a number of neutral strands"},
@@ -72,7 +72,7 @@ static const kl_range ranges[] = {
      "a tape resistivity"},
     /* XLPE 2.3, EPR 3, paper 3.5 (from memory) */
     {"cable", "permittivity", KL_Q_NUMBER, 0, 1, 100, 1.5, 10, 1, "", "a relative permittivity"},
-    {"cable", "ampacity", KL_Q_CURRENT, 0, 0.1, 1e5, 1, 5000, 1, "A", "an ampacity"},
+    {"cable", NULL, KL_Q_CURRENT, 0, 0.1, 1e5, 1, 5000, 1, "A", "an ampacity"},
     {"cable", NULL, KL_Q_LENGTH, 0, 1e-3, 0.5, 5e-3, 0.2, 1e3, "mm", "a cable diameter"},
     /* earth: sea water some 0.2 ohm m, rock 1e4 and more (IEEE Std 80, from memory) */
     {"", "earth_resistivity", KL_Q_RESISTIVITY, 0, 0.01, 1e6, 1, 1e4, 1, "ohm-m", "an earth resistivity"},
@@ -80,6 +80,7 @@ static const kl_range ranges[] = {
      "an earth resistivity"},
     /* a line's impedance and susceptance per length: overhead lines some
      * 0.3 to 1 ohm/km and 3 uS/km, cables to some 60 uS/km */
+    {"construction", NULL, KL_Q_CURRENT, 0, 0.1, 1e5, 1, 5000, 1, "A", "an ampacity"},
     {"construction", NULL, KL_Q_OHM_PER_LENGTH, R_ABS, 0, 1, 0, 0.05, 1e3, "ohm/km", "a line impedance"},
     {"construction", NULL, KL_Q_S_PER_LENGTH, R_ABS, 0, 1e-5, 0, 5e-7, 1e9, "uS/km", "a line susceptance"},
     /* layouts: crossarm and pole positions, trench depths */
@@ -91,7 +92,7 @@ static const kl_range ranges[] = {
     /* sections: a distribution line from a metre to some 100 km (long rural lines) */
     {"section", "length", KL_Q_LENGTH, 0, 1e-3, 1e6, 0.1, 1e5, 1e-3, "km", "a line length"},
     /* transformers: single-phase 5 kVA to substation 100 MVA and beyond */
-    {"transformer", "rating", KL_Q_POWER, 0, 100, 1e10, 1e3, 5e8, 1e-3, "kVA", "a transformer rating"},
+    {"transformer", NULL, KL_Q_POWER, 0, 100, 1e10, 1e3, 5e8, 1e-3, "kVA", "a transformer rating"},
     {"transformer", "voltage", KL_Q_VOLTAGE, 0, 50, 1.2e6, 100, 230e3, 1e-3, "kV", "a winding voltage"},
     /* per-unit resistance some 0.5 to 2 %, reactance 2 to 12 %, no-load loss
      * 0.1 to 0.5 % (IEEE C57.12.00 ranges, from memory) */
@@ -107,6 +108,7 @@ static const kl_range ranges[] = {
     {"regulator", "bandwidth", KL_Q_VOLTAGE, 0, 0.1, 24, 0.5, 6, 1, "V", "a regulator bandwidth"},
     {"regulator", "pt_ratio", KL_Q_NUMBER, 0, 1, 1e4, 2, 600, 1, "", "a PT ratio"},
     {"regulator", "ct_primary", KL_Q_CURRENT, 0, 1, 1e5, 5, 5000, 1, "A", "a CT primary current"},
+    {"regulator", NULL, KL_Q_CURRENT, 0, 1, 1e5, 5, 5000, 1, "A", "a regulator current rating"},
     {"regulator", NULL, KL_Q_VOLTAGE, R_ABS, 0, 120, 0, 24, 1, "V", "a compensator setting"},
     /* loads and capacitors, per phase: a house some kVA, a large plant tens of MVA */
     {"load", NULL, KL_Q_POWER, R_ABS, 0, 1e9, 0, 5e7, 1e-3, "kVA", "a load per phase"},
