@@ -33,7 +33,38 @@ grep -q "broken-phase.yaml:13:5: section \"s2\": phases 'b' are not all present 
   || { cat "$tmp/err"; fail "broken feeder message not located"; }
 
 # Issue 14, defect 4: check runs the line constants and the network build and reports what flow
-# reports; a dead end beyond an open switch was the case where they disagreed.
+# reports: bare conductors on an underground layout load without error, and only the line
+# constants refuse them; check passed such a file (exit 0) that flow then refused.
+cat >"$tmp/bare-trench.yaml" <<'EOF'
+kilter-feeder: 1
+name: bare wires in a trench
+source: {bus: sub, nominal_voltage: 12.47 kV}
+conductors:
+  - {name: c1, resistance: 0.3 ohm/mi, gmr: 0.01 ft, diameter: 0.5 in, ampacity: 300 A}
+layouts:
+  - name: trench
+    kind: underground
+    positions:
+      - {id: "1", x: 0 in, depth: 4 ft}
+      - {id: "2", x: 6 in, depth: 4 ft}
+      - {id: "3", x: 12 in, depth: 4 ft}
+constructions:
+  - {name: k3, layout: trench, phase_conductor: c1, phases: {a: "1", b: "2", c: "3"}}
+sections:
+  - {name: s1, from: sub, to: b1, length: 100 ft, construction: k3}
+loads:
+  - {bus: b1, power: {a: 10 kVA}}
+EOF
+"$kilter" flow "$tmp/bare-trench.yaml" >"$tmp/out" 2>"$tmp/flow.err"
+[ $? -eq 2 ] || fail "flow accepts bare conductors in a trench (the case needs a file flow refuses)"
+"$kilter" check "$tmp/bare-trench.yaml" >"$tmp/out" 2>"$tmp/err"
+rc=$?
+[ $rc -eq 2 ] || { cat "$tmp/err"; fail "bare conductors in a trench: check exit $rc, expected 2 as flow"; }
+[ ! -s "$tmp/out" ] || fail "check printed a summary of a file it refuses"
+grep -q "bare-trench.yaml:14:5: construction k3: bare conductors on an underground layout" "$tmp/err" ||
+  { cat "$tmp/err"; fail "check: the line constants' message is missing or not located"; }
+cmp -s "$tmp/err" "$tmp/flow.err" || { diff "$tmp/err" "$tmp/flow.err"; fail "check and flow say different things"; }
+
 cat >"$tmp/dead-end.yaml" <<'EOF'
 kilter-feeder: 1
 name: dead end beyond an open switch
