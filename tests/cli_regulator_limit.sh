@@ -50,7 +50,7 @@ for cmd in flow study; do
       "$tmp/$cmd.txt" || fail "$cmd text: no note for unit $p"
   done
   "$kilter" $cmd --format csv --table regulators "$tmp/held.yaml" >"$tmp/$cmd.csv" || fail "$cmd csv"
-  head -1 "$tmp/$cmd.csv" | grep -qx "regulator,phase,tap,steps,voltage_level_v,bandwidth_v,relay_v,set_point_met,status" ||
+  head -1 "$tmp/$cmd.csv" | grep -qx "regulator,unit,tap,steps,voltage_level_v,bandwidth_v,relay_v,set_point_met,status" ||
     fail "$cmd csv header: $(head -1 "$tmp/$cmd.csv")"
   [ "$(grep -c "^r1,[abc],16,16,135.000000,2.000000,$relay[0-9]*,0,raise-limit$" "$tmp/$cmd.csv")" = 3 ] ||
     { cat "$tmp/$cmd.csv"; fail "$cmd csv: three units held, set point not met"; }

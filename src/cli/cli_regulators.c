@@ -2,6 +2,7 @@
  * tap limit with its set point not reached, so that every output of flow and
  * study (a bus CSV included, which has no regulator column) carries it. */
 #include <stdio.h>
+#include <string.h>
 #include "cli.h"
 #include "kilter/flow.h"
 
@@ -9,14 +10,15 @@ void kl_cli_regulator_warnings(const kl_feeder *f, const kl_flow_result *r)
 {
     for (int g = 0; g < f->nregulators; g++) {
         const kl_regulator *rg = &f->regulators[g];
-        char units[8];
+        char units[16] = "";
         int n = 0, dir = 0;
         for (int p = 0; p < 3; p++)
-            if (r->reg_limit[3 * g + p]) {
-                units[n++] = (char)('a' + p);
+            if (r->reg_limit[3 * g + p]) { /* "abc"; an open delta's units "ab, cb" */
+                if (n++ && rg->conn == KL_REG_OPEN_DELTA)
+                    strcat(units, ", ");
+                strcat(units, kl_regulator_unit_name(rg, p));
                 dir = r->reg_limit[3 * g + p];
             }
-        units[n] = '\0';
         if (!n)
             continue;
         fprintf(stderr, "kilter: %s:%d:%d: warning: regulator \"%s\": unit%s %s held at the %s limit "
