@@ -5,7 +5,8 @@
 set -eu
 # clang and its runtime libraries (libclang-rt-dev: the sanitizers and libFuzzer) for the
 # third build of scripts/test.sh and the fuzz targets
-pkgs="build-essential cmake pkg-config libsuitesparse-dev libyaml-dev libgsl-dev check clang libclang-rt-dev"
+# libxlsxwriter-dev: the spreadsheet workbook (--workbook); python3 reads it back in tests/cli_workbook.sh
+pkgs="build-essential cmake pkg-config libsuitesparse-dev libyaml-dev libgsl-dev check clang libclang-rt-dev libxlsxwriter-dev python3"
 for a in "$@"; do
   case "$a" in
     --with-browser) pkgs="$pkgs chromium" ;;

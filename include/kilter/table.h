@@ -158,6 +158,20 @@ void kl_table_json_str(FILE *o, const char *s); /* quoted and escaped; NULL -> n
 void kl_table_json_num(FILE *o, double x);      /* %.8g; non-finite -> null */
 void kl_table_csv_str(FILE *o, const char *s);  /* quoted when it holds , " or a newline */
 
+/* ---- a workbook (table_xlsx.c): tables as the sheets of one .xlsx file.
+ * Each sheet holds the table's CSV cell for cell (numbers as numbers, with
+ * the CSV's decimals; an undefined figure an empty cell) under two frozen
+ * header rows, the CSV's field names and their units.  The workbook is built
+ * in a temporary file and copied to o when complete.  KL_EIO, KL_ENOMEM, or
+ * KL_EARG (a bad sheet name); a table longer than a sheet is an error naming
+ * its CSV, never cut short. */
+typedef struct {
+    const kl_table *t;
+    const void *ctx;   /* t's row record */
+    const char *name;  /* sheet name, at most 31 characters */
+} kl_table_sheet;
+kl_status kl_table_xlsx(FILE *o, const kl_table_sheet *sheets, int n, kl_errors *err);
+
 /* ---- the flow's tables (table_flow.c); docs/flow.md has the contract */
 typedef struct {
     const kl_feeder *feeder;
@@ -174,6 +188,8 @@ typedef struct {
     const kl_study *study;
     const kl_study_phases *ph; /* the flow's phases the study read (bases) */
     int only_bus;              /* CSV and JSON buses: this bus alone (--at); -1 all */
+    const kl_study_options *opt; /* summary and compliance: the limits the study used */
+    int range_b;               /* compliance: 1 when only Range B counts as broken */
     /* ph may be NULL for the HTML columns, which read the study alone */
 } kl_study_rows;
 extern const kl_table kl_table_study_buses;        /* text: three-phase buses */
@@ -184,6 +200,8 @@ extern const kl_table kl_table_study_runs;
 extern const kl_table kl_table_study_contributors;
 extern const kl_table kl_table_study_motors;       /* HTML: motor buses */
 extern const kl_table kl_table_study_loading;      /* HTML: rated sections, most loaded first */
+extern const kl_table kl_table_study_summary;      /* the worst figures and where (table_summary.c) */
+extern const kl_table kl_table_study_compliance;   /* each limit and what breaks it (table_summary.c) */
 
 /* ---- the rebalancing plan's tables (table_plan.c); docs/rebalance.md */
 typedef struct {

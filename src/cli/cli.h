@@ -9,6 +9,7 @@
 #include "kilter/error.h"
 #include "kilter/feeder.h"
 #include "kilter/lines.h"
+#include "kilter/table.h"
 
 enum {
     KL_EXIT_OK = 0,
@@ -66,6 +67,11 @@ void kl_cli_input(const char *path);
  * puts every output file in place if all went well, or drops them all.
  * Returns the exit code (KL_EXIT_IO when writing failed). */
 int kl_cli_outputs_finish(int rc);
+
+/* Writes the tables as the sheets of one workbook (kilter/table.h) to a file
+ * of the command's output set; 0, or an exit code after the message. */
+int kl_cli_workbook(const char *path, const kl_table_sheet *sheets, int n);
+#define KL_CLI_WORKBOOK_HELP "also write the result tables as the sheets of one spreadsheet workbook (.xlsx)"
 
 /* Prints every item as `kilter: file:line:col: element: message` on stderr. */
 void kl_cli_print_errors(const kl_errors *e);

@@ -378,3 +378,21 @@ void kl_cli_json_num(FILE *f, double x)
 {
     kl_table_json_num(f, x);
 }
+
+int kl_cli_workbook(const char *path, const kl_table_sheet *sheets, int n)
+{
+    kl_cli_out out;
+    kl_errors e;
+    int rc = kl_cli_out_open(&out, path);
+    if (rc)
+        return rc;
+    kl_errors_init(&e);
+    kl_status st = kl_table_xlsx(out.f, sheets, n, &e);
+    kl_cli_print_errors(&e);
+    kl_errors_free(&e);
+    if (st != KL_OK) {
+        kl_cli_out_abandon(&out); /* not written whole: no output file of the command changes */
+        return kl_cli_exit_code(st);
+    }
+    return kl_cli_out_close(&out);
+}

@@ -15,13 +15,14 @@
 
 static const char PH[3] = {'a', 'b', 'c'};
 
-enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, NOPTS };
+enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, OPT_WORKBOOK, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"table", 1, "buses|sections|regulators", "which table to print (default buses; JSON holds all)"},
     {"solver", 1, "sweep|nodal", "backward/forward sweep (default) or the nodal solver"},
     KL_CLI_EARTH_RETURN_OPT,
     {"load-scale", 1, "X", "multiply every load by X (default 1)"},
+    {"workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP},
 };
 
 typedef struct {
@@ -210,6 +211,12 @@ int kl_cmd_flow(int argc, char **argv)
         view w = {f, res, o.solver == KL_SOLVER_NODAL ? "nodal" : "sweep", {f, res}};
         kl_cli_regulator_warnings(f, res);
         rc = emit(&a, &w, sections);
+        if (!rc && a.val[OPT_WORKBOOK]) {
+            const kl_table_sheet sheet[3] = { { &kl_table_flow_buses, &w.rows, "buses" },
+                                              { &kl_table_flow_sections, &w.rows, "sections" },
+                                              { &kl_table_flow_regulators, &w.rows, "regulators" } };
+            rc = kl_cli_workbook(a.val[OPT_WORKBOOK], sheet, 3);
+        }
     } else if (st == KL_ENOMEM && e.count == 0) {
         kl_cli_error("flow: out of memory");
     }

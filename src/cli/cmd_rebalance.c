@@ -20,7 +20,7 @@
 
 enum { OPT_OBJ, OPT_AT, OPT_MOVES, OPT_BUDGET, OPT_LEVELS, OPT_RANGE, OPT_SEARCH, OPT_TIME,
        OPT_SEED, OPT_PIN, OPT_FORBID, OPT_COST, OPT_RULES, OPT_WRITE, OPT_ITEMS, OPT_HTML,
-       OPT_EARTH_RETURN, NOPTS };
+       OPT_EARTH_RETURN, OPT_WORKBOOK, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"objective", 1, "NAME[=W],...", "neutral, vuf, losses, current, drop; weighted with =W "
@@ -41,6 +41,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"items", 0, NULL, "list the movable items and stop"},
     {"html", 1, "FILE", "also write the HTML study report with the plan to FILE"},
     KL_CLI_EARTH_RETURN_OPT,
+    {"workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP},
 };
 
 static const char *CAUTION =
@@ -540,6 +541,11 @@ static int run(const kl_cli_args *a, kl_feeder *f, kl_rebalance_options *o, kl_e
     if (!st && !rc) {
         view w = {f, rp, plan};
         rc = emit(a, &w, 0);
+        if (!rc && a->val[OPT_WORKBOOK]) {
+            kl_plan_rows rows = rows_of(&w, -1);
+            const kl_table_sheet sheet[1] = { { &kl_table_plan_steps, &rows, "steps" } };
+            rc = kl_cli_workbook(a->val[OPT_WORKBOOK], sheet, 1);
+        }
     }
 done:
     kl_rebalance_plan_free(plan);

@@ -15,7 +15,7 @@
 #include "study_print.h"
 
 enum { OPT_AT, OPT_MPHASE, OPT_MLINE, OPT_TOL, OPT_VUFTOL, OPT_LIMIT, OPT_LEVEL, OPT_RANGE,
-       OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_SCALE, OPT_MAP,
+       OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_WORKBOOK, OPT_SCALE, OPT_MAP,
        OPT_EARTH_RETURN, OPT_LOADWARN, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
@@ -31,8 +31,9 @@ static const kl_cli_opt opts[NOPTS] = {
     { "neutral-share", 1, "PCT", "flag neutral current above this % of ampacity (default 100)" },
     { "neutral-margin", 1, "PCT", "neutral sizing margin over the worst current (default 25)" },
     { "contributors", 1, "N", "contributors listed per bus (default 10)" },
-    { "table", 1, "NAME", "CSV table: buses, sections, neutrals, runs, contributors or regulators" },
+    { "table", 1, "NAME", "CSV table: " KL_STUDY_TABLE_NAMES },
     { "html", 1, "FILE", "also write the HTML report to FILE" },
+    { "workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP },
     { "load-scale", 1, "X", "multiply every load by X (default 1)" },
     { "map", 1, "vuf|neutral|voltage|loading", "what colours the HTML report's feeder map (default vuf)" },
     KL_CLI_EARTH_RETURN_OPT,
@@ -85,18 +86,15 @@ static int read_triple(const char *s, const char *opt, double v[3])
 
 static int read_table(const char *t, kl_study_table *out)
 {
-    static const char *const names[] = { "buses", "sections", "neutrals", "runs", "contributors",
-                                         "regulators" };
     *out = KL_TAB_BUSES;
     if (!t)
         return 0;
-    for (int k = 0; k < 6; k++)
-        if (strcmp(t, names[k]) == 0) {
-            *out = (kl_study_table)k;
-            return 0;
-        }
-    kl_cli_error("study: unknown table '%s': expected buses, sections, neutrals, runs, contributors "
-                 "or regulators", t);
+    int k = kl_study_table_parse(t);
+    if (k >= 0) {
+        *out = (kl_study_table)k;
+        return 0;
+    }
+    kl_cli_error("study: unknown table '%s': expected " KL_STUDY_TABLE_NAMES, t);
     return KL_EXIT_USAGE;
 }
 
@@ -320,6 +318,13 @@ int kl_cmd_study(int argc, char **argv)
         rc = emit(&a, &p, &x);
         if (!rc && a.val[OPT_HTML])
             rc = write_html(a.val[OPT_HTML], q.f, q.res, q.s, &x);
+        if (!rc && a.val[OPT_WORKBOOK]) {
+            kl_study_rows rows;
+            kl_flow_rows flow;
+            kl_table_sheet sheet[KL_TAB_COUNT];
+            kl_study_sheets(&p, &rows, &flow, sheet);
+            rc = kl_cli_workbook(a.val[OPT_WORKBOOK], sheet, KL_TAB_COUNT);
+        }
     }
     kl_errors_free(&e);
     kl_study_free(q.s);

@@ -4,6 +4,7 @@
 #include <complex.h>
 #include <math.h>
 #include <stdio.h>
+#include <string.h>
 #include "kilter/limits.h"
 #include "kilter/table.h"
 #include "cli.h"
@@ -23,7 +24,7 @@ static double pct(double x) { return 100.0 * x; }
 /* The study's tables read this record (kilter/table.h). */
 static kl_study_rows rows_of(const kl_study_print *p)
 {
-    return (kl_study_rows){p->f, p->s, p->ph, p->ci ? p->ci->bus : -1};
+    return (kl_study_rows){p->f, p->s, p->ph, p->ci ? p->ci->bus : -1, p->opt, p->range_b};
 }
 
 /* The bus table's text of a column (the figures are the tables'). */
@@ -409,19 +410,47 @@ void kl_study_print_at(FILE *o, const kl_study_print *p)
 
 /* ---- CSV (contract in docs/study.md) */
 
+static const kl_table *const study_tables[KL_TAB_COUNT] = {
+    [KL_TAB_BUSES] = &kl_table_study_buses, [KL_TAB_SECTIONS] = &kl_table_study_sections,
+    [KL_TAB_NEUTRALS] = &kl_table_study_neutrals, [KL_TAB_RUNS] = &kl_table_study_runs,
+    [KL_TAB_CONTRIB] = &kl_table_study_contributors, [KL_TAB_SUMMARY] = &kl_table_study_summary,
+    [KL_TAB_COMPLIANCE] = &kl_table_study_compliance,
+    [KL_TAB_REGULATORS] = &kl_table_flow_regulators, /* reads kl_flow_rows */
+};
+
+int kl_study_table_parse(const char *name)
+{
+    for (int k = 0; k < KL_TAB_COUNT; k++)
+        if (strcmp(name, study_tables[k]->name) == 0)
+            return k;
+    return -1;
+}
+
 void kl_study_print_csv(FILE *o, const kl_study_print *p, kl_study_table t)
 {
-    static const kl_table *const table[] = {
-        [KL_TAB_BUSES] = &kl_table_study_buses, [KL_TAB_SECTIONS] = &kl_table_study_sections,
-        [KL_TAB_NEUTRALS] = &kl_table_study_neutrals, [KL_TAB_RUNS] = &kl_table_study_runs,
-        [KL_TAB_CONTRIB] = &kl_table_study_contributors,
-    };
     kl_study_rows rows = rows_of(p);
     kl_flow_rows flow = {p->f, p->flow};
     if (t == KL_TAB_REGULATORS)
         kl_table_csv(o, &kl_table_flow_regulators, &flow);
     else
-        kl_table_csv(o, table[(unsigned)t <= KL_TAB_CONTRIB ? t : KL_TAB_BUSES], &rows);
+        kl_table_csv(o, study_tables[(unsigned)t < KL_TAB_COUNT ? t : KL_TAB_BUSES], &rows);
+}
+
+/* ---- workbook */
+
+void kl_study_sheets(const kl_study_print *p, kl_study_rows *rows, kl_flow_rows *flow,
+                     kl_table_sheet sheet[KL_TAB_COUNT])
+{
+    static const kl_study_table order[KL_TAB_COUNT] = {
+        KL_TAB_SUMMARY, KL_TAB_COMPLIANCE, KL_TAB_BUSES, KL_TAB_SECTIONS, KL_TAB_NEUTRALS,
+        KL_TAB_RUNS, KL_TAB_CONTRIB, KL_TAB_REGULATORS,
+    };
+    *rows = rows_of(p);
+    *flow = (kl_flow_rows){p->f, p->flow};
+    for (int k = 0; k < KL_TAB_COUNT; k++) {
+        const kl_table *t = study_tables[order[k]];
+        sheet[k] = (kl_table_sheet){ t, order[k] == KL_TAB_REGULATORS ? (const void *)flow : rows, t->name };
+    }
 }
 
 /* ---- JSON (contract in docs/study.md) */

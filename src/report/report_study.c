@@ -17,7 +17,7 @@ static const char *sec_name(const kl_feeder *f, int s)
 
 static kl_study_rows rows_of(const kl_report_input *in)
 {
-    return (kl_study_rows){in->feeder, in->study, NULL, -1};
+    return (kl_study_rows){in->feeder, in->study, NULL, -1, NULL, 0};
 }
 
 kl_status kl_report_study_neutral(FILE *out, const kl_report_input *in, kl_errors *err)
