@@ -244,7 +244,9 @@ HEAD = """\
 # Osier Lane, then Tarrowby Street (336 ACSR, vertical armless poles).  Two-phase and
 # many single-phase laterals; the single-phase load sits mostly on phase a, on purpose,
 # so that the unbalance study and the rebalancing advisor have something to find.
-# Plot coordinates are in feet from the substation (x east, y north).
+# Bus coordinates are in feet from the substation (x east, y north).  For the map outputs
+# (GeoJSON) the substation is placed at an invented spot in the open Pacific, far off any
+# coast, so that no real utility's feeder is suggested.
 kilter-feeder: 1
 name: Quillmere feeder 3
 description: >-
@@ -254,6 +256,7 @@ description: >-
 units: us
 earth_resistivity: 100 ohm-m
 radial: true
+coordinates: {system: local, longitude: -131.27 deg, latitude: 45.38 deg, unit: ft}
 
 # ----------------------------------------------------------------------------- source
 # Quillmere substation, 69 kV / 12.47 kV bank with load tap changer holding the

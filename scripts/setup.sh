@@ -5,8 +5,10 @@
 set -eu
 # clang and its runtime libraries (libclang-rt-dev: the sanitizers and libFuzzer) for the
 # third build of scripts/test.sh and the fuzz targets
-# libxlsxwriter-dev: the spreadsheet workbook (--workbook); python3 reads it back in tests/cli_workbook.sh
-pkgs="build-essential cmake pkg-config libsuitesparse-dev libyaml-dev libgsl-dev check clang libclang-rt-dev libxlsxwriter-dev python3"
+# libxlsxwriter-dev: the spreadsheet workbook (--workbook); libproj-dev and proj-data (PROJ and its
+# EPSG database): bus coordinates and GeoJSON; python3 reads them back in tests/cli_workbook.sh and
+# tests/cli_geojson.sh
+pkgs="build-essential cmake pkg-config libsuitesparse-dev libyaml-dev libgsl-dev check clang libclang-rt-dev libxlsxwriter-dev libproj-dev proj-data python3"
 for a in "$@"; do
   case "$a" in
     --with-browser) pkgs="$pkgs chromium" ;;

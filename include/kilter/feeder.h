@@ -247,6 +247,27 @@ typedef struct {
 } kl_source;
 
 
+/* What the buses' x and y are (the top-level `coordinates`, feeders/README.md):
+ * plot units (the default: a drawing, no place on Earth), WGS 84 longitude and
+ * latitude in degrees, eastings and northings of a coordinate reference system
+ * named by its EPSG code, or a local plane: x east and y north in `unit_m`
+ * metres from an origin given by its longitude and latitude.  The conversion
+ * to longitude and latitude is kilter/geo.h's. */
+typedef enum {
+    KL_COORD_PLOT = 0,
+    KL_COORD_LONLAT = 1,
+    KL_COORD_EPSG = 2,
+    KL_COORD_LOCAL = 3
+} kl_coord_system;
+
+typedef struct {
+    kl_coord_system system;
+    int epsg;                 /* KL_COORD_EPSG: the code */
+    double origin_lon_deg, origin_lat_deg; /* KL_COORD_LOCAL: where x = y = 0 */
+    double unit_m;            /* KL_COORD_LOCAL: metres per unit of x and y */
+    kl_loc loc;               /* the `coordinates` mapping */
+} kl_coordinates;
+
 struct kl_feeder_tree; /* the feeder tree, src/model/feeder_tree.c */
 
 typedef struct kl_feeder {
@@ -274,6 +295,7 @@ typedef struct kl_feeder {
     kl_arena *arena;           /* owns every string above */
     struct kl_feeder_tree *tree; /* breadth-first from the source, built by the loader (owned);
                                     NULL for a feeder assembled in code, whose users build one */
+    kl_coordinates coordinates;  /* what the buses' x and y are (default: plot units) */
 } kl_feeder;
 
 /* The de-energized part (src/model/deenergized.c): buses beyond open

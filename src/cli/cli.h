@@ -10,6 +10,8 @@
 #include "kilter/feeder.h"
 #include "kilter/lines.h"
 #include "kilter/table.h"
+#include "kilter/geojson.h"
+#include "kilter/geo.h"
 
 enum {
     KL_EXIT_OK = 0,
@@ -71,6 +73,15 @@ int kl_cli_outputs_finish(int rc);
 /* Writes the tables as the sheets of one workbook (kilter/table.h) to a file
  * of the command's output set; 0, or an exit code after the message. */
 int kl_cli_workbook(const char *path, const kl_table_sheet *sheets, int n);
+/* Writes the feeder with results as GeoJSON (kilter/geojson.h) to a file of
+ * the command's output set: the buses converted to longitude and latitude
+ * (kilter/geo.h), each feature's properties its row of the tables given.
+ * 0, or an exit code after the message. */
+int kl_cli_geojson(const char *path, const kl_feeder *f, const kl_geojson_props *buses,
+                   const kl_geojson_props *sections, kl_geojson_extra section_extra,
+                   kl_geojson_extra bus_extra, const void *extra_ctx, const char *caution);
+#define KL_CLI_GEOJSON_HELP "also write the feeder with its results as GeoJSON (WGS 84 " \
+    "longitude/latitude; needs the feeder's 'coordinates')"
 #define KL_CLI_WORKBOOK_HELP "also write the result tables as the sheets of one spreadsheet workbook (.xlsx)"
 
 /* Prints every item as `kilter: file:line:col: element: message` on stderr. */

@@ -317,6 +317,39 @@ int kl_cli_exit_code(kl_status s)
     }
 }
 
+/* Buses on Earth (kilter/geo.h): their coordinates must convert, and each
+ * line must be at least about as long as the distance between its buses (a
+ * warning, the command goes on).  A feeder in plot units has nothing to check. */
+static kl_status geo_check(const kl_feeder *f)
+{
+    if (f->coordinates.system == KL_COORD_PLOT)
+        return KL_OK;
+    size_t nb = (size_t)f->nbuses + 1, ns = (size_t)f->nsections + 1;
+    double *lon = malloc(nb * sizeof *lon), *lat = malloc(nb * sizeof *lat);
+    double *dist = malloc(ns * sizeof *dist);
+    kl_errors e;
+    kl_errors_init(&e);
+    kl_status st = lon && lat && dist ? KL_OK : KL_ENOMEM;
+    /* a local plane needs no conversion for its distances */
+    if (!st && f->coordinates.system != KL_COORD_LOCAL)
+        st = kl_geo_lonlat(f, lon, lat, &e);
+    kl_cli_print_errors(&e);
+    if (st == KL_ENOMEM && e.count == 0)
+        kl_cli_error("%s: out of memory converting the bus coordinates", f->path);
+    if (!st) {
+        kl_errors_clear(&e);
+        int local = f->coordinates.system == KL_COORD_LOCAL;
+        kl_geo_section_distances(f, local ? NULL : lon, local ? NULL : lat, dist);
+        kl_geo_check_lengths(f, dist, &e); /* warnings: printed, the command goes on */
+        kl_cli_print_errors(&e);
+    }
+    kl_errors_free(&e);
+    free(lon);
+    free(lat);
+    free(dist);
+    return st;
+}
+
 int kl_cli_load(const kl_cli_args *a, kl_feeder **f)
 {
     kl_errors e;
@@ -338,6 +371,11 @@ int kl_cli_load(const kl_cli_args *a, kl_feeder **f)
         for (int i = 0; i < e.count; i++)
             e.items[i].warning = 1;
         kl_cli_print_errors(&e);
+        s = geo_check(*f);
+        if (s != KL_OK) {
+            kl_feeder_free(*f);
+            *f = NULL;
+        }
     }
     kl_errors_free(&e);
     return kl_cli_exit_code(s);
@@ -395,4 +433,33 @@ int kl_cli_workbook(const char *path, const kl_table_sheet *sheets, int n)
         return kl_cli_exit_code(st);
     }
     return kl_cli_out_close(&out);
+}
+
+int kl_cli_geojson(const char *path, const kl_feeder *f, const kl_geojson_props *buses,
+                   const kl_geojson_props *sections, kl_geojson_extra section_extra,
+                   kl_geojson_extra bus_extra, const void *extra_ctx, const char *caution)
+{
+    size_t nb = (size_t)f->nbuses + 1;
+    double *lon = malloc(nb * sizeof *lon), *lat = malloc(nb * sizeof *lat);
+    kl_cli_out out;
+    kl_errors e;
+    int rc = 0;
+    kl_errors_init(&e);
+    kl_status st = lon && lat ? kl_geo_lonlat(f, lon, lat, &e) : KL_ENOMEM;
+    if (!st && !(rc = kl_cli_out_open(&out, path))) {
+        kl_geojson_input in = { f, lon, lat, *buses, *sections, section_extra, bus_extra, extra_ctx,
+                                caution };
+        st = kl_geojson_write(out.f, &in, &e);
+        if (st)
+            kl_cli_out_abandon(&out);
+        else
+            rc = kl_cli_out_close(&out);
+    }
+    kl_cli_print_errors(&e);
+    if (st == KL_ENOMEM && e.count == 0)
+        kl_cli_error("%s: out of memory writing the GeoJSON", path);
+    kl_errors_free(&e);
+    free(lon);
+    free(lat);
+    return st ? kl_cli_exit_code(st) : rc;
 }

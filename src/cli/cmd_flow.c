@@ -15,7 +15,7 @@
 
 static const char PH[3] = {'a', 'b', 'c'};
 
-enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, OPT_WORKBOOK, NOPTS };
+enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, OPT_WORKBOOK, OPT_GEOJSON, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"table", 1, "buses|sections|regulators", "which table to print (default buses; JSON holds all)"},
@@ -23,6 +23,7 @@ static const kl_cli_opt opts[NOPTS] = {
     KL_CLI_EARTH_RETURN_OPT,
     {"load-scale", 1, "X", "multiply every load by X (default 1)"},
     {"workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP},
+    {"geojson", 1, "FILE", KL_CLI_GEOJSON_HELP},
 };
 
 typedef struct {
@@ -216,6 +217,11 @@ int kl_cmd_flow(int argc, char **argv)
                                               { &kl_table_flow_sections, &w.rows, "sections" },
                                               { &kl_table_flow_regulators, &w.rows, "regulators" } };
             rc = kl_cli_workbook(a.val[OPT_WORKBOOK], sheet, 3);
+        }
+        if (!rc && a.val[OPT_GEOJSON]) {
+            kl_geojson_props buses = { &kl_table_flow_buses, &w.rows };
+            kl_geojson_props secs = { &kl_table_flow_sections, &w.rows };
+            rc = kl_cli_geojson(a.val[OPT_GEOJSON], f, &buses, &secs, NULL, NULL, NULL, NULL);
         }
     } else if (st == KL_ENOMEM && e.count == 0) {
         kl_cli_error("flow: out of memory");

@@ -20,7 +20,7 @@
 
 enum { OPT_OBJ, OPT_AT, OPT_MOVES, OPT_BUDGET, OPT_LEVELS, OPT_RANGE, OPT_SEARCH, OPT_TIME,
        OPT_SEED, OPT_PIN, OPT_FORBID, OPT_COST, OPT_RULES, OPT_WRITE, OPT_ITEMS, OPT_HTML,
-       OPT_EARTH_RETURN, OPT_WORKBOOK, NOPTS };
+       OPT_EARTH_RETURN, OPT_WORKBOOK, OPT_GEOJSON, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"objective", 1, "NAME[=W],...", "neutral, vuf, losses, current, drop; weighted with =W "
@@ -42,6 +42,8 @@ static const kl_cli_opt opts[NOPTS] = {
     {"html", 1, "FILE", "also write the HTML study report with the plan to FILE"},
     KL_CLI_EARTH_RETURN_OPT,
     {"workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP},
+    {"geojson", 1, "FILE", "also write the feeder with the plan's moves as GeoJSON (WGS 84 "
+     "longitude/latitude; needs the feeder's 'coordinates')"},
 };
 
 static const char *CAUTION =
@@ -403,6 +405,59 @@ static void print_items(FILE *o, const view *w)
     for (int k = 0; k < w->rp->nskipped; k++)
         fprintf(o, "not movable: %s\n", w->rp->skipped[k]);
 }
+/* ---- GeoJSON: the plan's moves on the map.  A lateral's move is a property
+ * of its tap section, a load's of its bus: the step's JSON members (the plan's
+ * steps table), under "move" (a section moves once) or in "moves" (a bus may
+ * hold several moved loads). */
+typedef struct {
+    const view *w;
+    kl_plan_rows rows;
+} map_moves;
+
+static void step_members(FILE *o, const map_moves *m, int s)
+{
+    fputc('{', o);
+    kl_table_json_members(o, &kl_table_plan_steps, &m->rows, s + 1); /* row 0: before any move */
+    fputc('}', o);
+}
+
+static void section_moves(FILE *o, const void *ctx, int k)
+{
+    const map_moves *m = ctx;
+    const kl_rebalance_plan *p = m->w->p;
+    for (int s = 0; s < p->nsteps; s++) {
+        const kl_rephase_item *it = &m->w->rp->items[p->steps[s].item];
+        if (it->kind == KL_ITEM_LATERAL && it->section == k) {
+            fputs(", \"move\": ", o);
+            step_members(o, m, s);
+            return;
+        }
+    }
+}
+
+static void bus_moves(FILE *o, const void *ctx, int b)
+{
+    const map_moves *m = ctx;
+    const kl_rebalance_plan *p = m->w->p;
+    int n = 0;
+    for (int s = 0; s < p->nsteps; s++) {
+        const kl_rephase_item *it = &m->w->rp->items[p->steps[s].item];
+        if (it->kind != KL_ITEM_LOAD || it->load < 0 || m->w->f->loads[it->load].bus != b)
+            continue;
+        fputs(n++ ? ", " : ", \"moves\": [", o);
+        step_members(o, m, s);
+    }
+    if (n)
+        fputc(']', o);
+}
+
+static int write_geojson(const char *path, const view *w)
+{
+    map_moves m = { w, rows_of(w, -1) };
+    kl_geojson_props none = { NULL, NULL };
+    return kl_cli_geojson(path, w->f, &none, &none, section_moves, bus_moves, &m, CAUTION);
+}
+
 static int emit(const kl_cli_args *a, const view *w, int items)
 {
     kl_cli_out out;
@@ -546,6 +601,8 @@ static int run(const kl_cli_args *a, kl_feeder *f, kl_rebalance_options *o, kl_e
             const kl_table_sheet sheet[1] = { { &kl_table_plan_steps, &rows, "steps" } };
             rc = kl_cli_workbook(a->val[OPT_WORKBOOK], sheet, 1);
         }
+        if (!rc && a->val[OPT_GEOJSON])
+            rc = write_geojson(a->val[OPT_GEOJSON], &w);
     }
 done:
     kl_rebalance_plan_free(plan);

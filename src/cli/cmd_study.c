@@ -15,7 +15,7 @@
 #include "study_print.h"
 
 enum { OPT_AT, OPT_MPHASE, OPT_MLINE, OPT_TOL, OPT_VUFTOL, OPT_LIMIT, OPT_LEVEL, OPT_RANGE,
-       OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_WORKBOOK, OPT_SCALE, OPT_MAP,
+       OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_WORKBOOK, OPT_GEOJSON, OPT_SCALE, OPT_MAP,
        OPT_EARTH_RETURN, OPT_LOADWARN, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
@@ -34,6 +34,7 @@ static const kl_cli_opt opts[NOPTS] = {
     { "table", 1, "NAME", "CSV table: " KL_STUDY_TABLE_NAMES },
     { "html", 1, "FILE", "also write the HTML report to FILE" },
     { "workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP },
+    { "geojson", 1, "FILE", KL_CLI_GEOJSON_HELP },
     { "load-scale", 1, "X", "multiply every load by X (default 1)" },
     { "map", 1, "vuf|neutral|voltage|loading", "what colours the HTML report's feeder map (default vuf)" },
     KL_CLI_EARTH_RETURN_OPT,
@@ -324,6 +325,13 @@ int kl_cmd_study(int argc, char **argv)
             kl_table_sheet sheet[KL_TAB_COUNT];
             kl_study_sheets(&p, &rows, &flow, sheet);
             rc = kl_cli_workbook(a.val[OPT_WORKBOOK], sheet, KL_TAB_COUNT);
+        }
+        if (!rc && a.val[OPT_GEOJSON]) {
+            /* every bus (not only --at's) and section with the study's figures */
+            kl_study_rows rows = { q.f, q.s, &q.view.ph, -1, &x.so, x.range_b };
+            kl_geojson_props buses = { &kl_table_study_buses, &rows };
+            kl_geojson_props sections = { &kl_table_study_sections, &rows };
+            rc = kl_cli_geojson(a.val[OPT_GEOJSON], q.f, &buses, &sections, NULL, NULL, NULL, KL_STUDY_CAUTION);
         }
     }
     kl_errors_free(&e);

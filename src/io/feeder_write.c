@@ -74,6 +74,28 @@ static void cons_name(const kl_feeder *f, int c, int r, char *buf, size_t n)
     }
 }
 
+/* What the buses' x and y are; nothing for plot units (the default).  x and
+ * y are written as read, so a local plane keeps the unit it was read with. */
+static void write_coordinates(FILE *o, const kl_coordinates *c)
+{
+    static const char *const units[] = {"m", "ft", "km", "mi"};
+    static const double metres[] = {1.0, 0.3048, 1000.0, 1609.344};
+    switch (c->system) {
+    case KL_COORD_PLOT: break;
+    case KL_COORD_LONLAT: fputs("coordinates: {system: lon/lat}\n", o); break;
+    case KL_COORD_EPSG: fprintf(o, "coordinates: {system: \"EPSG:%d\"}\n", c->epsg); break;
+    case KL_COORD_LOCAL: {
+        const char *u = "m";
+        for (int k = 0; k < 4; k++)
+            if (c->unit_m == metres[k])
+                u = units[k];
+        fprintf(o, "coordinates: {system: local, longitude: %.17g deg, latitude: %.17g deg, unit: %s}\n",
+                c->origin_lon_deg, c->origin_lat_deg, u);
+        break;
+    }
+    }
+}
+
 static void write_head(FILE *o, const kl_feeder *f)
 {
     const kl_source *s = &f->source;
@@ -89,6 +111,7 @@ static void write_head(FILE *o, const kl_feeder *f)
             f->radial ? "true" : "false");
     if (f->loading_warning > 0)
         fprintf(o, "loading_warning: %.17g\n", f->loading_warning);
+    write_coordinates(o, &f->coordinates);
     fputs("source:\n  bus: ", o);
     put_str(o, f->buses[s->bus].name);
     fprintf(o, "\n  nominal_voltage: %.17g V\n  frequency: %.17g Hz\n  regulated_voltage: %.17g pu\n"

@@ -191,6 +191,10 @@ void kl_ld_ref(kl_loader *L, int what, int elem, const char *name, int node, int
                const kl_names *table);
 
 void kl_ld_source(kl_loader *L, int map);
+/* loader_coordinates.c: the top-level `coordinates` mapping; and, once every
+ * bus is read, the buses' x and y against it (longitude and latitude ranges). */
+void kl_ld_coordinates(kl_loader *L, int map);
+void kl_ld_coordinates_check(kl_loader *L);
 void kl_ld_conductor(kl_loader *L, int map);
 void kl_ld_cable(kl_loader *L, int map);
 void kl_ld_layout(kl_loader *L, int map);

@@ -15,11 +15,11 @@
 
 enum { TK_VERSION, TK_NAME, TK_DESC, TK_UNITS, TK_RHO, TK_RADIAL, TK_SOURCE, TK_CONDUCTORS, TK_CABLES,
        TK_LAYOUTS, TK_CONSTRUCTIONS, TK_BUSES, TK_SECTIONS, TK_TRANSFORMERS, TK_REGULATORS, TK_LOADS,
-       TK_CAPACITORS, TK_LOADWARN, TK_COUNT };
+       TK_CAPACITORS, TK_LOADWARN, TK_COORDS, TK_COUNT };
 static const char *const top_keys[] = {"kilter-feeder", "name", "description", "units", "earth_resistivity",
                                        "radial", "source", "conductors", "cables", "layouts", "constructions",
                                        "buses", "sections", "transformers", "regulators", "loads",
-                                       "capacitors", "loading_warning", NULL};
+                                       "capacitors", "loading_warning", "coordinates", NULL};
 typedef void (*element_reader)(kl_loader *, int);
 static const element_reader list_readers[TK_COUNT] = {
     [TK_CONDUCTORS] = kl_ld_conductor, [TK_CABLES] = kl_ld_cable, [TK_LAYOUTS] = kl_ld_layout,
@@ -67,6 +67,9 @@ static void top_scalar(kl_loader *L, int k, int node)
         break;
     case TK_SOURCE:
         kl_ld_source(L, node);
+        break;
+    case TK_COORDS:
+        kl_ld_coordinates(L, node);
         break;
     case TK_LOADWARN:
         if (kl_ld_real(L, &fl, k, KL_Q_SHARE, &f->loading_warning, 0, KL_F_POS) == 0 && f->loading_warning > 1)
@@ -201,6 +204,7 @@ static void read_stream(kl_loader *L)
     if (kl_yreader_peek(L->r) == KL_YEV_DOC_START)
         expect(L, KL_YEV_STREAM_END, "a feeder file holds one YAML document: remove the second '---'");
     top_required(L, seen);
+    kl_ld_coordinates_check(L);
 }
 
 /* Each table names the elements of one array of the feeder, through the
