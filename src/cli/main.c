@@ -17,6 +17,7 @@ static const command commands[] = {
     {"flow", kl_cmd_flow, "unbalanced three-phase load flow"},
     {"study", kl_cmd_study, "unbalance study: sequence quantities, neutral current, limits"},
     {"rebalance", kl_cmd_rebalance, "suggest phase reassignments of loads"},
+    {"import", kl_cmd_import, "build a feeder file from CSV tables (GIS exports) and a library"},
 };
 #define NCOMMANDS (int)(sizeof commands / sizeof commands[0])
 

@@ -209,4 +209,24 @@ int kl_ld_bus_ref(kl_loader *L, int node, const char *key);
 void kl_ld_resolve(kl_loader *L);
 void kl_ld_topology(kl_loader *L);
 
+/* ---- csv_read.c: a CSV table (RFC 4180, one record a line) with the
+ * position of every field, for the feeder import. */
+typedef struct {
+    const char *text; /* the field, unquoted, NUL-terminated */
+    int line, col;    /* where it starts in the file, 1-based */
+} kl_csv_field;
+
+typedef struct {
+    const char *path;
+    char *text;             /* the file, split in place (owned) */
+    kl_csv_field *field;    /* [nfield] every field, header first (owned) */
+    int nfield, cap;
+    int *row_start;         /* [nrows + 2] first field of the header (0) and of data row r (r + 1) */
+    int row_cap;
+    int nrows;              /* data rows, the header not counted */
+} kl_csv;
+
+kl_status kl_csv_read(const char *path, kl_csv **out, kl_errors *err);
+void kl_csv_free(kl_csv *t);
+
 #endif

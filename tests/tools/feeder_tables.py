@@ -1,0 +1,130 @@
+#!/usr/bin/env python3
+"""Exports a kilter feeder file written one element a line (as the demo is) into
+the tables `kilter import` reads (docs/import.md), as a GIS would hand them over:
+buses.csv, sections.csv, loads.csv (a row per load and phase), capacitors.csv
+(a row per phase), and library.yaml, the file without those four lists.
+
+Usage: feeder_tables.py FEEDER OUTDIR
+
+Independent of kilter: a small reader of YAML flow mappings ({k: v, k: {..}},
+quoted or plain scalars), enough for files written one element a line."""
+import csv
+import os
+import re
+import sys
+
+TABLES = ("buses", "sections", "loads", "capacitors")
+
+
+def parse_flow(s, i=0):
+    """Parses a flow mapping at s[i] == '{'; returns (dict, index after it)."""
+    assert s[i] == "{", s[i:]
+    i += 1
+    out = {}
+    while True:
+        while s[i] == " ":
+            i += 1
+        if s[i] == "}":
+            return out, i + 1
+        j = s.index(":", i)
+        key = s[i:j].strip()
+        i = j + 1
+        while s[i] == " ":
+            i += 1
+        if s[i] == "{":
+            val, i = parse_flow(s, i)
+        elif s[i] == '"':
+            j = i + 1
+            buf = []
+            while s[j] != '"':
+                if s[j] == "\\":
+                    j += 1
+                buf.append(s[j])
+                j += 1
+            val, i = "".join(buf), j + 1
+        else:
+            j = i
+            while s[j] not in ",}":
+                j += 1
+            val, i = s[i:j].strip(), j
+        out[key] = val
+        while s[i] == " ":
+            i += 1
+        if s[i] == ",":
+            i += 1
+
+
+def number_unit(v, units):
+    m = re.fullmatch(r"([-+0-9.eE]+) *(\S*)", v)
+    assert m and m.group(2) in units, (v, units)
+    return m.group(1), m.group(2)
+
+
+def main():
+    feeder, outdir = sys.argv[1:3]
+    lines = open(feeder).read().split("\n")
+    library, items, current = [], {t: [] for t in TABLES}, None
+    for line in lines:
+        top = re.match(r"([a-z_-]+):", line)
+        if top:
+            current = top.group(1) if top.group(1) in TABLES else None
+        if current is None:
+            library.append(line)
+        elif line.startswith("  - {"):
+            items[current].append(parse_flow(line, 4)[0])
+        else:
+            assert top or not line.strip() or line.strip().startswith("#"), line
+    os.makedirs(outdir, exist_ok=True)
+    with open(os.path.join(outdir, "library.yaml"), "w") as f:
+        f.write("\n".join(library))
+
+    def table(name, head, rows):
+        with open(os.path.join(outdir, name + ".csv"), "w", newline="") as f:
+            w = csv.writer(f, lineterminator="\n")
+            w.writerow(head)
+            for r in rows:
+                w.writerow([r.get(h, "") for h in head])
+
+    table("buses", ["name", "x", "y", "description"], items["buses"])
+    sections = []
+    for s in items["sections"]:
+        r = {k: s[k] for k in ("name", "from", "to", "phases", "construction", "switch",
+                               "transformer", "regulator") if k in s}
+        if "length" in s:
+            n, u = number_unit(s["length"], ("ft",))
+            r["length_ft"] = n
+        sections.append(r)
+    table("sections", ["name", "from", "to", "phases", "length_ft", "construction", "switch",
+                       "transformer", "regulator"], sections)
+    loads = []
+    for ld in items["loads"]:
+        base = {k: ld[k] for k in ("name", "bus", "section", "connection", "model", "motor", "pinned",
+                                    "forbidden_phases", "move_cost", "description") if k in ld}
+        for k, col in (("impedance", "zip_impedance_pct"), ("current", "zip_current_pct"),
+                       ("power", "zip_power_pct")):
+            if "zip" in ld:
+                base[col] = number_unit(ld["zip"][k], ("%",))[0]
+        if "third_harmonic" in ld:
+            base["third_harmonic_pct"] = number_unit(ld["third_harmonic"], ("%",))[0]
+        for ph, v in ld["power"].items():
+            m = re.fullmatch(r"([-+0-9.eE]+) *([-+]) *j([0-9.eE]+) kVA", v)
+            assert m, v
+            loads.append(dict(base, phase=ph, kw=m.group(1),
+                              kvar=("-" if m.group(2) == "-" else "") + m.group(3)))
+    table("loads", ["name", "bus", "section", "connection", "model", "phase", "kw", "kvar",
+                    "zip_impedance_pct", "zip_current_pct", "zip_power_pct", "motor",
+                    "third_harmonic_pct", "pinned", "forbidden_phases", "move_cost", "description"], loads)
+    caps = []
+    for c in items["capacitors"]:
+        for ph, v in c["reactive_power"].items():
+            caps.append({"name": c["name"], "bus": c["bus"], "connection": c.get("connection", ""),
+                         "phase": ph, "kvar": number_unit(v, ("kvar",))[0]})
+        assert set(c) <= {"name", "bus", "connection", "reactive_power"}, c
+    table("capacitors", ["name", "bus", "connection", "phase", "kvar"], caps)
+    print("feeder_tables: %s: %d buses, %d sections, %d loads (%d rows), %d capacitors"
+          % (feeder, len(items["buses"]), len(sections), len(items["loads"]), len(loads),
+             len(items["capacitors"])))
+
+
+if __name__ == "__main__":
+    main()
