@@ -280,7 +280,12 @@ kl_status kl_table_xlsx(FILE *o, const kl_table_sheet *sheets, int n, kl_errors 
     lxw_workbook *wb = workbook_new_opt(path, &opt);
     sheet_cols *w = kl_malloc(sizeof *w);
     lxw_format *bold = wb ? workbook_add_format(wb) : NULL;
-    if (!wb || !w || !bold) {
+    if (!wb) {
+        /* libxlsxwriter says no more: its buffers, or its own temporary files */
+        kl_errors_add(err, path, 0, 0, NULL, "workbook: cannot start the workbook (out of memory, "
+                      "or no room for temporary files: set TMPDIR to a writable directory)");
+        st = KL_EIO;
+    } else if (!w || !bold) {
         kl_errors_add(err, NULL, 0, 0, NULL, "workbook: out of memory");
         st = KL_ENOMEM;
     } else {
