@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # kilter import: the demo feeder exported to tables by a reader of our own that does not use
-# kilter (tests/tools/feeder_tables.py: buses, sections, loads and capacitors as CSV, the rest
-# as the library) and imported back must be the same feeder: the feeder files kilter writes
+# kilter (tests/tools/feeder_tables.py: transformers, regulators, buses, sections, loads and
+# capacitors as CSV, the rest as the library) and imported back must be the same feeder: the feeder files kilter writes
 # of the two (rebalance --max-moves 0 --write-feeder, SI, 17 digits) are byte-identical, and
 # so are their study outputs.  Every problem in a table is located at its file, line and the
 # column of the cell (the loader's messages moved back from the generated text), and nothing
@@ -21,14 +21,16 @@ python3 "$src/tests/tools/feeder_tables.py" "$demo" "$t" >/dev/null || fail "exp
 imp() { # OUT [TABLE=PATH ...]: the demo's tables, some replaced
   local out=$1; shift
   local lib="$t/library.yaml" buses="$t/buses.csv" sections="$t/sections.csv" loads="$t/loads.csv" caps="$t/capacitors.csv"
+  local xfs="$t/transformers.csv" regs="$t/regulators.csv"
   for kv in "$@"; do
     case "$kv" in
       library=*) lib=${kv#*=} ;; buses=*) buses=${kv#*=} ;; sections=*) sections=${kv#*=} ;;
       loads=*) loads=${kv#*=} ;; capacitors=*) caps=${kv#*=} ;;
+      transformers=*) xfs=${kv#*=} ;; regulators=*) regs=${kv#*=} ;;
     esac
   done
-  "$kilter" import --library "$lib" --buses "$buses" --sections "$sections" --loads "$loads" \
-    --capacitors "$caps" -o "$out"
+  "$kilter" import --library "$lib" --transformers "$xfs" --regulators "$regs" --buses "$buses" \
+    --sections "$sections" --loads "$loads" --capacitors "$caps" -o "$out"
 }
 
 # The demo, rebuilt.
@@ -90,6 +92,14 @@ awk 'NR==4{sub(/,m03,/, ",m0\r3,")} {print}' "$t/sections.csv" >"$tmp/s3.csv"
 bad_import "a control character" sections="$tmp/s3.csv"
 c=$(awk 'NR==4{print index($0, "\r")}' "$tmp/s3.csv")
 located "$tmp/s3.csv" 4 "$c" "a control character (byte 0x0d)"
+
+# Equipment: a transformer's connection that is none, a regulator's step that is no number.
+setcell "$t/transformers.csv" "$tmp/x1.csv" brantle-1500 low_connection grounded-why
+bad_import "an unknown winding connection" transformers="$tmp/x1.csv"
+located "$tmp/x1.csv" "$l" "$c" 'transformer "brantle-1500": '
+setcell "$t/regulators.csv" "$tmp/r1.csv" reg-osier step_pct 0,625
+bad_import "a step that is no number" regulators="$tmp/r1.csv"
+located "$tmp/r1.csv" "$l" "$c" "'step_pct' is '0,625': expected a number"
 
 # A library that has a list a table gives: located at the library's line.
 { cat "$t/library.yaml"; printf '\nbuses:\n  - {name: extra}\n'; } >"$tmp/lib.yaml"

@@ -1,12 +1,13 @@
 /* kilter: a feeder file from tables, as a GIS exports them (kl_import_feeder).
  *
  * The network's topology and loads come as CSV tables with our own column
- * names (docs/import.md): buses (name, coordinates, description), sections
+ * names (docs/import.md): transformers and regulators (a row per bank, a
+ * column per setting), buses (name, coordinates, description), sections
  * (from, to, phases, length, construction, switch, transformer or regulator by
  * name), loads (a row per load and phase) and capacitors (a row per phase).
- * Everything the tables name (conductors, cables, layouts, constructions,
- * transformers, regulators) and the source come from a library: a feeder file
- * without those lists.  The feeder file written is the library followed by
+ * The rest (the source, conductors, cables, layouts, constructions, and any
+ * transformer or regulator not in a table) comes from a library: a feeder file
+ * without the lists the tables give.  The feeder file written is the library followed by
  * one line per element in table order, so two imports diff line by line. */
 #ifndef KILTER_IMPORT_H
 #define KILTER_IMPORT_H
@@ -16,7 +17,9 @@
 
 typedef struct {
     const char *library;    /* feeder file: the source, equipment and constructions (required) */
-    const char *buses;      /* CSV paths; NULL: no such table */
+    const char *transformers; /* CSV paths; NULL: no such table */
+    const char *regulators;
+    const char *buses;
     const char *sections;
     const char *loads;
     const char *capacitors;

@@ -33,10 +33,16 @@ void kl_cli_error(const char *fmt, ...)
 static void help(const char *cmd, const char *summary, const kl_cli_opt *opts, int nopts)
 {
     int i;
-    printf("usage: kilter %s [options] [FEEDER]\n\n%s\n\n", cmd, summary);
-    printf("FEEDER is a feeder file; without it the demo feeder is used:\n  %s\n\noptions:\n",
-           kl_cli_demo_path());
-    printf("  %-22s %s\n", "--format table|csv|json", "output format (default table)");
+    /* import writes a feeder file from tables: it reads no FEEDER and has one format */
+    int tables = strcmp(cmd, "import") == 0;
+    printf("usage: kilter %s [options]%s\n\n%s\n\n", cmd, tables ? "" : " [FEEDER]", summary);
+    if (tables)
+        printf("options:\n");
+    else {
+        printf("FEEDER is a feeder file; without it the demo feeder is used:\n  %s\n\noptions:\n",
+               kl_cli_demo_path());
+        printf("  %-22s %s\n", "--format table|csv|json", "output format (default table)");
+    }
     printf("  %-22s %s\n", "-o, --output FILE", "write the output to FILE (whole, or not at all)");
     for (i = 0; i < nopts; i++) {
         char left[64];

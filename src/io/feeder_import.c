@@ -30,7 +30,7 @@ typedef struct {
     origin *map;
     int nmap, map_cap;
     int lib_lines;          /* the library's lines: the text's first lines */
-    const char *path[5];    /* library, then the tables */
+    const char *path[7];    /* library, then the tables (TB_*) */
     int nomem;
 } text;
 
@@ -121,14 +121,15 @@ static void put_scalar(text *t, const char *s)
 
 /* ---- the tables' columns */
 
-enum { TB_BUSES = 1, TB_SECTIONS, TB_LOADS, TB_CAPACITORS };
+/* In the order written: the equipment first, as a feeder file lists it. */
+enum { TB_TRANSFORMERS = 1, TB_REGULATORS, TB_BUSES, TB_SECTIONS, TB_LOADS, TB_CAPACITORS, TB_COUNT };
 
 typedef struct {
     const char *name;
     int required;
 } column;
 
-#define MAXCOL 20
+#define MAXCOL 24
 
 typedef struct {
     const kl_csv *csv;
@@ -459,6 +460,104 @@ static int import_capacitors(text *t, table *tb, kl_errors *err)
     return bad ? -1 : 0;
 }
 
+/* ---- equipment: a column per key, a number's unit in the column's name */
+
+typedef struct {
+    const char *col;    /* the column */
+    const char *key;    /* the feeder file's key; "high.voltage": key voltage in mapping high */
+    const char *unit;   /* written after a number ("kVA", "%"); NULL: the cell as a word or text */
+    int required;
+} key_col;
+
+static const key_col xf_cols[] = {
+    {"name", "name", NULL, 1}, {"rating_kva", "rating", "kVA", 1},
+    {"high_kv", "high.voltage", "kV", 1}, {"high_connection", "high.connection", NULL, 1},
+    {"low_kv", "low.voltage", "kV", 1}, {"low_connection", "low.connection", NULL, 1},
+    {"connection", "connection", NULL, 0},
+    {"resistance_pct", "resistance", "%", 1}, {"reactance_pct", "reactance", "%", 1},
+    {"no_load_loss_pct", "no_load_loss", "%", 0}, {"emergency_rating_kva", "emergency_rating", "kVA", 0},
+    {NULL, NULL, NULL, 0}};
+static const key_col reg_cols[] = {
+    {"name", "name", NULL, 1}, {"connection", "connection", NULL, 0}, {"phases", "phases", NULL, 0},
+    {"control", "control", NULL, 0}, {"tap_a", "taps.a", "", 0}, {"tap_b", "taps.b", "", 0},
+    {"tap_c", "taps.c", "", 0}, {"steps", "steps", "", 0}, {"step_pct", "step", "%", 0},
+    {"voltage_level_v", "voltage_level", "V", 0}, {"bandwidth_v", "bandwidth", "V", 0},
+    {"pt_ratio", "pt_ratio", "", 0}, {"ct_primary_a", "ct_primary", "A", 0},
+    {"compensator_r_v", "compensator_r", "V", 0}, {"compensator_x_v", "compensator_x", "V", 0},
+    {"monitored", "monitored", NULL, 0}, {"rated_current_a", "rated_current", "A", 0},
+    {"emergency_current_a", "emergency_current", "A", 0}, {NULL, NULL, NULL, 0}};
+
+/* The key_col list as the header's column list. */
+static void key_columns(const key_col *kc, column *out)
+{
+    int n = 0;
+    for (; kc[n].col; n++)
+        out[n] = (column){ kc[n].col, kc[n].required };
+    out[n] = (column){ NULL, 0 };
+}
+
+/* One row: the keys in list order, consecutive "m.k" keys in one mapping m. */
+static int equipment_row(text *t, const table *tb, const key_col *kc, int r, kl_errors *err)
+{
+    int bad = 0, first = 1;
+    const char *open = NULL; /* the mapping being written, NULL none */
+    size_t open_len = 0;
+    row_open(t, tb, r);
+    for (int k = 0; kc[k].col; k++) {
+        const kl_csv_field *f = cell(tb, r, k, err);
+        if (!f)
+            continue;
+        const char *dot = strchr(kc[k].key, '.');
+        size_t plen = dot ? (size_t)(dot - kc[k].key) : 0;
+        if (open && (!dot || plen != open_len || strncmp(open, kc[k].key, plen) != 0)) {
+            put(t, "}"); /* the mapping ends where its keys do */
+            open = NULL;
+        }
+        if (kc[k].unit)
+            bad |= !number_ok(tb, f, kc[k].col, err);
+        if (dot && !open) {
+            putf(t, "%s%.*s: {", first ? "" : ", ", (int)plen, kc[k].key);
+            open = kc[k].key;
+            open_len = plen;
+            first = 1;
+        }
+        putf(t, "%s%s: ", first ? "" : ", ", dot ? dot + 1 : kc[k].key);
+        first = 0;
+        mark(t, tb->table, f);
+        if (kc[k].unit)
+            putf(t, "%s%s%s", f->text, kc[k].unit[0] ? " " : "", kc[k].unit);
+        else
+            put_scalar(t, f->text);
+    }
+    if (open)
+        put(t, "}");
+    put(t, "}\n");
+    return bad ? -1 : 0;
+}
+
+static int import_equipment(text *t, table *tb, const key_col *kc, const char *list, kl_errors *err)
+{
+    column cols[MAXCOL + 1];
+    key_columns(kc, cols);
+    if (read_header(tb, cols, err) < 0)
+        return -1;
+    putf(t, "%s:\n", list);
+    int bad = 0;
+    for (int r = 0; r < tb->csv->nrows; r++)
+        bad |= equipment_row(t, tb, kc, r, err) < 0;
+    return bad ? -1 : 0;
+}
+
+static int import_transformers(text *t, table *tb, kl_errors *err)
+{
+    return import_equipment(t, tb, xf_cols, "transformers", err);
+}
+
+static int import_regulators(text *t, table *tb, kl_errors *err)
+{
+    return import_equipment(t, tb, reg_cols, "regulators", err);
+}
+
 /* ---- the library, and the loader's messages moved back */
 
 /* The library's text; a top-level list a table gives is an error at its line. */
@@ -472,11 +571,13 @@ static int copy_library(text *t, const kl_import_tables *in, kl_errors *err)
     }
     char line[4096];
     int n = 0, bad = 0;
-    static const char *const given[4] = { "buses:", "sections:", "loads:", "capacitors:" };
-    const char *paths[4] = { in->buses, in->sections, in->loads, in->capacitors };
+    static const char *const given[6] = { "transformers:", "regulators:", "buses:", "sections:",
+                                          "loads:", "capacitors:" };
+    const char *paths[6] = { in->transformers, in->regulators, in->buses, in->sections, in->loads,
+                             in->capacitors };
     while (fgets(line, sizeof line, f)) {
         n++;
-        for (int k = 0; k < 4; k++)
+        for (int k = 0; k < 6; k++)
             if (paths[k] && strncmp(line, given[k], strlen(given[k])) == 0) {
                 kl_errors_add(err, in->library, n, 1, NULL, "the library has '%s' and the table %s "
                               "gives them too: remove the list from the library", given[k], paths[k]);
@@ -533,14 +634,16 @@ kl_status kl_import_feeder(FILE *o, const kl_import_tables *in, kl_errors *err)
     text t;
     memset(&t, 0, sizeof t);
     t.line = t.col = 1;
-    const char *paths[5] = { in->library, in->buses, in->sections, in->loads, in->capacitors };
-    static const importer run[5] = { NULL, import_buses, import_sections, import_loads, import_capacitors };
+    const char *paths[TB_COUNT] = { in->library, in->transformers, in->regulators, in->buses,
+                                    in->sections, in->loads, in->capacitors };
+    static const importer run[TB_COUNT] = { NULL, import_transformers, import_regulators, import_buses,
+                                            import_sections, import_loads, import_capacitors };
     memcpy(t.path, paths, sizeof paths);
     kl_status st = KL_OK;
     int bad = copy_library(&t, in, err) < 0;
     if (!bad)
         put(&t, "# ---- from the tables (kilter import)\n");
-    for (int k = 1; k < 5 && !st; k++) {
+    for (int k = 1; k < TB_COUNT && !st; k++) {
         if (!paths[k])
             continue;
         kl_csv *csv = NULL;
