@@ -93,6 +93,13 @@ bad_import "a control character" sections="$tmp/s3.csv"
 c=$(awk 'NR==4{print index($0, "\r")}' "$tmp/s3.csv")
 located "$tmp/s3.csv" 4 "$c" "a control character (byte 0x0d)"
 
+# A line far shorter than the distance between its buses (the demo's coordinates): written,
+# with a warning at the section's row.
+setcell "$t/sections.csv" "$tmp/s4.csv" m03-m04 length_ft 500
+imp "$tmp/w.yaml" sections="$tmp/s4.csv" 2>"$tmp/err" || { cat "$tmp/err"; fail "import with a short line"; }
+located "$tmp/s4.csv" "$l" 1 'warning: section "m03-m04": length 152 m is 48 % of the straight distance'
+[ -s "$tmp/w.yaml" ] || fail "the feeder with a warning was not written"
+
 # Equipment: a transformer's connection that is none, a regulator's step that is no number.
 setcell "$t/transformers.csv" "$tmp/x1.csv" brantle-1500 low_connection grounded-why
 bad_import "an unknown winding connection" transformers="$tmp/x1.csv"

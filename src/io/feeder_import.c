@@ -12,6 +12,7 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include "kilter/geo.h"
 #include "kilter/import.h"
 #include "kl_io.h"
 
@@ -625,6 +626,30 @@ static void move_back(const text *t, const kl_error_item *it, kl_errors *err)
         kl_errors_add(err, file, line, col, it->element[0] ? it->element : NULL, "%s", it->message);
 }
 
+/* With the buses placed on Earth, each line's length against the distance
+ * between its buses (kilter/geo.h): warnings, at the section's row.  KL_EINPUT
+ * when the coordinates do not convert (an EPSG code PROJ does not hold). */
+static kl_status geo_lengths(const kl_feeder *f, kl_errors *sub)
+{
+    if (f->coordinates.system == KL_COORD_PLOT)
+        return KL_OK;
+    size_t nb = (size_t)f->nbuses + 1;
+    double *lon = kl_malloc(nb * sizeof *lon), *lat = kl_malloc(nb * sizeof *lat);
+    double *dist = kl_malloc(((size_t)f->nsections + 1) * sizeof *dist);
+    kl_status st = lon && lat && dist ? KL_OK : KL_ENOMEM;
+    int local = f->coordinates.system == KL_COORD_LOCAL;
+    if (!st && !local)
+        st = kl_geo_lonlat(f, lon, lat, sub);
+    if (!st) {
+        kl_geo_section_distances(f, local ? NULL : lon, local ? NULL : lat, dist);
+        kl_geo_check_lengths(f, dist, sub);
+    }
+    kl_free(lon);
+    kl_free(lat);
+    kl_free(dist);
+    return st;
+}
+
 typedef int (*importer)(text *, table *, kl_errors *);
 
 kl_status kl_import_feeder(FILE *o, const kl_import_tables *in, kl_errors *err)
@@ -666,6 +691,8 @@ kl_status kl_import_feeder(FILE *o, const kl_import_tables *in, kl_errors *err)
         kl_errors_init(&sub);
         kl_feeder *f = NULL;
         kl_status ls = kl_feeder_load_buffer(t.buf, t.len, "import", &f, &sub);
+        if (ls == KL_OK)
+            ls = geo_lengths(f, &sub);
         for (int i = 0; i < sub.count; i++)
             move_back(&t, &sub.items[i], err);
         kl_errors_free(&sub);
