@@ -9,6 +9,7 @@
 #include <string.h>
 #include "kilter/feeder.h"
 #include "kilter/geo.h"
+#include "kl_base.h"
 
 /* IOGP Publication 373-7-2 (EPSG Guidance Note 7-2), Transverse Mercator worked
  * example, OSGB 1936 / British National Grid: latitude 50d30'00"N, longitude
@@ -197,6 +198,34 @@ START_TEST(unknown_epsg_code_located)
 }
 END_TEST
 
+/* Every allocation of the conversion failing in turn: KL_ENOMEM, whatever
+ * room the caller's record has. */
+START_TEST(allocation_failures)
+{
+    kl_errors err;
+    kl_errors_init(&err);
+    kl_feeder *f = load(FEEDER("coordinates: {system: \"EPSG:32631\"}\n",
+                               "  - {name: s, x: 500000, y: 0}\n  - {name: b, x: 500000, y: 1000}\n",
+                               "  - {from: s, to: b, length: 1000 m, construction: k1}\n"), &err);
+    ck_assert_ptr_nonnull(f);
+    double lon[3], lat[3];
+    long n0 = kl_alloc_count();
+    ck_assert_int_eq(kl_geo_lonlat(f, lon, lat, &err), KL_OK);
+    long total = kl_alloc_count() - n0;
+    ck_assert_int_ge(total, 3); /* the loop below tries each of them */
+    kl_errors_add(&err, NULL, 0, 0, NULL, "room");
+    for (long n = 0; n < total; n++) {
+        kl_errors_clear(&err);
+        kl_alloc_fail_after(n);
+        kl_status st = kl_geo_lonlat(f, lon, lat, &err);
+        kl_alloc_fail_after(-1);
+        ck_assert_msg(st == KL_ENOMEM, "allocation %ld of %ld failed but status %d", n, total, (int)st);
+    }
+    kl_feeder_free(f);
+    kl_errors_free(&err);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("geo");
@@ -210,6 +239,7 @@ int main(void)
     tcase_add_test(tc, plot_units_do_not_convert);
     tcase_add_test(tc, loader_messages);
     tcase_add_test(tc, unknown_epsg_code_located);
+    tcase_add_test(tc, allocation_failures);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

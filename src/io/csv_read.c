@@ -99,9 +99,11 @@ static kl_status split_line(kl_csv *t, char *s, int line, kl_errors *err)
     }
 }
 
-static char *read_all(const char *path, size_t *len, kl_errors *err)
+/* The file's bytes, NUL-terminated; NULL with *st KL_EIO or KL_ENOMEM. */
+static char *read_all(const char *path, size_t *len, kl_status *st, kl_errors *err)
 {
     FILE *in = fopen(path, "rb");
+    *st = KL_EIO;
     if (!in) {
         kl_errors_add(err, path, 0, 0, NULL, "cannot open the table: check the path");
         return NULL;
@@ -124,15 +126,18 @@ static char *read_all(const char *path, size_t *len, kl_errors *err)
     }
     int bad = ferror(in);
     fclose(in);
-    if (!buf)
+    if (!buf) {
         kl_errors_add(err, path, 0, 0, NULL, "out of memory reading the table");
-    else if (bad) {
+        *st = KL_ENOMEM;
+    } else if (bad) {
         kl_errors_add(err, path, 0, 0, NULL, "cannot read the table");
         kl_free(buf);
         return NULL;
     }
-    if (buf)
+    if (buf) {
         buf[n] = '\0';
+        *st = KL_OK;
+    }
     *len = n;
     return buf;
 }
@@ -145,10 +150,11 @@ kl_status kl_csv_read(const char *path, kl_csv **out, kl_errors *err)
         return KL_ENOMEM;
     t->path = path;
     size_t len = 0;
-    t->text = read_all(path, &len, err);
+    kl_status rs;
+    t->text = read_all(path, &len, &rs, err);
     if (!t->text) {
         kl_csv_free(t);
-        return err && err->count ? KL_EIO : KL_ENOMEM;
+        return rs;
     }
     if (memchr(t->text, '\0', len)) {
         kl_errors_add(err, path, 0, 0, NULL, "the table holds a NUL byte: it is not a text CSV file");
