@@ -19,6 +19,7 @@
 #include "kilter/feeder.h"
 #include "kilter/flow.h"
 #include "kilter/rebalance.h"
+#include "kilter/series.h"
 #include "kilter/study.h"
 
 typedef enum { KL_TABLE_TEXT = 0, KL_TABLE_CSV = 1, KL_TABLE_JSON = 2, KL_TABLE_HTML = 3 } kl_table_format;
@@ -214,5 +215,17 @@ typedef struct {
 extern const kl_table kl_table_plan_steps;  /* text and HTML: set level; CSV and JSON: -1 */
 extern const kl_table kl_table_plan_levels; /* JSON members of one level's summary */
 extern const kl_table kl_table_plan_items;  /* text: the movable items */
+
+/* ---- the series' tables (table_series.c); docs/series.md */
+typedef struct {
+    const kl_feeder *feeder;
+    const kl_series_stats *stats;
+} kl_series_rows;
+extern const kl_table kl_table_series_unbalance;  /* three-phase buses: VUF over time */
+extern const kl_table kl_table_series_voltage;    /* bus phases: service voltage over time */
+extern const kl_table kl_table_series_sections;   /* neutral and earth current, losses */
+extern const kl_table kl_table_series_regulators; /* tap operations per unit */
+extern const kl_table kl_table_series_capacitors; /* switchings and hours in service per bank */
+extern const kl_table kl_table_series_failures;   /* steps that did not converge */
 
 #endif

@@ -18,6 +18,7 @@ static const command commands[] = {
     {"study", kl_cmd_study, "unbalance study: sequence quantities, neutral current, limits"},
     {"rebalance", kl_cmd_rebalance, "suggest phase reassignments of loads"},
     {"import", kl_cmd_import, "build a feeder file from CSV tables (GIS exports) and a library"},
+    {"series", kl_cmd_series, "unbalance over time: a load flow per step of the load shapes"},
 };
 #define NCOMMANDS (int)(sizeof commands / sizeof commands[0])
 

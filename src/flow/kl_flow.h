@@ -68,6 +68,11 @@ int kl_diverge_hint(const struct kl_network *net, double low_pu, double worst, c
                     size_t len);
 /* Builds net->parts from the network loads and capacitors (kl_network_build). */
 kl_status kl_load_parts_build(struct kl_network *net);
+/* The load model's records again from the feeder's present load powers
+ * (kl_load.s_va) and capacitor ratings (q_var), in place, without
+ * allocating: start is workspace of nbuses + 1 ints.  What a series of load
+ * flows calls between steps. */
+void kl_load_parts_repower(struct kl_network *net, int *start);
 /* Actual powers at the present voltages into res->s_load, q_cap, s_loads. */
 void kl_load_powers(const struct kl_network *net, double scale, struct kl_flow_result *res);
 

@@ -248,6 +248,19 @@ kl_status kl_load_parts_build(kl_network *n)
     return KL_OK;
 }
 
+void kl_load_parts_repower(kl_network *n, int *start)
+{
+    /* the parts' number and order follow from the phases, connections and
+     * ZIP fractions alone (load_nparts, cap_nparts), not from the powers: the
+     * same counting sort refills them in place with the new coefficients */
+    parts_count(n, start, 0);
+    parts_fill(n, n->parts, start, 0);
+    parts_count(n, start, 1);
+    parts_fill(n, n->parts + n->nparts, start, 1);
+    parts_check(n);
+    n->parts_stale = 0;
+}
+
 void kl_load_parts_moved(kl_network *n)
 {
     n->parts_stale = 1;

@@ -190,6 +190,34 @@ int kl_ld_suggest(const char *word, const char *const *names, int n);
 void kl_ld_ref(kl_loader *L, int what, int elem, const char *name, int node, int *target,
                const kl_names *table);
 
+/* ---- csv_stream.c: comma-separated values streamed row by row, each field
+ * with its column (for located messages), copied unquoted into buf: for
+ * interval data (load shapes, meter readings), whose files may hold millions
+ * of rows that need not be in memory as fields at once (csv_read.c keeps a
+ * whole table's fields, for the feeder import). */
+#define KL_CSV_STREAM_MAX_FIELDS 64
+typedef struct {
+    const char *text;  /* NUL-terminated 1-based column col */
+    int col;
+} kl_csv_cell;
+typedef struct {
+    const char *text;
+    size_t len, at;
+    const char *file;
+    kl_errors *err;
+    int line, next_line;      /* line of the present row (1-based) */
+    int nfields;
+    kl_csv_cell f[KL_CSV_STREAM_MAX_FIELDS];
+    char buf[4096];
+} kl_csv_stream;
+/* Reads a whole file (at most max_bytes) into *text (NUL-terminated, the
+ * caller frees it with kl_free). */
+kl_status kl_csv_stream_file(const char *path, size_t max_bytes, char **text, size_t *len, kl_errors *err);
+void kl_csv_stream_init(kl_csv_stream *c, const char *text, size_t len, const char *file, kl_errors *err);
+/* The next row that is not blank or a '#' note: 1, 0 at the end, -1 after a
+ * located message in err. */
+int kl_csv_stream_row(kl_csv_stream *c);
+
 void kl_ld_source(kl_loader *L, int map);
 /* loader_coordinates.c: the top-level `coordinates` mapping; and, once every
  * bus is read, the buses' x and y against it (longitude and latitude ranges). */
