@@ -76,6 +76,18 @@ grep -q '^cap-675,time,3,5.000000$' "$work/caps.out" || fail "capacitors: $(cat 
 "$kilter" series "$ieee13" --shapes "$work/flat.csv" --meters "$work/meters.csv" --format json \
     -o "$work/m.json" 2>"$work/err" || { fail "meters exited $?"; cat "$work/err"; }
 
+# a rooftop system at half output all day: -100 kW on 675 a, a tenth of the total input energy gone
+printf 'name,bus,phase,kw,power_factor,shape,control\npv-1,675,a,200,1,half,constant-pf\n' >"$work/pv.csv"
+{ echo "time,flat,half"; for h in 00 01 02 03 04 05 06 07 08 09 10 11; do echo "2026-07-06T$h:00+10:00,1,0.5"; done; } >"$work/pvshapes.csv"
+"$kilter" series "$ieee13" --shapes "$work/pvshapes.csv" --shape flat --format json -o "$work/pv0.json" 2>"$work/err" ||
+    fail "no PV exited $?"
+"$kilter" series "$ieee13" --shapes "$work/pvshapes.csv" --shape flat --generators "$work/pv.csv" --format json \
+    -o "$work/pv1.json" 2>"$work/err" || { fail "PV exited $?"; cat "$work/err"; }
+python3 -c 'import json, sys
+a = json.load(open(sys.argv[1]))["summary"]["input_kwh"][0]; b = json.load(open(sys.argv[2]))["summary"]["input_kwh"][0]
+assert 1100 < a - b < 1400, (a, b)  # 12 h x 100 kW, give or take the losses and voltage-dependent loads it changes' "$work/pv0.json" "$work/pv1.json" ||
+    fail "PV: phase a input should fall by about the 1200 kWh it generates"
+
 # 3. bad inputs: located, exit 2, nothing written
 printf 'time,flat\n2026-07-06T00:00,1\n2026-07-06T01:00,1\n' >"$work/nooffset.csv"
 "$kilter" series "$ieee13" --shapes "$work/nooffset.csv" --shape flat -o "$work/none.txt" 2>"$work/err"

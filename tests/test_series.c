@@ -779,6 +779,132 @@ START_TEST(capacitor_controls_by_hand)
 }
 END_TEST
 
+/* ---- rooftop photovoltaic systems */
+
+/* IEEE Std 1547-2018 Table 8, Category B default volt-var points (from
+ * memory): 0.92 / +44 %, 0.98 / 0, 1.02 / 0, 1.08 / -44 %, linear between. */
+START_TEST(volt_var_curve_points)
+{
+    ck_assert_double_eq_tol(kl_series_volt_var(0.90), 0.44, 1e-12);
+    ck_assert_double_eq_tol(kl_series_volt_var(0.92), 0.44, 1e-12);
+    ck_assert_double_eq_tol(kl_series_volt_var(0.95), 0.22, 1e-12);
+    ck_assert_double_eq_tol(kl_series_volt_var(1.00), 0.0, 1e-12);
+    ck_assert_double_eq_tol(kl_series_volt_var(1.05), -0.22, 1e-12);
+    ck_assert_double_eq_tol(kl_series_volt_var(1.10), -0.44, 1e-12);
+}
+END_TEST
+
+typedef struct {
+    int load, bus, ph;
+    kl_complex s[4];
+    double v[4];
+} gen_record;
+
+static void keep_gen(void *ctx, int step, kl_time t, const kl_flow_result *res, int solved)
+{
+    gen_record *r = ctx;
+    (void)t;
+    ck_assert(solved);
+    r->s[step] = res->s_load[3 * r->load + r->ph];
+    r->v[step] = cabs(res->v[3 * r->bus + r->ph]) / res->v_base_ln[r->bus];
+}
+
+static void run_gen(const char *gens, gen_record *r)
+{
+    harness h;
+    harness_init(&h);
+    HARNESS_OK(&h, harness_load(&h, IEEE13));
+    HARNESS_OK(&h, harness_derive(&h, KL_CARSON_FULL));
+    const char *shapes = "time,solar,rest\n2026-07-06T10:00Z,0.5,1\n2026-07-06T11:00Z,1,1\n"
+                         "2026-07-06T12:00Z,0,1\n2026-07-06T13:00Z,0.8,1\n";
+    kl_shapes sh;
+    kl_series_generators g;
+    kl_series_plan p;
+    kl_series_stats *st;
+    ck_assert_int_eq(kl_shapes_read_buffer(shapes, strlen(shapes), "s.csv", &sh, &h.err), KL_OK);
+    int n0 = h.f->nloads;
+    HARNESS_OK(&h, kl_series_generators_read_buffer(&g, h.f, &sh, gens, strlen(gens), "g.csv", &h.err));
+    ck_assert_int_eq(h.f->nloads, n0 + 1);
+    HARNESS_OK(&h, harness_build(&h));
+    HARNESS_OK(&h, harness_result(&h));
+    ck_assert_int_eq(kl_series_plan_init(&p, h.f, &sh, &h.err), KL_OK);
+    ck_assert_int_eq(kl_series_plan_generators(&p, &g), KL_OK);
+    ck_assert_int_eq(kl_series_plan_default(&p, h.f, "rest", &h.err), KL_OK);
+    ck_assert_int_eq(p.load_shape[n0], 0); /* the generator keeps its own shape */
+    r->load = n0;
+    r->bus = h.f->loads[n0].bus;
+    r->ph = h.f->loads[n0].phases == 1 ? 0 : h.f->loads[n0].phases == 2 ? 1 : 2;
+    kl_series_options so;
+    kl_series_options_default(&so);
+    so.on_step = keep_gen;
+    so.ctx = r;
+    HARNESS_OK(&h, kl_series_run(h.f, h.net, &p, &so, h.res, &st, &h.err));
+    kl_series_stats_free(st);
+    kl_series_plan_free(&p);
+    kl_shapes_free(&sh);
+    harness_free(&h);
+    kl_series_generators_free(&g);
+}
+
+START_TEST(rooftop_pv_as_negative_load)
+{
+    /* 100 kW at 0.95 absorbing on 675 phase a: at half output -50 kW and
+     * +50 tan(acos 0.95) = 16.434 kvar drawn (by hand) */
+    gen_record r = {0};
+    run_gen("name,bus,phase,kw,power_factor,shape,control\npv-1,675,a,100,0.95 absorbing,solar,constant-pf\n", &r);
+    double tanphi = sqrt(1 - 0.95 * 0.95) / 0.95;
+    const double out[4] = {0.5, 1, 0, 0.8};
+    for (int i = 0; i < 4; i++) {
+        ck_assert_double_eq_tol(creal(r.s[i]), -100e3 * out[i], 1e-6);
+        ck_assert_double_eq_tol(cimag(r.s[i]), 100e3 * out[i] * tanphi, 1e-6);
+    }
+    /* volt-var: 300 kW at 611 c (published 0.9738 pu, under the curve's 0.98);
+     * the reactive power settles on the curve at the voltage the step ends
+     * with (within 1e-3 of the nameplate) */
+    gen_record v = {0};
+    run_gen("name,bus,phase,kw,power_factor,shape,control\npv-2,611,c,300,1,solar,volt-var\n", &v);
+    for (int i = 0; i < 4; i++) {
+        ck_assert_double_eq_tol(creal(v.s[i]), -300e3 * out[i], 1e-6);
+        ck_assert_double_eq_tol(-cimag(v.s[i]) / 300e3, kl_series_volt_var(v.v[i]), 1e-3);
+    }
+    ck_assert(fabs(cimag(v.s[2])) > 1e3); /* at no output 611 c is low: the curve acts */
+}
+END_TEST
+
+START_TEST(bad_generators_are_located)
+{
+    harness h;
+    harness_init(&h);
+    HARNESS_OK(&h, harness_load(&h, IEEE13));
+    const char *shapes = "time,solar\n2026-07-06T10:00Z,0.5\n2026-07-06T11:00Z,1\n";
+    kl_shapes sh;
+    kl_series_generators g;
+    ck_assert_int_eq(kl_shapes_read_buffer(shapes, strlen(shapes), "s.csv", &sh, &h.err), KL_OK);
+    int n0 = h.f->nloads;
+    const char *bad = "name,bus,phase,kw,power_factor,shape,control\n"
+                      "pv-1,611,a,5,1,solar,constant-pf\n"        /* 611 has phase c only */
+                      "pv-2,675,b,5,0.9,solar,constant-pf\n"      /* which way? */
+                      "pv-3,675,b,5,1,moon,constant-pf\n"
+                      "pv-4,675,b,5,1,solar,droop\n"
+                      "pv-5,nowhere,b,5,1,solar,volt-var\n"
+                      "pv-6,675,b,0,1,solar,volt-var\n";
+    kl_errors e;
+    kl_errors_init(&e);
+    ck_assert_int_eq(kl_series_generators_read_buffer(&g, h.f, &sh, bad, strlen(bad), "g.csv", &e),
+                     KL_EINPUT);
+    ck_assert_int_eq(e.count, 6);
+    const int col[6] = {10, 14, 16, 22, 6, 12};
+    for (int k = 0; k < 6; k++)
+        ck_assert_msg(e.items[k].line == k + 2 && e.items[k].col == col[k], "%d: %d:%d %s", k,
+                      e.items[k].line, e.items[k].col, e.items[k].message);
+    ck_assert_ptr_nonnull(strstr(e.items[1].message, "absorbing or injecting"));
+    ck_assert_int_eq(h.f->nloads, n0); /* the feeder as it was */
+    kl_errors_free(&e);
+    kl_shapes_free(&sh);
+    harness_free(&h);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("series");
@@ -796,6 +922,9 @@ int main(void)
     tcase_add_test(tc, bad_assignments_are_located);
     tcase_add_test(tc, metered_load_follows_its_meters);
     tcase_add_test(tc, capacitor_controls_by_hand);
+    tcase_add_test(tc, volt_var_curve_points);
+    tcase_add_test(tc, rooftop_pv_as_negative_load);
+    tcase_add_test(tc, bad_generators_are_located);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

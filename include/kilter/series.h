@@ -85,6 +85,8 @@ typedef struct {
     double delay_s;           /* the condition must hold this long before the bank switches */
 } kl_series_cap_control;
 
+struct kl_series_generators;
+
 /* ---- series_plan.c: which shape (or which meters) drive each load. */
 typedef struct {
     const kl_shapes *shapes;  /* not owned; must outlive the plan */
@@ -97,6 +99,7 @@ typedef struct {
     double *meter_var;        /* [nsteps * nmetered] reactive power, var (meter_has_q) */
     int meter_has_q;          /* 0: the loads keep their power factor */
     kl_series_cap_control *cap_ctl; /* [ncapacitors] switched banks; NULL: every bank fixed */
+    const struct kl_series_generators *gens; /* rooftop PV (not owned); NULL: none */
 } kl_series_plan;
 
 /* Every load held at its power (no shape). */
@@ -142,6 +145,36 @@ kl_status kl_series_controls_read_buffer(kl_series_plan *p, const kl_feeder *f, 
  * base; var, the reactive power into the section feeding its bus. */
 int kl_series_cap_wants(const kl_series_cap_control *x, int on, const kl_feeder *f,
                         const kl_flow_result *res, int c, kl_time t, int offset_s);
+
+/* ---- series_generators.c: single-phase rooftop photovoltaic systems, each
+ * appended to the feeder as a wye constant-power load of -P on its phase
+ * (so every load-flow result lists it among the loads) with its own shape,
+ * per unit of its ac nameplate.
+ *   name,bus,phase,kw,power_factor,shape,control
+ * power_factor: 1, or below 1 followed by absorbing or injecting; control:
+ * constant-pf, or volt-var (the IEEE Std 1547-2018 Category B default curve,
+ * kl_series_volt_var, the power factor then unused).  Read after the shapes
+ * and before the network is built and the plan made. */
+typedef struct kl_series_generators {
+    int n;
+    char **name;              /* [n] (owned; the appended loads point at them) */
+    int *load;                /* [n] the feeder load it was appended as */
+    int *shape;               /* [n] shape column */
+    double *kva;              /* [n] ac nameplate, W (and VA) */
+    unsigned char *volt_var;  /* [n] 1: volt-var control */
+} kl_series_generators;
+
+kl_status kl_series_generators_read(kl_series_generators *g, kl_feeder *f, const kl_shapes *sh,
+                                    const char *path, kl_errors *err);
+kl_status kl_series_generators_read_buffer(kl_series_generators *g, kl_feeder *f,
+                                           const kl_shapes *sh, const char *text, size_t len,
+                                           const char *name, kl_errors *err);
+void kl_series_generators_free(kl_series_generators *g);
+/* The generators' shapes into the plan (before the feeder-wide default). */
+kl_status kl_series_plan_generators(kl_series_plan *p, const kl_series_generators *g);
+/* Reactive power per unit of nameplate, + injecting, at the terminal voltage
+ * v_pu on the IEEE Std 1547-2018 Category B default volt-var curve. */
+double kl_series_volt_var(double v_pu);
 
 /* ---- series_stats.c: the running statistics. */
 

@@ -18,7 +18,7 @@
 #include "study_print.h"
 
 enum {
-    OPT_SHAPES, OPT_ASSIGN, OPT_SHAPE, OPT_METERS, OPT_CAPS, OPT_TABLE, OPT_RECORD, OPT_RECORD_FILE, OPT_WINDOW,
+    OPT_SHAPES, OPT_ASSIGN, OPT_SHAPE, OPT_METERS, OPT_GENS, OPT_CAPS, OPT_TABLE, OPT_RECORD, OPT_RECORD_FILE, OPT_WINDOW,
     OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, OPT_HTML, NOPTS
 };
 
@@ -30,6 +30,8 @@ static const kl_cli_opt opts[NOPTS] = {
     {"shape", 1, "NAME", "the shape of every load not otherwise given one"},
     {"meters", 1, "FILE", "interval meter data CSV: meter,load,time,kwh (or kw), optionally kvarh "
      "(or kvar); a metered load follows its meters"},
+    {"generators", 1, "FILE", "single-phase rooftop PV: CSV name,bus,phase,kw,power_factor,shape,"
+     "control (constant-pf or volt-var, IEEE Std 1547-2018 Category B default curve)"},
     {"capacitor-control", 1, "FILE", "switched banks: CSV capacitor,control,on,off,delay_s "
      "(control voltage, var or time)"},
     {"table", 1, "unbalance|voltage|sections|regulators|capacitors|failures",
@@ -323,12 +325,18 @@ static int emit(const kl_cli_args *a, const kl_feeder *f, const kl_shapes *sh,
 
 /* Shapes and the plan; 0 or an exit code (errors printed). */
 static kl_status read_inputs(const kl_cli_args *a, kl_feeder *f, kl_shapes *sh, kl_series_plan *p,
-                             kl_errors *e)
+                             kl_series_generators *g, kl_errors *e)
 {
     kl_cli_input(a->val[OPT_SHAPES]);
     kl_status st = kl_shapes_read(a->val[OPT_SHAPES], sh, e);
+    if (!st && a->val[OPT_GENS]) {
+        kl_cli_input(a->val[OPT_GENS]);
+        st = kl_series_generators_read(g, f, sh, a->val[OPT_GENS], e);
+    }
     if (!st)
         st = kl_series_plan_init(p, f, sh, e);
+    if (!st)
+        st = kl_series_plan_generators(p, g);
     if (!st && a->val[OPT_ASSIGN]) {
         kl_cli_input(a->val[OPT_ASSIGN]);
         st = kl_series_plan_read(p, f, a->val[OPT_ASSIGN], e);
@@ -355,6 +363,7 @@ int kl_cmd_series(int argc, char **argv)
     kl_series_stats *s = NULL;
     kl_shapes sh = {0};
     kl_series_plan plan = {0};
+    kl_series_generators gens = {0};
     series_args x = {0};
     kl_cli_out rec = {0};
     kl_errors e;
@@ -370,7 +379,7 @@ int kl_cmd_series(int argc, char **argv)
     if (a.val[OPT_RECORD] && (rc = read_record(a.val[OPT_RECORD], f, &x)))
         goto done;
     kl_errors_init(&e);
-    kl_status st = read_inputs(&a, f, &sh, &plan, &e);
+    kl_status st = read_inputs(&a, f, &sh, &plan, &gens, &e);
     if (!st)
         st = kl_lines_derive(f, x.form, &e);
     if (!st)
@@ -412,5 +421,6 @@ done:
     kl_flow_result_free(res);
     kl_network_free(net);
     kl_feeder_free(f);
+    kl_series_generators_free(&gens); /* after the feeder: its appended loads name them */
     return rc;
 }

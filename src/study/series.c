@@ -83,7 +83,9 @@ static double load_factor(const kl_series_plan *p, const work *w, int l, int i)
     if (!s->absolute[k])
         return v;
     const kl_complex *b = w->base + 3 * (size_t)l;
-    return v / (creal(b[0]) + creal(b[1]) + creal(b[2])); /* positive: kl_series_plan checks */
+    /* not zero: kl_series_plan checks a load, a generator has its nameplate
+     * (negative: a generator's power as a load) */
+    return v / fabs(creal(b[0]) + creal(b[1]) + creal(b[2]));
 }
 
 /* A metered load: its meters' power, split among its entries as the feeder
@@ -176,6 +178,40 @@ static void count_taps(kl_series_stats *s, const kl_network *net, const work *w,
     }
 }
 
+/* Volt-var inverters: each one's reactive power set from its terminal
+ * voltage on the curve, solved again until none changes by more than 1e-4
+ * of its nameplate (half of each change applied, so that a steep curve
+ * against a weak feeder settles rather than swings). */
+static kl_status settle_volt_var(kl_feeder *f, kl_network *net, const kl_series_plan *p,
+                                 const kl_series_options *o, kl_flow_result *res, work *w,
+                                 kl_errors *step_err)
+{
+    const kl_series_generators *g = p->gens;
+    kl_status st = KL_OK;
+    for (int round = 0; round < 40 && !st; round++) {
+        double worst = 0;
+        for (int pass = 0; pass < 2; pass++) /* the largest change, then the changes */
+            for (int k = 0; k < g->n; k++) {
+                if (!g->volt_var[k])
+                    continue;
+                kl_load *ld = &f->loads[g->load[k]];
+                int ph = ld->phases == 1 ? 0 : ld->phases == 2 ? 1 : 2;
+                double v = cabs(res->v[3 * ld->bus + ph]) / res->v_base_ln[ld->bus];
+                double q = -kl_series_volt_var(v) * g->kva[k]; /* injecting: a negative load var */
+                double dq = q - cimag(ld->s_va[ph]);
+                if (pass == 0)
+                    worst = fmax(worst, fabs(dq) / g->kva[k]);
+                else if (worst >= 1e-4)
+                    ld->s_va[ph] += I * 0.5 * dq;
+            }
+        if (worst < 1e-4)
+            return KL_OK;
+        kl_load_parts_repower(net, w->scratch);
+        st = kl_flow_solve(net, &o->flow, res, step_err);
+    }
+    return st;
+}
+
 /* One step: loads set, solved; the statistics told either way. */
 static kl_status run_step(kl_feeder *f, kl_network *net, const kl_series_plan *p,
                           const kl_series_options *o, kl_flow_result *res, work *w,
@@ -196,6 +232,8 @@ static kl_status run_step(kl_feeder *f, kl_network *net, const kl_series_plan *p
             st = kl_flow_solve(net, &o->flow, res, step_err);
         }
     }
+    if (!st && p->gens)
+        st = settle_volt_var(f, net, p, o, res, w, step_err);
     if (st == KL_ENOCONV) {
         char why[200] = "did not converge";
         if (step_err->count > 0)
