@@ -202,7 +202,7 @@ typedef struct kl_series_stats {
     int last_week_partial;    /* 1 when the last week has fewer than 1008 ten-minute values */
     int nfail_kept;           /* failures listed below (the first KL_SERIES_FAIL_KEEP) */
     kl_time *fail_t;          /* [nfail_kept] */
-    char (*fail_why)[200];    /* [nfail_kept] cause, as the load flow said it */
+    char (*fail_why)[480];    /* [nfail_kept] cause, as the load flow said it */
 
     /* per bus: VUF of three-phase buses (NAN elsewhere) */
     double *vuf_max;          /* [nbuses] largest VUF of a step */

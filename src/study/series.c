@@ -235,7 +235,7 @@ static kl_status run_step(kl_feeder *f, kl_network *net, const kl_series_plan *p
     if (!st && p->gens)
         st = settle_volt_var(f, net, p, o, res, w, step_err);
     if (st == KL_ENOCONV) {
-        char why[200] = "did not converge";
+        char why[480] = "did not converge";
         if (step_err->count > 0)
             kl_error_format(&step_err->items[0], why, sizeof why);
         kl_series_stats_step(s, f, sh->t[i], sh->interval_s, NULL, &o->limits, why);
