@@ -206,6 +206,53 @@ static void series_equals_snapshot(const char *path, const char *text, int nstep
     harness_free(&h1);
 }
 
+/* The hook allocation plugs into: it sets the loads' powers before each
+ * solve; doubling every load there gives the load_scale 2 flow. */
+static kl_status double_loads(void *ctx, int step, kl_time t, kl_feeder *f, kl_network *net,
+                              kl_errors *err)
+{
+    (void)ctx; (void)step; (void)t; (void)net; (void)err;
+    for (int l = 0; l < f->nloads; l++)
+        for (int e = 0; e < 3; e++)
+            f->loads[l].s_va[e] *= 2;
+    return KL_OK;
+}
+
+START_TEST(before_step_hook_sets_the_loads)
+{
+    harness hs, h1;
+    harness_init(&hs);
+    harness_init(&h1);
+    built(&hs, IEEE13);
+    kl_flow_options fo;
+    kl_flow_options_default(&fo);
+    fo.load_scale = 1.2;
+    HARNESS_OK(&h1, harness_load(&h1, IEEE13));
+    HARNESS_OK(&h1, harness_derive(&h1, KL_CARSON_FULL));
+    HARNESS_OK(&h1, harness_build(&h1));
+    HARNESS_OK(&h1, harness_solve(&h1, &fo));
+    char *text = shapes_text("time,x", 3, 3600, one, 1);
+    kl_shapes sh;
+    kl_series_plan p;
+    kl_series_stats *st;
+    ck_assert_int_eq(kl_shapes_read_buffer(text, strlen(text), "s.csv", &sh, &hs.err), KL_OK);
+    ck_assert_int_eq(kl_series_plan_init(&p, hs.f, &sh, &hs.err), KL_OK);
+    kl_series_options so;
+    kl_series_options_default(&so);
+    so.flow.load_scale = 0.6; /* 0.6 x 2 = 1.2 */
+    so.before_step = double_loads;
+    HARNESS_OK(&hs, kl_series_run(hs.f, hs.net, &p, &so, hs.res, &st, &hs.err));
+    for (int k = 0; k < 3 * hs.f->nbuses; k++)
+        ck_assert(cabs(hs.res->v[k] - h1.res->v[k]) <= 1e-5 * h1.res->v_base_ln[k / 3]);
+    free(text);
+    kl_series_stats_free(st);
+    kl_series_plan_free(&p);
+    kl_shapes_free(&sh);
+    harness_free(&hs);
+    harness_free(&h1);
+}
+END_TEST
+
 START_TEST(constant_shape_is_the_snapshot)
 {
     char *t = shapes_text("time,flat", 12, 3600, one, 1);
@@ -912,6 +959,7 @@ int main(void)
     tcase_set_timeout(tc, 120);
     tcase_add_test(tc, time_stamps_parse_as_the_c_library);
     tcase_add_test(tc, constant_shape_is_the_snapshot);
+    tcase_add_test(tc, before_step_hook_sets_the_loads);
     tcase_add_test(tc, scaled_shape_is_the_load_scale);
     tcase_add_test(tc, ten_minute_value_is_the_rms_of_the_minutes);
     tcase_add_test(tc, nearest_rank_by_hand);

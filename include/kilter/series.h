@@ -255,6 +255,15 @@ typedef struct {
     int heating_window_s;     /* the neutral's heating window; default 3600 (one hour) */
     kl_series_step_fn on_step;/* called after every step (NULL: none) */
     void *ctx;
+    /* Called before each step's solve, after the shapes, meters and
+     * generators have set the loads' powers (f->loads[].s_va): it may set
+     * them otherwise (the allocation of a head-measured series, kilter/
+     * allocate.h, allocating the rest of the load at the step's reading) and
+     * may solve net itself.  A status other than KL_OK stops the series with
+     * it.  NULL: none. */
+    kl_status (*before_step)(void *ctx, int step, kl_time t, kl_feeder *f, kl_network *net,
+                             kl_errors *err);
+    void *before_ctx;
 } kl_series_options;
 
 void kl_series_options_default(kl_series_options *o);

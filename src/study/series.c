@@ -219,6 +219,11 @@ static kl_status run_step(kl_feeder *f, kl_network *net, const kl_series_plan *p
 {
     const kl_shapes *sh = p->shapes;
     set_loads(f, p, w, i);
+    if (o->before_step) {
+        kl_status hs = o->before_step(o->before_ctx, i, sh->t[i], f, net, step_err);
+        if (hs)
+            return hs;
+    }
     kl_load_parts_repower(net, w->scratch);
     memcpy(w->tap_before, net->tap, sizeof(int) * 3 * (size_t)f->nregulators);
     kl_errors_clear(step_err);
