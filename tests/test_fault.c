@@ -179,15 +179,19 @@ START_TEST(ieee4_line_phase_frame)
 END_TEST
 
 /* 3. Zero-sequence paths of the connections (textbook rule, top). */
-static void z01_at(const char *hi, const char *lo, const char *bus, double complex *z0,
-                   double complex *z1)
+static int z01_at(const char *hi, const char *lo, const char *bus, double complex *z0,
+                  double complex *z1)
 {
+    int open;
     harness h;
     kl_fault_thevenin *t;
     build_text(&h, hi, lo, &t);
-    ck_assert_int_eq(kl_fault_z01(t, h.net, kl_feeder_find_bus(h.f, bus), z0, z1), 0);
+    int b = kl_feeder_find_bus(h.f, bus);
+    ck_assert_int_eq(kl_fault_z01(t, h.net, b, z0, z1), 0);
+    open = t->open[b];
     kl_fault_thevenin_free(t);
     harness_free(&h);
+    return open;
 }
 
 START_TEST(transformer_zero_sequence_paths)
@@ -198,27 +202,88 @@ START_TEST(transformer_zero_sequence_paths)
     double complex zt_hv = (0.01 + 0.06 * I) * 12470.0 * 12470.0 / 3e6;
     double complex up0 = ZS0 + (ZS + 2.0 * ZM) * LINE_MI, up1 = ZS1 + (ZS - ZM) * LINE_MI;
     double complex z0, z1;
-    z01_at("grounded-wye", "grounded-wye", "lv", &z0, &z1);
+    ck_assert(!z01_at("grounded-wye", "grounded-wye", "lv", &z0, &z1));
     near_c(z0, n * n * up0 + zt_lv, 1e-9, "Gr.Y-Gr.Y Z0");
     near_c(z1, n * n * up1 + zt_lv, 1e-9, "Gr.Y-Gr.Y Z1");
-    z01_at("delta", "grounded-wye", "lv", &z0, &z1);
+    ck_assert(!z01_at("delta", "grounded-wye", "lv", &z0, &z1));
     near_c(z0, zt_lv, 1e-9, "Delta-Gr.Y Z0");
     near_c(z1, n * n * up1 + zt_lv, 1e-9, "Delta-Gr.Y Z1");
-    z01_at("grounded-wye", "delta", "lv", &z0, &z1);
-    ck_assert_msg(cabs(z0) > KL_FAULT_Z0_NONE, "Gr.Y-Delta: delta side earthed (%g)", cabs(z0));
-    /* beside the open zero sequence (1e9 ohm) the positive keeps ~1e-7 ohm */
-    near_c(z1, n * n * up1 + zt_lv, 1e-6, "Gr.Y-Delta Z1");
-    z01_at("grounded-wye", "delta", "pri", &z0, &z1);
+    ck_assert_msg(z01_at("grounded-wye", "delta", "lv", &z0, &z1), "Gr.Y-Delta: delta side earthed");
+    near_c(z1, n * n * up1 + zt_lv, 1e-9, "Gr.Y-Delta Z1");
+    ck_assert(!z01_at("grounded-wye", "delta", "pri", &z0, &z1));
     near_c(z0, up0 * zt_hv / (up0 + zt_hv), 1e-9, "Gr.Y-Delta Z0 on the wye side");
     near_c(z1, up1, 1e-9, "Gr.Y-Delta Z1 on the wye side");
-    z01_at("wye", "delta", "pri", &z0, &z1);
+    {
+        /* on the delta side phase faults see Z1 alone, earth faults nothing */
+        harness h;
+        kl_fault_thevenin *t;
+        build_text(&h, "grounded-wye", "delta", &t);
+        int b = kl_feeder_find_bus(h.f, "lv");
+        double complex i[3], v[3];
+        double e = 4160.0 / sqrt(3.0);
+        kl_fault_spec s = spec(KL_FAULT_3PH, 0, 0, 0);
+        ck_assert_int_eq(kl_fault_solve(t, h.net, b, &s, i, v), 0);
+        ck_assert_msg(fabs(cabs(i[0]) - e / cabs(n * n * up1 + zt_lv)) < 1e-6 * cabs(i[0]),
+                      "Gr.Y-Delta three-phase on the delta side %.2f, want %.2f", cabs(i[0]),
+                      e / cabs(n * n * up1 + zt_lv));
+        ck_assert_msg(cabs(v[0]) < 1e-6 * e, "three-phase: V_a %g", cabs(v[0]));
+        s = spec(KL_FAULT_SLG, 0, 0, 0);
+        ck_assert_int_eq(kl_fault_solve(t, h.net, b, &s, i, v), 0);
+        ck_assert_msg(cabs(i[0]) < 1e-9, "line-ground on the delta side: %g A", cabs(i[0]));
+        ck_assert_msg(fabs(cabs(v[1]) - sqrt(3.0) * e) < 1e-6 * e, "sound phase %g, want sqrt(3) E",
+                      cabs(v[1]));
+        kl_fault_thevenin_free(t);
+        harness_free(&h);
+    }
+    ck_assert(!z01_at("wye", "delta", "pri", &z0, &z1));
     near_c(z0, up0, 1e-9, "Y-Delta Z0 on the wye side");
     const char *open[3][2] = {{"wye", "delta"}, {"delta", "delta"}, {"wye", "grounded-wye"}};
     for (int k = 0; k < 3; k++) {
-        z01_at(open[k][0], open[k][1], "lv", &z0, &z1);
-        ck_assert_msg(cabs(z0) > KL_FAULT_Z0_NONE, "%s-%s: load side earthed", open[k][0],
-                      open[k][1]);
+        ck_assert_msg(z01_at(open[k][0], open[k][1], "lv", &z0, &z1), "%s-%s: load side earthed",
+                      open[k][0], open[k][1]);
     }
+}
+END_TEST
+
+/* A grounding bank on the delta side closes its zero sequence: Z0 there is
+ * the bank's Z_t (the Gr.Y-Delta rule above, applied to the second bank). */
+START_TEST(grounding_bank_on_delta_side)
+{
+    gsl_set_error_handler_off();
+    const char *text =
+        "kilter-feeder: 1\n"
+        "name: Marrowby grounding bank on the delta side\n"
+        "source: {bus: sub, nominal_voltage: 12.47 kV, regulated_voltage: 1.0 pu,\n"
+        "         equivalent: {positive_sequence: 0.5 + j2 ohm, zero_sequence: 0.3 + j1.5 ohm}}\n"
+        "constructions:\n"
+        "  - name: transposed\n"
+        "    phases: abc\n"
+        "    impedance: {aa: 0.3 + j1.0 ohm/mi, bb: 0.3 + j1.0 ohm/mi, cc: 0.3 + j1.0 ohm/mi,\n"
+        "                ab: 0.1 + j0.4 ohm/mi, bc: 0.1 + j0.4 ohm/mi, ac: 0.1 + j0.4 ohm/mi}\n"
+        "sections:\n"
+        "  - {name: feed, from: sub, to: pri, length: 2 mi, construction: transposed}\n"
+        "  - {name: xf, from: pri, to: lv, transformer: bank}\n"
+        "  - {name: gb, from: lv, to: gbx, transformer: grounding}\n"
+        "transformers:\n"
+        "  - {name: bank, rating: 3000 kVA, high: {voltage: 12.47 kV, connection: grounded-wye},\n"
+        "     low: {voltage: 4.16 kV, connection: delta}, resistance: 1 %, reactance: 6 %}\n"
+        "  - {name: grounding, rating: 500 kVA, high: {voltage: 4.16 kV, connection: grounded-wye},\n"
+        "     low: {voltage: 0.48 kV, connection: delta}, resistance: 1 %, reactance: 5 %}\n";
+    harness h;
+    harness_init(&h);
+    HARNESS_OK(&h, harness_load_text(&h, text, "gb"));
+    HARNESS_OK(&h, harness_derive(&h, KL_CARSON_FULL));
+    HARNESS_OK(&h, harness_build(&h));
+    kl_fault_thevenin *t;
+    HARNESS_OK(&h, kl_fault_thevenin_build(h.net, &t, &h.err));
+    int b = kl_feeder_find_bus(h.f, "lv");
+    double complex z0, z1, zg = (0.01 + 0.05 * I) * 4160.0 * 4160.0 / 5e5;
+    ck_assert_int_eq(kl_fault_z01(t, h.net, b, &z0, &z1), 0);
+    ck_assert(!t->open[b]);
+    near_c(z0, zg, 1e-9, "Z0 with the grounding bank");
+    ck_assert(t->open[kl_feeder_find_bus(h.f, "gbx")]);
+    kl_fault_thevenin_free(t);
+    harness_free(&h);
 }
 END_TEST
 
@@ -251,6 +316,7 @@ int main(void)
     tcase_add_test(tc, ieee4_line_phase_frame);
     tcase_add_test(tc, transformer_zero_sequence_paths);
     tcase_add_test(tc, ideal_source_refused);
+    tcase_add_test(tc, grounding_bank_on_delta_side);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

@@ -35,14 +35,14 @@ typedef struct {
     kl_complex zf;     /* ohm */
 } kl_fault_spec;
 
-/* Zero-sequence impedance standing for "no path" (a delta or ungrounded-wye
- * winding with no grounding bank beyond it): large enough that the current
- * it lets through is nil on any distribution voltage (7.2 kV / 1e9 ohm is
- * 7 uA), small enough that the 3x3 algebra keeps the positive sequence to
- * 1e-7 ohm in double precision.  A bus whose |Z0| exceeds KL_FAULT_Z0_NONE
- * has no earth path. */
-#define KL_FAULT_Z0_OPEN 1e9
-#define KL_FAULT_Z0_NONE 1e6
+/* A bus whose zero sequence has no path to earth (behind a delta or an
+ * ungrounded-wye winding, with no grounding bank beyond it) is marked open:
+ * its Thevenin matrix then holds only the positive- and negative-sequence
+ * part that matters (the zero-sequence row and column in the sequence frame
+ * are zero), and a fault there obeys Ia + Ib + Ic = 0 with the bus's
+ * neutral displacement a free unknown: the limit of an infinite Z0, taken
+ * exactly rather than with a large number (which the 3x3 algebra cannot
+ * carry beside ohms). */
 
 /* The Thevenin matrices of every network bus (by network bus id). */
 typedef struct {
@@ -52,6 +52,8 @@ typedef struct {
     kl_complex *ydown; /* [9*nbuses] shunt admittance to ground beyond the bus (grounding
                           banks, seen through the branches below it), S */
     kl_complex *zup;   /* [9*nbuses] workspace: the feeder seen from the bus upstream */
+    unsigned char *open;    /* [nbuses] 1: no zero-sequence path to earth from the bus */
+    unsigned char *open_up; /* [nbuses] workspace: the same for zup */
 } kl_fault_thevenin;
 
 /* Builds the matrices of net (radial: KL_EINPUT when the network has
@@ -79,8 +81,68 @@ void kl_fault_feed_current(const kl_fault_thevenin *t, int b, const kl_complex i
                            const kl_complex v[3], kl_complex out[3]);
 
 /* Sequence impedances Z0, Z1 of bus b's Thevenin matrix (three-phase buses;
- * 0 and -1 otherwise: Z0 = Z1 = NAN). */
+ * 0, and -1 otherwise: Z0 = Z1 = NAN); Z0 is NAN at an open bus. */
 int kl_fault_z01(const kl_fault_thevenin *t, const kl_network *net, int b, kl_complex *z0,
                  kl_complex *z1);
+
+/* ---- fault_study.c: every fault type on the phases present at every bus
+ * (or the buses chosen), bolted and through the impedances given. */
+
+/* Effectively grounded (IEEE Std C62.92.1, the ratios of its definition, and
+ * IEEE Std 142, 1.8; from memory): X0/X1 positive and at most 3, R0/X1 at
+ * most 1, seen from the bus. */
+#define KL_FAULT_X0X1_MAX 3.0
+#define KL_FAULT_R0X1_MAX 1.0
+
+typedef struct {
+    const double *zf_earth;  /* [nzf_earth] ohm, earth faults (line-ground, line-line-ground) */
+    int nzf_earth;
+    const double *zf_phase;  /* [nzf_phase] ohm, phase faults (three-phase, line-line) */
+    int nzf_phase;
+    const unsigned char *at; /* [feeder nbuses] 1: study the bus; NULL: every energized bus */
+} kl_fault_options;
+
+/* Defaults (common practice): earth faults bolted and through 40 ohm, the
+ * usual allowance for arc and ground contact on a distribution feeder;
+ * phase faults bolted. */
+void kl_fault_options_default(kl_fault_options *o);
+
+typedef struct {
+    int bus;                 /* feeder bus id */
+    kl_fault_spec spec;
+    int solved;              /* 0: the equivalent cannot limit it (a bolted fault at an ideal source) */
+    kl_complex i[3];         /* fault currents out of the bus, A (NAN unsolved) */
+    kl_complex v[3];         /* bus voltages during the fault, V */
+    kl_complex vpre[3];      /* before it, V */
+    double i_fault;          /* the largest faulted-phase current magnitude, A */
+    kl_complex i_neutral;    /* the feeding section's metallic neutral current (t_n), A; NAN
+                                when the section has no neutral or is no line */
+    kl_complex i_earth;      /* the feeding section's earth return -(Ia+Ib+Ic+In), A */
+} kl_fault_case;
+
+typedef struct {
+    double base_ln;          /* V */
+    kl_complex z0, z1;       /* Thevenin sequence impedances (NAN unless three-phase) */
+    int earth_path;          /* 1 when |Z0| (or, on fewer phases, the earth loop) is finite */
+    double x0_x1, r0_x1;     /* NAN unless three-phase with X1 > 0 */
+    int effectively_grounded;/* 1 yes, 0 no, -1 not defined */
+    double earth_fault_factor; /* largest sound-phase |V| over its prefault |V| in a bolted
+                                  line-ground fault (IEC 60071-1 definition); NAN when none */
+    int case_max, case_min;  /* cases with the largest and the smallest i_fault, -1 none */
+    int first, ncases;       /* the bus's cases in kl_fault_result.cases */
+} kl_fault_bus;
+
+typedef struct {
+    int nbuses;              /* the feeder's */
+    kl_fault_bus *bus;       /* [nbuses] by feeder bus id; ncases 0 for buses not studied */
+    int ncases;
+    kl_fault_case *cases;    /* [ncases] bus by bus in tree order */
+    int *order;              /* [nstudied] feeder bus ids studied, in tree order */
+    int nstudied;
+} kl_fault_result;
+
+kl_status kl_fault_study(const kl_network *net, const kl_fault_thevenin *t,
+                         const kl_fault_options *o, kl_fault_result **out, kl_errors *err);
+void kl_fault_result_free(kl_fault_result *r);
 
 #endif

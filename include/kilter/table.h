@@ -16,6 +16,7 @@
 
 #include <stdio.h>
 #include "kilter/error.h"
+#include "kilter/fault.h"
 #include "kilter/feeder.h"
 #include "kilter/flow.h"
 #include "kilter/rebalance.h"
@@ -227,5 +228,13 @@ extern const kl_table kl_table_series_sections;   /* neutral and earth current, 
 extern const kl_table kl_table_series_regulators; /* tap operations per unit */
 extern const kl_table kl_table_series_capacitors; /* switchings and hours in service per bank */
 extern const kl_table kl_table_series_failures;   /* steps that did not converge */
+
+/* ---- the fault study's tables (table_fault.c); docs/faults.md */
+typedef struct {
+    const kl_feeder *feeder;
+    const kl_fault_result *faults;
+} kl_fault_rows;
+extern const kl_table kl_table_fault_buses; /* a row per bus: impedances, grounding, max and min */
+extern const kl_table kl_table_fault_cases; /* a row per bus, fault and fault impedance */
 
 #endif

@@ -122,5 +122,6 @@ int kl_cmd_study(int argc, char **argv);
 int kl_cmd_rebalance(int argc, char **argv);
 int kl_cmd_import(int argc, char **argv);
 int kl_cmd_series(int argc, char **argv);
+int kl_cmd_faults(int argc, char **argv);
 
 #endif

@@ -17,6 +17,7 @@ static const command commands[] = {
     {"flow", kl_cmd_flow, "unbalanced three-phase load flow"},
     {"study", kl_cmd_study, "unbalance study: sequence quantities, neutral current, limits"},
     {"rebalance", kl_cmd_rebalance, "suggest phase reassignments of loads"},
+    {"faults", kl_cmd_faults, "fault currents at every bus, earth-fault factor, grounding"},
     {"import", kl_cmd_import, "build a feeder file from CSV tables (GIS exports) and a library"},
     {"series", kl_cmd_series, "unbalance over time: a load flow per step of the load shapes"},
 };

@@ -17,7 +17,8 @@
  * to it (B); grounded-wye/grounded-wye passes it, scaled by the ratio
  * squared.  A load winding that cannot return zero-sequence current (delta,
  * ungrounded wye, open delta, or a grounded wye behind an ungrounded wye)
- * gets KL_FAULT_Z0_OPEN in its zero sequence: the textbook open circuit
+ * leaves its side open in the zero sequence (kilter/fault.h): the textbook
+ * open circuit
  * (J. D. Glover, M. S. Sarma, T. J. Overbye, "Power System Analysis and
  * Design", 5th ed., ch. 8, the zero-sequence networks of three-phase
  * transformers, from memory). */
@@ -35,6 +36,8 @@ void kl_fault_thevenin_free(kl_fault_thevenin *t)
     kl_free(t->vpre);
     kl_free(t->ydown);
     kl_free(t->zup);
+    kl_free(t->open);
+    kl_free(t->open_up);
     kl_free(t);
 }
 
@@ -62,6 +65,87 @@ static void z_with_shunt(const kl_complex Z[9], const kl_complex Y[9], kl_comple
         return;
     }
     kl_cm3_mul(Z, mi, r);
+}
+
+/* M012 = T^-1 M T and back (T the Fortescue matrix), column by column. */
+static void to_seq(const kl_complex M[9], kl_complex S[9])
+{
+    for (int j = 0; j < 3; j++) {
+        kl_complex e[3] = {0, 0, 0}, u[3], w[3], x[3];
+        e[j] = 1;
+        kl_seq_to_phase(e, u);
+        kl_cm3_vec(M, u, w);
+        kl_seq_from_phase(w, x);
+        for (int i = 0; i < 3; i++)
+            S[3 * i + j] = x[i];
+    }
+}
+
+static void from_seq(const kl_complex S[9], kl_complex M[9])
+{
+    for (int j = 0; j < 3; j++) {
+        kl_complex e[3] = {0, 0, 0}, u[3], w[3], x[3];
+        e[j] = 1;
+        kl_seq_from_phase(e, u);
+        kl_cm3_vec(S, u, w);
+        kl_seq_to_phase(w, x);
+        for (int i = 0; i < 3; i++)
+            M[3 * i + j] = x[i];
+    }
+}
+
+/* The 2x2 block (rows, columns 1 and 2) of S inverted into R (the rest 0). */
+static int inverse_12(const kl_complex S[9], kl_complex R[9])
+{
+    kl_complex det = S[4] * S[8] - S[5] * S[7];
+    memset(R, 0, 9 * sizeof R[0]);
+    if (!(cabs(det) > 0))
+        return -1;
+    R[4] = S[8] / det;
+    R[5] = -S[5] / det;
+    R[7] = -S[7] / det;
+    R[8] = S[4] / det;
+    return 0;
+}
+
+/* (Z^-1 + Y)^-1 where Z may be open in the zero sequence (*open): in the
+ * sequence frame Z^-1 is then the inverse of its positive/negative block
+ * (zero in the zero sequence, the limit of an infinite Z0); a Y with a
+ * zero-sequence part (a grounding bank beyond) closes it. */
+static void shunted(const kl_complex Z[9], int open, const kl_complex Y[9], kl_complex r[9],
+                    unsigned char *open_out)
+{
+    kl_complex Z012[9], Y012[9], S[9], R[9];
+    *open_out = (unsigned char)open;
+    if (!open) {
+        z_with_shunt(Z, Y, r);
+        return;
+    }
+    if (all_zero(Y)) {
+        memcpy(r, Z, 9 * sizeof r[0]);
+        return;
+    }
+    to_seq(Z, Z012);
+    to_seq(Y, Y012);
+    double big = 0, zero = 0;
+    for (int i = 0; i < 9; i++) {
+        big = fmax(big, cabs(Y012[i]));
+        if (i < 3 || i % 3 == 0)
+            zero = fmax(zero, cabs(Y012[i]));
+    }
+    if (inverse_12(Z012, S)) {
+        memcpy(r, Z, 9 * sizeof r[0]);
+        return;
+    }
+    for (int i = 0; i < 9; i++)
+        S[i] += Y012[i];
+    if (zero > 1e-12 * big && kl_cm3_inverse(S, R) == 0) {
+        *open_out = 0;
+    } else if (inverse_12(S, R)) {
+        memcpy(r, Z, 9 * sizeof r[0]);
+        return;
+    }
+    from_seq(R, r);
 }
 
 /* r = Y (U + Z Y)^-1 A' with A' = U (lines) or the device's d Y (U + B Y)^-1 A. */
@@ -123,32 +207,46 @@ static void up_pass(const kl_network *n, kl_fault_thevenin *t)
     }
 }
 
+/* 1 when device branch k passes zero-sequence voltage (A (1,1,1) != 0). */
+static int passes_zero(const kl_network *n, int k)
+{
+    const kl_complex *A = n->A + 9 * (size_t)n->dev[k];
+    for (int i = 0; i < 3; i++)
+        if (A[3 * i] + A[3 * i + 1] + A[3 * i + 2] != 0)
+            return 1;
+    return 0;
+}
+
 /* Zup of branch k's to-bus from its from-bus (top of file). */
 static void branch_down(const kl_network *n, kl_fault_thevenin *t, int k)
 {
     int fb = n->br_from[k], tb = n->br_to[k];
     kl_complex yin[9], yx[9], zx[9], *zu = t->zup + 9 * (size_t)tb;
+    unsigned char open_x;
     admittance_in(n, k, t->ydown + 9 * (size_t)tb, yin);
     for (int i = 0; i < 9; i++)
         yx[i] = t->ydown[9 * (size_t)fb + (size_t)i] - yin[i];
-    z_with_shunt(t->zup + 9 * (size_t)fb, yx, zx);
+    shunted(t->zup + 9 * (size_t)fb, t->open_up[fb], yx, zx, &open_x);
     if (n->br_kind[k] == KL_BR_LINE) {
         kl_complex Z[9];
         kl_network_line_zy(n, k, Z, NULL);
         for (int i = 0; i < 9; i++)
             zu[i] = zx[i] + Z[i];
+        t->open_up[tb] = open_x;
     } else {
         int s = n->dev[k];
         kl_complex m[9], t1[9], t2[9];
-        const kl_complex *yg = n->yg + 9 * s;
-        z_with_shunt(zx, yg, m); /* (U + Zx Yg)^-1 Zx = Zx (U + Yg Zx)^-1 */
+        unsigned char open_m;
+        /* (U + Zx Yg)^-1 Zx = (Zx^-1 + Yg)^-1 */
+        shunted(zx, open_x, n->yg + 9 * s, m, &open_m);
         kl_cm3_mul(n->A + 9 * s, m, t1);
         kl_cm3_mul(t1, n->d + 9 * s, t2);
         for (int i = 0; i < 9; i++)
             zu[i] = t2[i] + n->B[9 * s + i];
-        if (n->br_kind[k] == KL_BR_TRANSFORMER && !load_side_earthed(n, k))
-            for (int i = 0; i < 9; i++)
-                zu[i] += KL_FAULT_Z0_OPEN / 3.0; /* Z0_open J / 3: zero sequence alone */
+        if (n->br_kind[k] == KL_BR_TRANSFORMER)
+            t->open_up[tb] = !load_side_earthed(n, k) || (passes_zero(n, k) && open_m);
+        else
+            t->open_up[tb] = open_m;
     }
     kl_cm3_mask(zu, n->phases[tb]);
     /* no-load prefault voltages: V_t = A V_f (lines and switches: equal) */
@@ -179,8 +277,10 @@ kl_status kl_fault_thevenin_build(const kl_network *n, kl_fault_thevenin **out, 
         t->vpre = kl_calloc(3 * nb, sizeof(kl_complex));
         t->ydown = kl_calloc(9 * nb, sizeof(kl_complex));
         t->zup = kl_calloc(9 * nb, sizeof(kl_complex));
+        t->open = kl_calloc(nb, 1);
+        t->open_up = kl_calloc(nb, 1);
     }
-    if (!t || !t->zth || !t->vpre || !t->ydown || !t->zup) {
+    if (!t || !t->zth || !t->vpre || !t->ydown || !t->zup || !t->open || !t->open_up) {
         kl_fault_thevenin_free(t);
         return KL_ENOMEM;
     }
@@ -192,7 +292,7 @@ kl_status kl_fault_thevenin_build(const kl_network *n, kl_fault_thevenin **out, 
     for (int k = 0; k < n->nbranches; k++)
         branch_down(n, t, k);
     for (size_t b = 0; b < nb; b++)
-        z_with_shunt(t->zup + 9 * b, t->ydown + 9 * b, t->zth + 9 * b);
+        shunted(t->zup + 9 * b, t->open_up[b], t->ydown + 9 * b, t->zth + 9 * b, &t->open[b]);
     *out = t;
     return KL_OK;
 }
@@ -249,33 +349,83 @@ static int conditions(const kl_fault_spec *fs, int mask, kl_complex Cv[9], kl_co
     return -1;
 }
 
+/* Solves the n x n system M x = r (row-major, n <= 4) by Gaussian
+ * elimination with partial pivoting; -1 when a pivot is nil against the
+ * largest entry of its column (1e-14: below the rounding of the data). */
+static int solve_small(kl_complex *M, kl_complex *r, int n, kl_complex *x)
+{
+    for (int c = 0; c < n; c++) {
+        int piv = c;
+        double big = 0;
+        for (int i = c; i < n; i++) {
+            big = fmax(big, cabs(M[n * i + c]));
+            if (cabs(M[n * i + c]) > cabs(M[n * piv + c]))
+                piv = i;
+        }
+        if (!(cabs(M[n * piv + c]) > 1e-14 * big) || big == 0)
+            return -1;
+        for (int j = 0; j < n; j++) {
+            kl_complex tmp = M[n * c + j];
+            M[n * c + j] = M[n * piv + j];
+            M[n * piv + j] = tmp;
+        }
+        kl_complex tr = r[c];
+        r[c] = r[piv];
+        r[piv] = tr;
+        for (int i = c + 1; i < n; i++) {
+            kl_complex f = M[n * i + c] / M[n * c + c];
+            for (int j = c; j < n; j++)
+                M[n * i + j] -= f * M[n * c + j];
+            r[i] -= f * r[c];
+        }
+    }
+    for (int i = n - 1; i >= 0; i--) {
+        kl_complex s = r[i];
+        for (int j = i + 1; j < n; j++)
+            s -= M[n * i + j] * x[j];
+        x[i] = s / M[n * i + i];
+    }
+    return 0;
+}
+
+/* Cv V + Ci I = 0 with V = Vpre - Z I (+ vn (1,1,1) at an open bus, where
+ * Ia + Ib + Ic = 0 is the fourth equation):
+ *   [Ci - Cv Z | Cv 1] [I; vn] = -Cv Vpre. */
 int kl_fault_solve(const kl_fault_thevenin *t, const kl_network *n, int b,
                    const kl_fault_spec *fs, kl_complex i[3], kl_complex v[3])
 {
     const kl_complex *Z = t->zth + 9 * (size_t)b, *vp = t->vpre + 3 * (size_t)b;
-    kl_complex Cv[9], Ci[9], CvZ[9], M[9], Mi[9], rhs[3];
+    kl_complex Cv[9], Ci[9], CvZ[9], M[16], r[4], x[4] = {0, 0, 0, 0}, cv[3];
+    int open = t->open[b], m = open ? 4 : 3;
     for (int p = 0; p < 3; p++)
         i[p] = v[p] = NAN;
     if (conditions(fs, n->phases[b], Cv, Ci))
         return -1;
-    /* Cv (Vpre - Z I) + Ci I = 0  ->  (Ci - Cv Z) I = -Cv Vpre */
     kl_cm3_mul(Cv, Z, CvZ);
-    for (int k = 0; k < 9; k++)
-        M[k] = Ci[k] - CvZ[k];
-    kl_cm3_vec(Cv, vp, rhs);
-    if (kl_cm3_inverse(M, Mi))
+    kl_cm3_vec(Cv, vp, cv);
+    memset(M, 0, sizeof M);
+    for (int row = 0; row < 3; row++) {
+        for (int col = 0; col < 3; col++)
+            M[m * row + col] = Ci[3 * row + col] - CvZ[3 * row + col];
+        if (open)
+            M[m * row + 3] = Cv[3 * row] + Cv[3 * row + 1] + Cv[3 * row + 2];
+        r[row] = -cv[row];
+    }
+    if (open) {
+        for (int col = 0; col < 3; col++)
+            M[m * 3 + col] = 1.0;
+        r[3] = 0;
+    }
+    if (solve_small(M, r, m, x))
         return -1;
-    kl_complex x[3], zi[3];
-    for (int p = 0; p < 3; p++)
-        rhs[p] = -rhs[p];
-    kl_cm3_vec(Mi, rhs, x);
-    kl_cm3_vec(Z, x, zi);
-    for (int p = 0; p < 3; p++)
+    for (int p = 0; p < m; p++)
         if (!isfinite(creal(x[p])) || !isfinite(cimag(x[p])))
             return -1;
+    kl_complex zi[3];
+    kl_cm3_vec(Z, x, zi);
     for (int p = 0; p < 3; p++) {
         i[p] = x[p];
-        v[p] = (n->phases[b] & (1 << p)) ? vp[p] - zi[p] : 0;
+        v[p] = (n->phases[b] & (1 << p)) ? vp[p] - zi[p] + (open ? x[3] : 0) : 0;
     }
     return 0;
 }
@@ -295,7 +445,7 @@ void kl_fault_feed_current(const kl_fault_thevenin *t, int b, const kl_complex i
 int kl_fault_z01(const kl_fault_thevenin *t, const kl_network *n, int b, kl_complex *z0,
                  kl_complex *z1)
 {
-    *z0 = *z1 = NAN;
+    *z0 = *z1 = NAN + NAN * I; /* both parts undefined, not NAN + 0j */
     if (n->phases[b] != KL_PH_ABC)
         return -1;
     /* Z012 = T^-1 Zth T: Z0 from the column of a zero-sequence current
@@ -306,7 +456,7 @@ int kl_fault_z01(const kl_fault_thevenin *t, const kl_network *n, int b, kl_comp
     kl_seq_to_phase(s1, u1);
     kl_cm3_vec(Z, u0, w);
     kl_seq_from_phase(w, s);
-    *z0 = s[0];
+    *z0 = t->open[b] ? NAN + NAN * I : s[0];
     kl_cm3_vec(Z, u1, w);
     kl_seq_from_phase(w, s);
     *z1 = s[1];
