@@ -227,6 +227,12 @@ START_TEST(transformer_zero_sequence_paths)
                       "Gr.Y-Delta three-phase on the delta side %.2f, want %.2f", cabs(i[0]),
                       e / cabs(n * n * up1 + zt_lv));
         ck_assert_msg(cabs(v[0]) < 1e-6 * e, "three-phase: V_a %g", cabs(v[0]));
+        double i3 = cabs(i[0]);
+        /* bolted line-line: sqrt(3)/2 of the three-phase current (Z2 = Z1) */
+        s = spec(KL_FAULT_LL, 1, 2, 0);
+        ck_assert_int_eq(kl_fault_solve(t, h.net, b, &s, i, v), 0);
+        ck_assert_msg(fabs(cabs(i[1]) - sqrt(3.0) / 2.0 * i3) < 1e-6 * i3,
+                      "line-line on the delta side %.2f, want %.2f", cabs(i[1]), sqrt(3.0) / 2.0 * i3);
         s = spec(KL_FAULT_SLG, 0, 0, 0);
         ck_assert_int_eq(kl_fault_solve(t, h.net, b, &s, i, v), 0);
         ck_assert_msg(cabs(i[0]) < 1e-9, "line-ground on the delta side: %g A", cabs(i[0]));

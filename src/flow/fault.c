@@ -396,22 +396,35 @@ int kl_fault_solve(const kl_fault_thevenin *t, const kl_network *n, int b,
 {
     const kl_complex *Z = t->zth + 9 * (size_t)b, *vp = t->vpre + 3 * (size_t)b;
     kl_complex Cv[9], Ci[9], CvZ[9], M[16], r[4], x[4] = {0, 0, 0, 0}, cv[3];
-    int open = t->open[b], m = open ? 4 : 3;
+    int open = t->open[b], m;
     for (int p = 0; p < 3; p++)
         i[p] = v[p] = NAN;
     if (conditions(fs, n->phases[b], Cv, Ci))
         return -1;
+    /* A fault that does not touch earth (line-line) leaves the neutral
+     * displacement out of its conditions and implies Ia + Ib + Ic = 0: solve
+     * it as at an earthed bus, then hold the zero-sequence voltage at its
+     * prefault value (the symmetrical stray capacitance to earth keeps it,
+     * common practice). */
+    int floating = 0;
+    if (open) {
+        floating = 1;
+        for (int row = 0; row < 3; row++)
+            if (Cv[3 * row] + Cv[3 * row + 1] + Cv[3 * row + 2] != 0)
+                floating = 0;
+    }
+    m = open && !floating ? 4 : 3;
     kl_cm3_mul(Cv, Z, CvZ);
     kl_cm3_vec(Cv, vp, cv);
     memset(M, 0, sizeof M);
     for (int row = 0; row < 3; row++) {
         for (int col = 0; col < 3; col++)
             M[m * row + col] = Ci[3 * row + col] - CvZ[3 * row + col];
-        if (open)
+        if (m == 4)
             M[m * row + 3] = Cv[3 * row] + Cv[3 * row + 1] + Cv[3 * row + 2];
         r[row] = -cv[row];
     }
-    if (open) {
+    if (m == 4) {
         for (int col = 0; col < 3; col++)
             M[m * 3 + col] = 1.0;
         r[3] = 0;
@@ -423,6 +436,8 @@ int kl_fault_solve(const kl_fault_thevenin *t, const kl_network *n, int b,
             return -1;
     kl_complex zi[3];
     kl_cm3_vec(Z, x, zi);
+    if (floating)
+        x[3] = (zi[0] + zi[1] + zi[2]) / 3.0;
     for (int p = 0; p < 3; p++) {
         i[p] = x[p];
         v[p] = (n->phases[b] & (1 << p)) ? vp[p] - zi[p] + (open ? x[3] : 0) : 0;

@@ -70,7 +70,7 @@ static int studied(const kl_network *n, const kl_fault_options *o, int b)
 static void return_split(const kl_network *n, const kl_fault_thevenin *t, kl_fault_case *c)
 {
     int k = n->parent[c->bus];
-    c->i_neutral = c->i_earth = NAN;
+    c->i_neutral = c->i_earth = NAN + NAN * I;
     if (k < 0 || !c->solved)
         return;
     kl_complex feed[3];
@@ -83,8 +83,8 @@ static void return_split(const kl_network *n, const kl_fault_thevenin *t, kl_fau
     for (int r = 0; cn->derived && r < cn->ntn; r++)
         for (int p = 0; p < 3; p++)
             in += cn->tn[r][p] * feed[p];
-    c->i_neutral = in;
     c->i_earth = -(feed[0] + feed[1] + feed[2] + in);
+    c->i_neutral = cn->derived && cn->ntn > 0 ? in : NAN + NAN * I; /* no neutral conductor */
 }
 
 /* Case c, its spec set: solves it and fills the figures. */
