@@ -53,19 +53,27 @@ static const char *SYM_FMT =
     "sections:\n"
     "  - {name: feed, from: sub, to: pri, length: 2 mi, construction: transposed}\n"
     "  - {name: xf, from: pri, to: lv, transformer: bank}\n"
+    "%s"
     "transformers:\n"
     "  - {name: bank, rating: 3000 kVA, high: {voltage: 12.47 kV, connection: %s},\n"
-    "     low: {voltage: 4.16 kV, connection: %s}, resistance: 1 %%, reactance: 6 %%}\n";
+    "     low: {voltage: 4.16 kV, connection: %s}, resistance: 1 %%, reactance: 6 %%}\n"
+    "%s";
 
-static void build_text(harness *h, const char *hi, const char *lo, kl_fault_thevenin **t)
+static void build_more(harness *h, const char *hi, const char *lo, const char *sections,
+                       const char *transformers, kl_fault_thevenin **t)
 {
-    char text[2048];
-    snprintf(text, sizeof text, SYM_FMT, hi, lo);
+    char text[3072];
+    snprintf(text, sizeof text, SYM_FMT, sections, hi, lo, transformers);
     harness_init(h);
     HARNESS_OK(h, harness_load_text(h, text, "sym"));
     HARNESS_OK(h, harness_derive(h, KL_CARSON_FULL));
     HARNESS_OK(h, harness_build(h));
     HARNESS_OK(h, kl_fault_thevenin_build(h->net, t, &h->err));
+}
+
+static void build_text(harness *h, const char *hi, const char *lo, kl_fault_thevenin **t)
+{
+    build_more(h, hi, lo, "", "", t);
 }
 
 static void near_c(double complex x, double complex want, double rel, const char *what)
@@ -256,32 +264,12 @@ END_TEST
 START_TEST(grounding_bank_on_delta_side)
 {
     gsl_set_error_handler_off();
-    const char *text =
-        "kilter-feeder: 1\n"
-        "name: Marrowby grounding bank on the delta side\n"
-        "source: {bus: sub, nominal_voltage: 12.47 kV, regulated_voltage: 1.0 pu,\n"
-        "         equivalent: {positive_sequence: 0.5 + j2 ohm, zero_sequence: 0.3 + j1.5 ohm}}\n"
-        "constructions:\n"
-        "  - name: transposed\n"
-        "    phases: abc\n"
-        "    impedance: {aa: 0.3 + j1.0 ohm/mi, bb: 0.3 + j1.0 ohm/mi, cc: 0.3 + j1.0 ohm/mi,\n"
-        "                ab: 0.1 + j0.4 ohm/mi, bc: 0.1 + j0.4 ohm/mi, ac: 0.1 + j0.4 ohm/mi}\n"
-        "sections:\n"
-        "  - {name: feed, from: sub, to: pri, length: 2 mi, construction: transposed}\n"
-        "  - {name: xf, from: pri, to: lv, transformer: bank}\n"
-        "  - {name: gb, from: lv, to: gbx, transformer: grounding}\n"
-        "transformers:\n"
-        "  - {name: bank, rating: 3000 kVA, high: {voltage: 12.47 kV, connection: grounded-wye},\n"
-        "     low: {voltage: 4.16 kV, connection: delta}, resistance: 1 %, reactance: 6 %}\n"
-        "  - {name: grounding, rating: 500 kVA, high: {voltage: 4.16 kV, connection: grounded-wye},\n"
-        "     low: {voltage: 0.48 kV, connection: delta}, resistance: 1 %, reactance: 5 %}\n";
     harness h;
-    harness_init(&h);
-    HARNESS_OK(&h, harness_load_text(&h, text, "gb"));
-    HARNESS_OK(&h, harness_derive(&h, KL_CARSON_FULL));
-    HARNESS_OK(&h, harness_build(&h));
     kl_fault_thevenin *t;
-    HARNESS_OK(&h, kl_fault_thevenin_build(h.net, &t, &h.err));
+    build_more(&h, "grounded-wye", "delta", "  - {name: gb, from: lv, to: gbx, transformer: grounding}\n",
+               "  - {name: grounding, rating: 500 kVA, high: {voltage: 4.16 kV, connection: "
+               "grounded-wye},\n     low: {voltage: 0.48 kV, connection: delta}, resistance: 1 %, "
+               "reactance: 5 %}\n", &t);
     int b = kl_feeder_find_bus(h.f, "lv");
     double complex z0, z1, zg = (0.01 + 0.05 * I) * 4160.0 * 4160.0 / 5e5;
     ck_assert_int_eq(kl_fault_z01(t, h.net, b, &z0, &z1), 0);

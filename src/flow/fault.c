@@ -67,31 +67,31 @@ static void z_with_shunt(const kl_complex Z[9], const kl_complex Y[9], kl_comple
     kl_cm3_mul(Z, mi, r);
 }
 
-/* M012 = T^-1 M T and back (T the Fortescue matrix), column by column. */
-static void to_seq(const kl_complex M[9], kl_complex S[9])
+/* out = P M Q column by column, P and Q the Fortescue transforms given:
+ * M012 = T^-1 M T (to the sequence frame) or M = T M012 T^-1 (back). */
+static void basis(const kl_complex M[9], kl_complex out[9],
+                  void (*q)(const kl_complex *, kl_complex *),
+                  void (*p)(const kl_complex *, kl_complex *))
 {
     for (int j = 0; j < 3; j++) {
         kl_complex e[3] = {0, 0, 0}, u[3], w[3], x[3];
         e[j] = 1;
-        kl_seq_to_phase(e, u);
+        q(e, u);
         kl_cm3_vec(M, u, w);
-        kl_seq_from_phase(w, x);
+        p(w, x);
         for (int i = 0; i < 3; i++)
-            S[3 * i + j] = x[i];
+            out[3 * i + j] = x[i];
     }
+}
+
+static void to_seq(const kl_complex M[9], kl_complex S[9])
+{
+    basis(M, S, kl_seq_to_phase, kl_seq_from_phase);
 }
 
 static void from_seq(const kl_complex S[9], kl_complex M[9])
 {
-    for (int j = 0; j < 3; j++) {
-        kl_complex e[3] = {0, 0, 0}, u[3], w[3], x[3];
-        e[j] = 1;
-        kl_seq_from_phase(e, u);
-        kl_cm3_vec(S, u, w);
-        kl_seq_to_phase(w, x);
-        for (int i = 0; i < 3; i++)
-            M[3 * i + j] = x[i];
-    }
+    basis(S, M, kl_seq_from_phase, kl_seq_to_phase);
 }
 
 /* The 2x2 block (rows, columns 1 and 2) of S inverted into R (the rest 0). */
