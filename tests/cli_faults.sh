@@ -10,6 +10,10 @@
 #    sqrt(3) (the ungrounded system, common practice) and is not effectively grounded;
 #  - text and JSON carry the caution; JSON parses with both tables; -o writes stdout's bytes;
 #  - --prefault flow changes the figures; --workbook writes a workbook;
+#  - the demo's ground relay window (pickup 240 A): its load residual is the study's head 3I0
+#    (kilter study --format json, head_3i0), its smallest earth-fault residual the smallest
+#    line-ground residual at the 12.47 kV buses within 10 % (the head carries the fault's residual
+#    through the regulators' ratios; no grounding bank on the demo), each side judged by its margin;
 #  - an unknown bus is a located input error (exit 2), bad options usage errors (64).
 set -u
 kilter=$1
@@ -58,6 +62,32 @@ fi
 cmp -s "$work/flow.csv" "$work/noload.csv" && fail "--prefault flow gives the no-load figures"
 "$kilter" faults --workbook "$work/f.xlsx" -o "$work/f.txt" || fail "--workbook"
 [ -s "$work/f.xlsx" ] || fail "no workbook written"
+
+"$kilter" faults --format csv --table relay >"$work/relay.csv" || fail "--table relay"
+head -1 "$work/relay.csv" | grep -qx 'pickup_amps,load_residual_amps,load_scale,load_margin,load_margin_required,load_side,fault_residual_amps,fault_bus,fault,fault_margin,fault_margin_required,fault_side,window' ||
+    fail "relay CSV header: $(head -1 "$work/relay.csv")"
+if command -v python3 >/dev/null; then
+    "$kilter" study --format json >"$work/study.json" || fail "study --format json"
+    python3 - "$work/relay.csv" "$work/study.json" "$work/noload.csv" "$work/demo.json" <<'PY' || fail "relay window against the study and the fault table"
+import csv, json, sys
+relay = list(csv.DictReader(open(sys.argv[1])))[0]
+study = json.load(open(sys.argv[2]))
+head = study["head"]["residual_3i0_a"]
+load = float(relay["load_residual_amps"])
+assert abs(load - head) < 0.01, (load, head)
+faults = json.load(open(sys.argv[4]))
+kv = {b["bus"]: b["base_ln_kv"] for b in faults["buses"]}
+least = min(c["residual_amps"] for c in faults["cases"]
+            if c["fault"] == "line-ground" and abs(kv[c["bus"]] - kv["sub"]) < 0.01 * kv["sub"])
+# the head carries the fault's residual times the ratios of the regulators on the path
+# (within 10 %, a regulator's range, common practice); tests/test_fault.c checks the walk exactly
+assert abs(float(relay["fault_residual_amps"]) - least) < 0.1 * least, (relay["fault_residual_amps"], least)
+pickup = float(relay["pickup_amps"])
+assert relay["load_side"] == ("holds" if pickup >= 2 * load else "fails")
+assert relay["fault_side"] == ("holds" if least >= 1.5 * pickup else "fails")
+PY
+fi
+grep -q '^ground relay window at the head' "$work/demo.txt" || fail "text: no relay window"
 
 "$kilter" faults --at nowhere 2>"$work/err"; rc=$?
 [ $rc -eq 2 ] || fail "unknown bus: exit $rc"

@@ -33,7 +33,7 @@ declare -A pub
 for h in types error units progress version output; do pub[$h]=base; done
 for h in sequence unbalance; do pub[$h]=math; done
 pub[feeder]=model; pub[geo]=model; pub[import]=io; pub[lines]=lines; pub[network]=flow; pub[flow]=flow; pub[fault]=flow
-pub[limits]=study; pub[study]=study; pub[series]=study; pub[rebalance]=rebalance; pub[report]=report; pub[table]=report; pub[geojson]=report
+pub[limits]=study; pub[study]=study; pub[series]=study; pub[relay]=study; pub[rebalance]=rebalance; pub[report]=report; pub[table]=report; pub[geojson]=report
 
 allowed() { # LAYER TARGET_LAYER
   case " ${may[$1]} " in *" $2 "*) return 0 ;; esac

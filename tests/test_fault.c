@@ -32,6 +32,7 @@
 #include <gsl/gsl_errno.h>
 #include "harness.h"
 #include "kilter/fault.h"
+#include "kilter/relay.h"
 #include "kilter/sequence.h"
 #include "kilter/units.h"
 #include "ref_ieee4.h"
@@ -281,6 +282,63 @@ START_TEST(grounding_bank_on_delta_side)
 }
 END_TEST
 
+/* 4. The head's share of an earth fault (the ground relay's view): a
+ *    grounding bank at the fault bus takes the part of the zero-sequence
+ *    current its path admits, the source path the rest, 3 I0 Zt / (Z0 + Zt)
+ *    (current division in the zero-sequence network; Glover, Sarma, Overbye
+ *    ch. 9, from memory); through a grounded-wye/grounded-wye bank the head
+ *    sees the fault's residual times the ratio.  And the window: the largest
+ *    load residual, the smallest line-ground residual in the zone (the
+ *    head's voltage: the 4.16 kV bus is left out), their margins. */
+START_TEST(relay_view_and_window)
+{
+    gsl_set_error_handler_off();
+    harness h;
+    kl_fault_thevenin *t;
+    double complex i[3], v[3], head[3];
+    double complex z0 = ZS0 + (ZS + 2.0 * ZM) * LINE_MI, z1 = ZS1 + (ZS - ZM) * LINE_MI;
+    double complex zt = (0.01 + 0.06 * I) * 12470.0 * 12470.0 / 3e6;
+    double n = 4.16 / 12.47, e = 12470.0 / sqrt(3.0);
+    build_text(&h, "grounded-wye", "delta", &t);
+    int pri = kl_feeder_find_bus(h.f, "pri");
+    kl_fault_spec s = spec(KL_FAULT_SLG, 0, 0, 0);
+    ck_assert_int_eq(kl_fault_solve(t, h.net, pri, &s, i, v), 0);
+    kl_fault_head_current(t, h.net, pri, i, v, head);
+    double complex res = i[0] + i[1] + i[2], hres = head[0] + head[1] + head[2];
+    near_c(hres, res * zt / (z0 + zt), 1e-9, "head residual beside a grounding bank");
+    kl_fault_thevenin_free(t);
+    harness_free(&h);
+
+    build_text(&h, "grounded-wye", "grounded-wye", &t);
+    int lv = kl_feeder_find_bus(h.f, "lv");
+    pri = kl_feeder_find_bus(h.f, "pri");
+    ck_assert_int_eq(kl_fault_solve(t, h.net, lv, &s, i, v), 0);
+    kl_fault_head_current(t, h.net, lv, i, v, head);
+    near_c(head[0] + head[1] + head[2], n * (i[0] + i[1] + i[2]), 1e-9,
+           "head residual through a grounded-wye/grounded-wye bank");
+    kl_fault_options o;
+    kl_fault_options_default(&o);
+    kl_fault_result *r;
+    HARNESS_OK(&h, kl_fault_study(h.net, t, &o, &r, &h.err));
+    const double load[2] = {50.0, 80.0}, scale[2] = {0.5, 1.0};
+    kl_relay_window w;
+    ck_assert_int_eq(kl_relay_window_eval(h.net, t, r, load, scale, 2, 150.0, 2.0, 1.5, &w), KL_OK);
+    ck_assert(w.load_residual_a == 80.0 && w.load_scale == 1.0 && w.load_ok == 0);
+    ck_assert(fabs(w.load_margin - 150.0 / 80.0) < 1e-12);
+    double want = cabs(3.0 * e / (z0 + 2.0 * z1 + 120.0)); /* 40 ohm at pri, the end of the zone */
+    ck_assert_msg(fabs(w.fault_residual_a - want) < 1e-6 * want, "fault side %.3f, want %.3f",
+                  w.fault_residual_a, want);
+    ck_assert_int_eq(r->cases[w.fault_case].bus, pri);
+    ck_assert_int_eq(w.fault_ok, want >= 1.5 * 150.0);
+    /* no pickup: nothing known */
+    ck_assert_int_eq(kl_relay_window_eval(h.net, t, r, load, scale, 2, 0.0, 2.0, 1.5, &w), KL_OK);
+    ck_assert(w.load_ok == -1 && w.fault_ok == -1);
+    kl_fault_result_free(r);
+    kl_fault_thevenin_free(t);
+    harness_free(&h);
+}
+END_TEST
+
 /* A bolted fault at an ideal source is refused, not infinite. */
 START_TEST(ideal_source_refused)
 {
@@ -311,6 +369,7 @@ int main(void)
     tcase_add_test(tc, transformer_zero_sequence_paths);
     tcase_add_test(tc, ideal_source_refused);
     tcase_add_test(tc, grounding_bank_on_delta_side);
+    tcase_add_test(tc, relay_view_and_window);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);

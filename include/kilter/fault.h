@@ -80,6 +80,16 @@ int kl_fault_solve(const kl_fault_thevenin *t, const kl_network *net, int b,
 void kl_fault_feed_current(const kl_fault_thevenin *t, int b, const kl_complex i[3],
                            const kl_complex v[3], kl_complex out[3]);
 
+/* The current the feeder head carries during the fault at bus b (i, v from
+ * kl_fault_solve): the fault's current walked up its path to the source,
+ * each branch adding what leaves it into grounding banks beside the path
+ * (through a line V_f = V_t + Z I; through a device V_f = -(Zx^-1 + Yg)^-1
+ * d I_t, I_f = d I_t + Yg V_f, in changes from the prefault state).  The
+ * walk is as long as the path.  head[3] is the sending-end current of the
+ * branch leaving the source; the fault's own currents at the source bus. */
+void kl_fault_head_current(const kl_fault_thevenin *t, const kl_network *net, int b,
+                           const kl_complex i[3], const kl_complex v[3], kl_complex head[3]);
+
 /* Sequence impedances Z0, Z1 of bus b's Thevenin matrix (three-phase buses;
  * 0, and -1 otherwise: Z0 = Z1 = NAN); Z0 is NAN at an open bus. */
 int kl_fault_z01(const kl_fault_thevenin *t, const kl_network *net, int b, kl_complex *z0,

@@ -17,6 +17,7 @@
 #include <stdio.h>
 #include "kilter/error.h"
 #include "kilter/fault.h"
+#include "kilter/relay.h"
 #include "kilter/feeder.h"
 #include "kilter/flow.h"
 #include "kilter/rebalance.h"
@@ -233,8 +234,10 @@ extern const kl_table kl_table_series_failures;   /* steps that did not converge
 typedef struct {
     const kl_feeder *feeder;
     const kl_fault_result *faults;
+    const kl_relay_window *relay; /* NULL, or pickup_a 0: no relay table rows */
 } kl_fault_rows;
 extern const kl_table kl_table_fault_buses; /* a row per bus: impedances, grounding, max and min */
 extern const kl_table kl_table_fault_cases; /* a row per bus, fault and fault impedance */
+extern const kl_table kl_table_fault_relay; /* the ground relay's window: one row (none without a pickup) */
 
 #endif

@@ -3,6 +3,7 @@
  * impedances, from the phase-frame Thevenin matrices (kilter/fault.h).
  * Text: the bus table (default) or the case table; CSV: one table; JSON:
  * both.  The machine-readable forms are documented in docs/faults.md. */
+#include <complex.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -11,18 +12,27 @@
 #include "kilter/flow.h"
 #include "kilter/lines.h"
 #include "kilter/network.h"
+#include "kilter/relay.h"
+#include "kilter/study.h"
 #include "kilter/table.h"
 #include "cli.h"
 
-enum { OPT_TABLE, OPT_AT, OPT_ZE, OPT_ZP, OPT_PREFAULT, OPT_EARTH_RETURN, OPT_WORKBOOK, NOPTS };
+enum { OPT_TABLE, OPT_AT, OPT_ZE, OPT_ZP, OPT_PREFAULT, OPT_LEVELS, OPT_RLOAD, OPT_RFAULT,
+       OPT_EARTH_RETURN, OPT_WORKBOOK, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
-    {"table", 1, "buses|cases", "which table to print (default buses; JSON holds both)"},
+    {"table", 1, "buses|cases|relay", "which table to print (default buses and, with a ground "
+     "relay pickup, the relay window; JSON holds all)"},
     {"at", 1, "BUS[,BUS...]", "study these buses only (default every energized bus)"},
     {"earth-fault-ohms", 1, "Z[,Z...]", "fault impedances of earth faults, ohm (default 0,40)"},
     {"phase-fault-ohms", 1, "Z[,Z...]", "fault impedances of phase faults, ohm (default 0)"},
     {"prefault", 1, "no-load|flow", "voltages before the fault: the source's held voltage "
      "through the ideal ratios (default), or the load flow's"},
+    {"load-levels", 1, "S[,S...]", "load scales the relay window's load residual is taken at "
+     "(default 1)"},
+    {"relay-load-margin", 1, "M", "pickup over the largest load residual asked for (default 2)"},
+    {"relay-fault-margin", 1, "M", "smallest earth-fault residual over the pickup asked for "
+     "(default 1.5)"},
     KL_CLI_EARTH_RETURN_OPT,
     {"workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP},
 };
@@ -34,7 +44,8 @@ static const char CAUTION[] =
     "settings and equipment fault duties are the protection engineer's to set and verify, "
     "under local codes, with a licensed engineer's review.";
 
-/* "0,40" into z[]; the count, or -1 with a message. */
+/* "0,40" into z[] (impedances, load scales, margins); the count, or -1
+ * with a message. */
 static int read_ohms(const char *opt, const char *s, double *z)
 {
     int n = 0;
@@ -43,7 +54,7 @@ static int read_ohms(const char *opt, const char *s, double *z)
         char *end;
         double x = strtod(p, &end);
         if (end == p || (*end && *end != ',') || !(x >= 0) || !isfinite(x) || n == MAX_ZF) {
-            kl_cli_error("faults: --%s needs up to %d impedances of 0 ohm or more separated by "
+            kl_cli_error("faults: --%s needs up to %d numbers of 0 or more separated by "
                          "commas (such as 0,40), not '%s'", opt, MAX_ZF, s);
             return -1;
         }
@@ -51,7 +62,7 @@ static int read_ohms(const char *opt, const char *s, double *z)
         p = *end ? end + 1 : end;
     }
     if (n == 0) {
-        kl_cli_error("faults: --%s needs at least one impedance", opt);
+        kl_cli_error("faults: --%s needs at least one number", opt);
         return -1;
     }
     return n;
@@ -91,7 +102,16 @@ static void print_text(FILE *o, const kl_feeder *f, const kl_fault_rows *rows, i
     if (!f->source.has_equivalent)
         fprintf(o, "note: the source has no equivalent (an ideal source): faults at the source "
                    "bus are unlimited and left blank; give source.equivalent for them.\n\n");
+    if (cases == 2) {
+        kl_table_text(o, &kl_table_fault_relay, rows);
+        return;
+    }
     kl_table_text(o, cases ? &kl_table_fault_cases : &kl_table_fault_buses, rows);
+    if (!cases && kl_table_count(&kl_table_fault_relay, rows, KL_TABLE_TEXT) > 0) {
+        fprintf(o, "\nground relay window at the head (load residual x margin <= pickup <= "
+                   "smallest earth-fault residual / margin):\n");
+        kl_table_text(o, &kl_table_fault_relay, rows);
+    }
 }
 
 static void print_json(FILE *o, const kl_feeder *f, const kl_fault_rows *rows, const char *prefault)
@@ -104,12 +124,17 @@ static void print_json(FILE *o, const kl_feeder *f, const kl_fault_rows *rows, c
     kl_table_json(o, &kl_table_fault_buses, rows);
     fputs(",\n", o);
     kl_table_json(o, &kl_table_fault_cases, rows);
+    fputs(",\n", o);
+    kl_table_json(o, &kl_table_fault_relay, rows);
     fputs("\n}\n", o);
 }
 
 typedef struct {
-    int cases, flow;
+    int cases, flow;     /* cases: 0 buses, 1 cases, 2 relay */
     double ze[MAX_ZF], zp[MAX_ZF];
+    double levels[MAX_ZF];
+    int nlevels;
+    double rload, rfault;
     kl_fault_options fo;
     kl_carson_form form;
 } settings;
@@ -118,11 +143,33 @@ static int read_options(const kl_cli_args *a, settings *s)
 {
     const char *t = a->val[OPT_TABLE], *pf = a->val[OPT_PREFAULT];
     kl_fault_options_default(&s->fo);
-    if (t && strcmp(t, "buses") && strcmp(t, "cases")) {
-        kl_cli_error("faults: unknown table '%s': expected buses or cases", t);
+    if (t && strcmp(t, "buses") && strcmp(t, "cases") && strcmp(t, "relay")) {
+        kl_cli_error("faults: unknown table '%s': expected buses, cases or relay", t);
         return KL_EXIT_USAGE;
     }
-    s->cases = t && strcmp(t, "cases") == 0;
+    s->cases = !t ? 0 : strcmp(t, "cases") == 0 ? 1 : strcmp(t, "relay") == 0 ? 2 : 0;
+    s->levels[0] = 1.0;
+    s->nlevels = 1;
+    if (a->val[OPT_LEVELS] &&
+        (s->nlevels = read_ohms("load-levels", a->val[OPT_LEVELS], s->levels)) < 0)
+        return KL_EXIT_USAGE;
+    s->rload = KL_RELAY_LOAD_MARGIN;
+    s->rfault = KL_RELAY_FAULT_MARGIN;
+    double one[MAX_ZF];
+    if (a->val[OPT_RLOAD]) {
+        if (read_ohms("relay-load-margin", a->val[OPT_RLOAD], one) != 1 || !(one[0] > 0)) {
+            kl_cli_error("faults: --relay-load-margin needs one number above 0");
+            return KL_EXIT_USAGE;
+        }
+        s->rload = one[0];
+    }
+    if (a->val[OPT_RFAULT]) {
+        if (read_ohms("relay-fault-margin", a->val[OPT_RFAULT], one) != 1 || !(one[0] > 0)) {
+            kl_cli_error("faults: --relay-fault-margin needs one number above 0");
+            return KL_EXIT_USAGE;
+        }
+        s->rfault = one[0];
+    }
     if (pf && strcmp(pf, "no-load") && strcmp(pf, "flow")) {
         kl_cli_error("faults: unknown prefault '%s': expected no-load or flow", pf);
         return KL_EXIT_USAGE;
@@ -154,21 +201,54 @@ static int emit(const kl_cli_args *a, const kl_feeder *f, const kl_fault_rows *r
     if (a->format == KL_FMT_JSON)
         print_json(out.f, f, rows, s->flow ? "flow" : "no-load");
     else if (a->format == KL_FMT_CSV)
-        kl_table_csv(out.f, s->cases ? &kl_table_fault_cases : &kl_table_fault_buses, rows);
+        kl_table_csv(out.f, s->cases == 2 ? &kl_table_fault_relay : s->cases ? &kl_table_fault_cases
+                                                     : &kl_table_fault_buses, rows);
     else
         print_text(out.f, f, rows, s->cases, pf);
     rc = kl_cli_out_close(&out);
     if (!rc && a->val[OPT_WORKBOOK]) {
-        const kl_table_sheet sheet[2] = {{&kl_table_fault_buses, rows, "buses"},
-                                         {&kl_table_fault_cases, rows, "cases"}};
-        rc = kl_cli_workbook(a->val[OPT_WORKBOOK], sheet, 2);
+        const kl_table_sheet sheet[3] = {{&kl_table_fault_buses, rows, "buses"},
+                                         {&kl_table_fault_cases, rows, "cases"},
+                                         {&kl_table_fault_relay, rows, "relay"}};
+        rc = kl_cli_workbook(a->val[OPT_WORKBOOK], sheet, 3);
     }
     return rc;
 }
 
-/* The chain: lines, network, optionally the flow, the matrices, the study. */
+/* The head's load residual |3I0| at each load level, from the unbalance
+ * study of a load flow at that scale (the study's own figure). */
+static kl_status load_residuals(kl_feeder *f, kl_network *net, const settings *s, double *out,
+                                kl_errors *e)
+{
+    kl_flow_result *fr = NULL;
+    kl_status st = kl_flow_result_alloc(net, &fr, e);
+    kl_study_options so;
+    kl_study_options_default(&so);
+    for (int l = 0; !st && l < s->nlevels; l++) {
+        kl_flow_options o;
+        kl_study_view w;
+        kl_study *sd = NULL;
+        kl_flow_options_default(&o);
+        o.load_scale = s->levels[l];
+        st = kl_flow_solve(net, &o, fr, e);
+        if (!st)
+            st = kl_study_view_init(&w, net, fr, e);
+        if (!st) {
+            st = kl_study_run(f, &w.ph, NULL, &so, &sd, e);
+            kl_study_view_free(&w);
+        }
+        if (!st)
+            out[l] = cabs(sd->head_3i0);
+        kl_study_free(sd);
+    }
+    kl_flow_result_free(fr);
+    return st;
+}
+
+/* The chain: lines, network, optionally the flow, the matrices, the study
+ * and, with a pickup, the relay window. */
 static kl_status run(kl_feeder *f, const settings *s, const unsigned char *at, kl_network **net,
-                     kl_fault_result **res, kl_errors *e)
+                     kl_fault_result **res, kl_relay_window *rw, kl_errors *e)
 {
     kl_fault_thevenin *t = NULL;
     kl_flow_result *fr = NULL;
@@ -190,6 +270,14 @@ static kl_status run(kl_feeder *f, const settings *s, const unsigned char *at, k
         kl_fault_thevenin_use_flow(t, *net);
     if (!st)
         st = kl_fault_study(*net, t, &fo, res, e);
+    rw->pickup_a = 0;
+    if (!st && f->source.relay_pickup_a > 0) {
+        double load[MAX_ZF];
+        st = load_residuals(f, *net, s, load, e);
+        if (!st)
+            st = kl_relay_window_eval(*net, t, *res, load, s->levels, s->nlevels,
+                                      f->source.relay_pickup_a, s->rload, s->rfault, rw);
+    }
     kl_fault_thevenin_free(t);
     kl_flow_result_free(fr);
     return st;
@@ -229,11 +317,12 @@ int kl_cmd_faults(int argc, char **argv)
         }
     }
     kl_errors_init(&e);
-    kl_status st = run(f, &s, at, &net, &res, &e);
+    kl_relay_window rw;
+    kl_status st = run(f, &s, at, &net, &res, &rw, &e);
     kl_cli_print_errors(&e);
     rc = kl_cli_exit_code(st);
     if (!st) {
-        kl_fault_rows rows = {f, res};
+        kl_fault_rows rows = {f, res, &rw};
         rc = emit(&a, f, &rows, &s);
     } else if (st == KL_ENOMEM && e.count == 0) {
         kl_cli_error("faults: out of memory");

@@ -207,6 +207,20 @@ static void up_pass(const kl_network *n, kl_fault_thevenin *t)
     }
 }
 
+/* The upstream seen from branch k's from-bus without the branch itself
+ * (Zx, open_x) and, for a device, (Zx^-1 + Yg)^-1 (m): branch_down's first
+ * steps, again for the walk up. */
+static void excluded(const kl_network *n, const kl_fault_thevenin *t, int k, kl_complex zx[9],
+                     unsigned char *open_x)
+{
+    kl_complex yin[9], yx[9];
+    int fb = n->br_from[k];
+    admittance_in(n, k, t->ydown + 9 * (size_t)n->br_to[k], yin);
+    for (int i = 0; i < 9; i++)
+        yx[i] = t->ydown[9 * (size_t)fb + (size_t)i] - yin[i];
+    shunted(t->zup + 9 * (size_t)fb, t->open_up[fb], yx, zx, open_x);
+}
+
 /* 1 when device branch k passes zero-sequence voltage (A (1,1,1) != 0). */
 static int passes_zero(const kl_network *n, int k)
 {
@@ -221,12 +235,9 @@ static int passes_zero(const kl_network *n, int k)
 static void branch_down(const kl_network *n, kl_fault_thevenin *t, int k)
 {
     int fb = n->br_from[k], tb = n->br_to[k];
-    kl_complex yin[9], yx[9], zx[9], *zu = t->zup + 9 * (size_t)tb;
+    kl_complex zx[9], *zu = t->zup + 9 * (size_t)tb;
     unsigned char open_x;
-    admittance_in(n, k, t->ydown + 9 * (size_t)tb, yin);
-    for (int i = 0; i < 9; i++)
-        yx[i] = t->ydown[9 * (size_t)fb + (size_t)i] - yin[i];
-    shunted(t->zup + 9 * (size_t)fb, t->open_up[fb], yx, zx, &open_x);
+    excluded(n, t, k, zx, &open_x);
     if (n->br_kind[k] == KL_BR_LINE) {
         kl_complex Z[9];
         kl_network_line_zy(n, k, Z, NULL);
@@ -455,6 +466,61 @@ void kl_fault_feed_current(const kl_fault_thevenin *t, int b, const kl_complex i
     kl_cm3_vec(t->ydown + 9 * (size_t)b, dv, down);
     for (int p = 0; p < 3; p++)
         out[p] = i[p] + down[p];
+}
+
+void kl_fault_head_current(const kl_fault_thevenin *t, const kl_network *n, int b,
+                           const kl_complex i[3], const kl_complex v[3], kl_complex head[3])
+{
+    kl_complex cur[3], dv[3];
+    kl_fault_feed_current(t, b, i, v, cur);
+    for (int p = 0; p < 3; p++)
+        dv[p] = v[p] - t->vpre[3 * (size_t)b + (size_t)p];
+    if (n->parent[b] < 0) {
+        memcpy(head, i, 3 * sizeof head[0]);
+        return;
+    }
+    for (int x = b; n->parent[x] >= 0;) {
+        int k = n->parent[x], f = n->br_from[k];
+        kl_complex dvf[3], ifrom[3], zx[9], yx[9], yin[9], w[3];
+        unsigned char open_x;
+        if (n->br_kind[k] == KL_BR_LINE) {
+            kl_complex Z[9];
+            kl_network_line_zy(n, k, Z, NULL);
+            kl_cm3_vec(Z, cur, w);
+            for (int p = 0; p < 3; p++) {
+                dvf[p] = dv[p] + w[p];
+                ifrom[p] = cur[p];
+            }
+        } else {
+            int s = n->dev[k];
+            kl_complex m[9], dc[3], yv[3];
+            unsigned char open_m;
+            excluded(n, t, k, zx, &open_x);
+            shunted(zx, open_x, n->yg + 9 * s, m, &open_m);
+            kl_cm3_vec(n->d + 9 * s, cur, dc);
+            kl_cm3_vec(m, dc, w);
+            for (int p = 0; p < 3; p++)
+                dvf[p] = -w[p];
+            kl_cm3_vec(n->yg + 9 * s, dvf, yv);
+            for (int p = 0; p < 3; p++)
+                ifrom[p] = dc[p] + yv[p];
+        }
+        if (f == n->source) {
+            memcpy(head, ifrom, 3 * sizeof head[0]);
+            return;
+        }
+        /* the branch feeding f also carries what f's other branches draw */
+        admittance_in(n, k, t->ydown + 9 * (size_t)x, yin);
+        for (int e = 0; e < 9; e++)
+            yx[e] = t->ydown[9 * (size_t)f + (size_t)e] - yin[e];
+        kl_cm3_vec(yx, dvf, w);
+        for (int p = 0; p < 3; p++) {
+            cur[p] = ifrom[p] + w[p];
+            dv[p] = dvf[p];
+        }
+        x = f;
+    }
+    memcpy(head, cur, 3 * sizeof head[0]); /* not reached: the walk ends at the source */
 }
 
 int kl_fault_z01(const kl_fault_thevenin *t, const kl_network *n, int b, kl_complex *z0,

@@ -304,3 +304,92 @@ const kl_table kl_table_fault_buses = {
     .name = "buses", .json_key = "buses", .help = "a row per bus studied", .col = bus_cols,
     .ncol = (int)(sizeof bus_cols / sizeof bus_cols[0]), .rows = bus_rows,
 };
+
+/* ---- the ground relay's window: one row */
+
+#define RW(ctx) (ROWS(ctx)->relay)
+
+static int relay_rows(const void *ctx)
+{
+    return RW(ctx) && RW(ctx)->pickup_a > 0 ? 1 : 0;
+}
+
+static void r_pickup(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->pickup_a; }
+static void r_load(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->load_residual_a; }
+static void r_scale(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->load_scale; }
+static void r_lmargin(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->load_margin; }
+static void r_lreq(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->load_margin_req; }
+static void r_fault(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->fault_residual_a; }
+static void r_fmargin(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->fault_margin; }
+static void r_freq(const void *ctx, int row, int sub, kl_cell *c) { c->num = RW(ctx)->fault_margin_req; }
+
+static const char *verdict(int ok)
+{
+    return ok < 0 ? NULL : ok ? "holds" : "fails";
+}
+
+static void r_lok(const void *ctx, int row, int sub, kl_cell *c)
+{
+    c->str = verdict(RW(ctx)->load_ok);
+    c->cls = RW(ctx)->load_ok == 0 ? "bad" : NULL;
+}
+
+static void r_fok(const void *ctx, int row, int sub, kl_cell *c)
+{
+    c->str = verdict(RW(ctx)->fault_ok);
+    c->cls = RW(ctx)->fault_ok == 0 ? "bad" : NULL;
+}
+
+static void r_fbus(const void *ctx, int row, int sub, kl_cell *c)
+{
+    int k = RW(ctx)->fault_case;
+    c->str = k < 0 ? NULL : ROWS(ctx)->feeder->buses[ROWS(ctx)->faults->cases[k].bus].name;
+}
+
+static void r_fwhich(const void *ctx, int row, int sub, kl_cell *c)
+{
+    int k = RW(ctx)->fault_case;
+    if (k >= 0)
+        label(&ROWS(ctx)->faults->cases[k], c);
+}
+
+static void r_window(const void *ctx, int row, int sub, kl_cell *c)
+{
+    int l = RW(ctx)->load_ok, f = RW(ctx)->fault_ok;
+    c->str = l < 0 || f < 0 ? "not known" : l && f ? "open" : !l && !f ? "shut on both sides"
+             : !l ? "shut on the load side" : "shut on the fault side";
+    c->cls = (l == 0 || f == 0) ? "bad" : NULL;
+}
+
+#define RNUM(k, u, h, g, hd, tf) \
+    {.key = k, .unit = u, .help = h, .type = KL_CELL_NUM, .get = g, .in = TCJ, .text_head = hd, \
+     .text = tf, .csv = "%.4f"}
+
+static const kl_column relay_cols[] = {
+    RNUM("pickup_amps", "A", "the ground relay's pickup at the head (source.ground_relay_pickup)",
+         r_pickup, "pickup A", " %8.1f"),
+    RNUM("load_residual_amps", "A", "the largest residual current load unbalance makes at the head, "
+         "over the load levels", r_load, "load 3I0", " %8.1f"),
+    RNUM("load_scale", "", "the load level that sets it", r_scale, "level", " %5.2f"),
+    RNUM("load_margin", "", "pickup over that residual", r_lmargin, "margin", " %6.2f"),
+    RNUM("load_margin_required", "", "the margin asked for", r_lreq, "asked", " %5.2f"),
+    {.key = "load_side", .help = "holds or fails", .type = KL_CELL_STR, .get = r_lok, .in = TCJ,
+     .text_head = "load", .text = " %-5s"},
+    RNUM("fault_residual_amps", "A", "the smallest earth-fault residual current at the head over "
+         "the faults it can see", r_fault, "fault 3I0", " %9.1f"),
+    {.key = "fault_bus", .help = "the bus of that fault", .type = KL_CELL_STR, .get = r_fbus,
+     .in = TCJ, .text_head = "at", .text = " %-12s"},
+    {.key = "fault", .help = "the fault", .type = KL_CELL_STR, .get = r_fwhich, .in = TCJ,
+     .text_head = "fault", .text = " %-26s"},
+    RNUM("fault_margin", "", "that residual over the pickup", r_fmargin, "margin", " %6.2f"),
+    RNUM("fault_margin_required", "", "the margin asked for", r_freq, "asked", " %5.2f"),
+    {.key = "fault_side", .help = "holds or fails", .type = KL_CELL_STR, .get = r_fok, .in = TCJ,
+     .text_head = "fault", .text = " %-5s"},
+    {.key = "window", .help = "open, or the side(s) that shut it", .type = KL_CELL_STR,
+     .get = r_window, .in = TCJ, .text_head = "window", .text = " %s"},
+};
+
+const kl_table kl_table_fault_relay = {
+    .name = "relay", .json_key = "relay_window", .help = "the ground relay's window at the head",
+    .col = relay_cols, .ncol = (int)(sizeof relay_cols / sizeof relay_cols[0]), .rows = relay_rows,
+};
