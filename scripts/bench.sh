@@ -6,7 +6,8 @@
 #
 #   scripts/bench.sh [--quick] [--seed S] [--repeat R] [--keep DIR]
 #
-#   --quick     N = 1,000 / 10,000 / 100,000 only (a minute or so)
+#   --quick     N = 1,000 / 10,000 / 100,000 only, a deep chain of 25,000
+#               sections (a minute or so)
 #   (default)   also N = 1,000,000 (a few minutes; about 180 MB of YAML and
 #               a few GB of memory)
 #   --seed S    kl_synth seed (default 1)
@@ -20,6 +21,9 @@
 # kept, nodal iterations, largest nodal-sweep voltage difference, peak
 # resident memory of the whole run (nodal included) and up to the end of the
 # sweep, and peak bytes per bus (whole run).
+# Then a deep chain (250,000 sections; --quick 25,000): the largest
+# nodal-sweep voltage difference with both solvers run to 1e-12 pu, the
+# nodal solver's accuracy on a deep feeder (docs/performance.md).
 # Times are process CPU seconds of each stage (see src/tools/kl_bench.c);
 # the machine's load average is printed with the table because a shared
 # machine slows memory-bound code even when CPU time is measured.
@@ -27,12 +31,13 @@ set -eu
 cd "$(dirname "$0")/.."
 
 sizes="1000 10000 100000 1000000"
+chain=250000
 seed=1
 repeat=3
 keep=""
 while [ $# -gt 0 ]; do
   case "$1" in
-    --quick) sizes="1000 10000 100000" ;;
+    --quick) sizes="1000 10000 100000"; chain=25000 ;;
     --seed) seed="$2"; shift ;;
     --repeat) repeat="$2"; shift ;;
     --keep) keep="$2"; shift ;;
@@ -88,6 +93,31 @@ for n in $sizes; do
          "($(( fm * 1024 / n )) bytes/bus)" >> "$dir/flow.log"
   fi
 done
+
+# Nodal accuracy on a deep feeder: a trunk that is one chain of $chain short
+# spans (invented impedances) with one unequal load at its far end.  The nodal
+# matrix's conditioning grows with the square of the depth; both solvers run to
+# 1e-12 pu so that their difference is their accuracy, not where each stopped.
+chainf="$dir/chain-$chain.yaml"
+awk -v n="$chain" 'BEGIN {
+  print "# A deep chain for the nodal accuracy benchmark (scripts/bench.sh): invented data."
+  print "kilter-feeder: 1"; print "name: deep chain " n; print "units: us"
+  print "source: {bus: c0, nominal_voltage: 12.47 kV, frequency: 60 Hz}"
+  print "constructions:"; print "  - name: span"; print "    phases: abc"
+  print "    impedance: {aa: 0.31 + j0.98 ohm/mi, ab: 0.10 + j0.45 ohm/mi, ac: 0.10 + j0.38 ohm/mi, bb: 0.32 + j1.00 ohm/mi, bc: 0.10 + j0.42 ohm/mi, cc: 0.31 + j0.99 ohm/mi}"
+  print "    susceptance: {aa: 5.6 uS/mi, ab: -1.8 uS/mi, ac: -1.1 uS/mi, bb: 5.3 uS/mi, bc: -0.8 uS/mi, cc: 5.1 uS/mi}"
+  print "sections:"
+  for (i = 1; i <= n; i++) printf "  - {name: s%d, from: c%d, to: c%d, length: 10 ft, construction: span}\n", i, i - 1, i
+  print "loads:"
+  print "  - {name: far, bus: c" n ", connection: wye, model: constant-power, power: {a: 9 + j3 kVA, b: 6 + j2 kVA, c: 11 + j4 kVA}}"
+}' > "$chainf"
+line=$("$build/kl_bench" --repeat 1 --tol 1e-12 "$chainf")
+echo
+echo "deep chain of $chain sections, both solvers to 1e-12 pu: largest nodal-sweep difference" \
+     "$(field "$line" nodal_dv_pu) pu (sweep $(field "$line" sweep_s) s in $(field "$line" sweep_iter)" \
+     "iterations, nodal $(field "$line" nodal_s) s in $(field "$line" nodal_iter))"
+echo "  $line" >> "$dir/bench.log"
+
 echo
 echo "raw kl_bench lines:"
 cat "$dir/bench.log"

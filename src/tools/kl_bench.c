@@ -1,6 +1,6 @@
 /* kl_bench: times each stage of a load flow on one feeder file.
  *
- *   kl_bench [--no-nodal] [--repeat R] FILE
+ *   kl_bench [--no-nodal] [--repeat R] [--tol PU] FILE
  *
  * Stages: load (kl_feeder_load), derive (kl_lines_derive), build
  * (kl_network_build), result (kl_flow_result_alloc), sweep solve (kl_sweep_solve at the file's taps, from
@@ -12,7 +12,10 @@
  * for after the build).  Prints one line of key=value pairs for scripts/bench.sh,
  * with peak resident memory from getrusage (ru_maxrss, KiB on Linux), the
  * minor page faults of the build and the sweeps, and
- * the largest difference between the two solvers' voltages.
+ * the largest difference between the two solvers' voltages.  --tol sets both
+ * solvers' convergence tolerance (default kilter's, 1e-6 pu): the solvers'
+ * difference is then their accuracy rather than where each stopped (the
+ * deep-chain figure of scripts/bench.sh runs at 1e-12).
  *
  * Stage times are process CPU seconds (single-threaded: kilter and KLU use
  * one core), so that other work on a shared machine does not inflate them;
@@ -78,10 +81,12 @@ typedef kl_status (*solver_fn)(kl_network *, const kl_flow_options *, kl_flow_re
 /* Fastest of `repeat` flat-start solves (the first one's time in *first,
  * which may be NULL); -1 on failure. */
 static double time_solve(solver_fn fn, kl_network *net, kl_flow_result *res, int repeat,
-                         const char *stage, kl_errors *err, double *first)
+                         double tol, const char *stage, kl_errors *err, double *first)
 {
     kl_flow_options opt;
     kl_flow_options_default(&opt);
+    if (tol > 0)
+        opt.tol_pu = tol;
     double best = INFINITY;
     for (int r = 0; r < repeat; r++) {
         net->v_valid = 0;
@@ -102,18 +107,21 @@ static double time_solve(solver_fn fn, kl_network *net, kl_flow_result *res, int
 
 static void usage(void)
 {
-    fprintf(stderr, "usage: kl_bench [--no-nodal] [--repeat R] FILE\n");
+    fprintf(stderr, "usage: kl_bench [--no-nodal] [--repeat R] [--tol PU] FILE\n");
 }
 
 int main(int argc, char **argv)
 {
     const char *path = NULL;
     int nodal = 1, repeat = 1;
+    double tol = 0;
     for (int k = 1; k < argc; k++) {
         if (strcmp(argv[k], "--no-nodal") == 0)
             nodal = 0;
         else if (strcmp(argv[k], "--repeat") == 0 && k + 1 < argc)
             repeat = atoi(argv[++k]);
+        else if (strcmp(argv[k], "--tol") == 0 && k + 1 < argc)
+            tol = atof(argv[++k]);
         else if (argv[k][0] != '-' && !path)
             path = argv[k];
         else {
@@ -121,7 +129,7 @@ int main(int argc, char **argv)
             return 2;
         }
     }
-    if (!path || repeat < 1) {
+    if (!path || repeat < 1 || tol < 0 || !(tol < 1)) {
         usage();
         return 2;
     }
@@ -166,7 +174,7 @@ int main(int argc, char **argv)
     long rss_build = peak_kib();
     long flt_build = minor_faults();
     double t_sweep_first = 0;
-    double t_sweep = time_solve(kl_sweep_solve, net, res, repeat, "sweep", &err, &t_sweep_first);
+    double t_sweep = time_solve(kl_sweep_solve, net, res, repeat, tol, "sweep", &err, &t_sweep_first);
     long flt_sweep = minor_faults() - flt_build;
     if (t_sweep < 0)
         goto done;
@@ -183,10 +191,10 @@ int main(int argc, char **argv)
         memcpy(vs, net->vs, nv * sizeof *vs);
         /* first solve: numbering, assembly, ordering, factorisation, iterations;
          * later ones reuse the factors kept in the network (iterations only) */
-        if ((t_nodal_first = time_solve(kl_nodal_solve, net, res, 1, "nodal", &err, NULL)) < 0)
+        if ((t_nodal_first = time_solve(kl_nodal_solve, net, res, 1, tol, "nodal", &err, NULL)) < 0)
             goto done;
         rss_nodal = peak_kib();
-        if ((t_nodal = time_solve(kl_nodal_solve, net, res, repeat, "nodal", &err, NULL)) < 0)
+        if ((t_nodal = time_solve(kl_nodal_solve, net, res, repeat, tol, "nodal", &err, NULL)) < 0)
             goto done;
         it_nodal = res->iterations;
         for (size_t k = 0; k < nv; k++) {
