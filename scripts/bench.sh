@@ -4,12 +4,17 @@
 # kl_bench.  Prints one table; figures for docs/performance.md (method and history:
 # docs/notes/benchmark-notebook.md).
 #
-#   scripts/bench.sh [--quick] [--seed S] [--repeat R] [--keep DIR]
+#   scripts/bench.sh [--quick] [--full] [--rank-level PCT] [--seed S] [--repeat R] [--keep DIR]
 #
-#   --quick     N = 1,000 / 10,000 / 100,000 only, a deep chain of 25,000
-#               sections (a minute or so)
-#   (default)   also N = 1,000,000 (a few minutes; about 180 MB of YAML and
-#               a few GB of memory)
+#   (default)   N = 1,000 / 10,000 / 100,000, a deep chain of 250,000
+#               sections (a few minutes on a loaded 2-core machine)
+#   --quick     the same with a deep chain of 25,000 sections, the ranking
+#               up to 10,000 buses (a minute or so)
+#   --full      also N = 1,000,000 (several more minutes; about 180 MB of
+#               YAML and a few GB of memory; the machine is shared: on request)
+#   --rank-level PCT  VUF level for the contributor ranking (default 0.05 %,
+#               far under any real limit, so that about one bus in ten is ranked;
+#               0.2615 % at 1,000,000 buses, where seed 1 then ranks 3,115 buses)
 #   --seed S    kl_synth seed (default 1)
 #   --repeat R  solves per feeder, the fastest is kept (default 3)
 #   --keep DIR  keep the generated feeders in DIR (default: a temporary
@@ -24,24 +29,32 @@
 # Then a deep chain (250,000 sections; --quick 25,000): the largest
 # nodal-sweep voltage difference with both solvers run to 1e-12 pu, the
 # nodal solver's accuracy on a deep feeder (docs/performance.md).
+# Then per size the study: `kilter study` at the default limits, and with the
+# unbalance level at --rank-level so that thousands of buses are ranked
+# (contributors at every one), wall and user CPU seconds and peak memory
+# (GNU time).
 # Times are process CPU seconds of each stage (see src/tools/kl_bench.c);
 # the machine's load average is printed with the table because a shared
 # machine slows memory-bound code even when CPU time is measured.
 set -eu
 cd "$(dirname "$0")/.."
 
-sizes="1000 10000 100000 1000000"
+sizes="1000 10000 100000"
+rank_sizes="1000 10000 100000 1000000"
+rank_level=""
 chain=250000
 seed=1
 repeat=3
 keep=""
 while [ $# -gt 0 ]; do
   case "$1" in
-    --quick) sizes="1000 10000 100000"; chain=25000 ;;
+    --quick) chain=25000; rank_sizes="1000 10000" ;;
+    --full) sizes="1000 10000 100000 1000000" ;;
+    --rank-level) rank_level="$2"; shift ;;
     --seed) seed="$2"; shift ;;
     --repeat) repeat="$2"; shift ;;
     --keep) keep="$2"; shift ;;
-    *) echo "usage: scripts/bench.sh [--quick] [--seed S] [--repeat R] [--keep DIR]" >&2; exit 2 ;;
+    *) echo "usage: scripts/bench.sh [--quick] [--full] [--rank-level PCT] [--seed S] [--repeat R] [--keep DIR]" >&2; exit 2 ;;
   esac
   shift
 done
@@ -91,6 +104,23 @@ for n in $sizes; do
     read -r fw fu fm < "$dir/time.txt"
     echo "  $n buses: $fw s wall, $fu s user CPU, peak $((fm / 1024)) MB" \
          "($(( fm * 1024 / n )) bytes/bus)" >> "$dir/flow.log"
+    # the study, at the default limits, then with contributors ranked at every
+    # bus over --rank-level (output to a file under the run's directory)
+    /usr/bin/time -f "%e %U %M" -o "$dir/time.txt" "$build/kilter" study "$f" --format csv \
+      -o "$dir/study.csv"
+    read -r sw su sm < "$dir/time.txt"
+    line="  $n buses: study $sw s wall, $su s user, peak $((sm / 1024)) MB ($(( sm * 1024 / n )) bytes/bus)"
+    case " $rank_sizes " in
+      *" $n "*)
+        level=${rank_level:-0.05}
+        if [ -z "$rank_level" ] && [ "$n" = 1000000 ]; then level=0.2615; fi
+        /usr/bin/time -f "%e %U %M" -o "$dir/time.txt" "$build/kilter" study "$f" \
+          --level-unbalance "$level" --format csv --table contributors -o "$dir/contrib.csv"
+        read -r rw ru rm < "$dir/time.txt"
+        ranked=$(tail -n +2 "$dir/contrib.csv" | cut -d, -f1 | uniq | wc -l)
+        line="$line; $ranked buses ranked (VUF over $level %): $rw s wall, $ru s user, peak $((rm / 1024)) MB" ;;
+    esac
+    echo "$line" >> "$dir/study.log"
   fi
 done
 
@@ -125,6 +155,9 @@ if [ -s "$dir/flow.log" ]; then
   echo
   echo "the program end to end (kilter flow FILE --format csv > /dev/null):"
   cat "$dir/flow.log"
+  echo
+  echo "the study (kilter study FILE --format csv), and the contributor ranking at many buses:"
+  cat "$dir/study.log"
 else
-  echo "(install GNU time, Debian package 'time', for the end-to-end kilter flow figures)"
+  echo "(install GNU time, Debian package 'time', for the end-to-end kilter flow and study figures)"
 fi
