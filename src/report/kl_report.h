@@ -9,6 +9,16 @@
 #include "kilter/report.h"
 #include "kilter/unbalance.h"
 
+/* ---- numfmt.c: numbers exactly as printf writes them, faster.
+ * kl_numfmt_fixed: snprintf(buf, len, "%.*f", prec, x), byte for byte (len
+ * at least 400 for any double); returns the length.  kl_numfmt_general: the
+ * same for "%.*g".  kl_numfmt_put: fprintf(o, fmt, x) for a format taking one
+ * double, by those two when fmt is text, "%", an optional width, ".", one
+ * digit, "f" or "g", text (no flags), by fprintf otherwise. */
+int kl_numfmt_fixed(char *buf, size_t len, double x, int prec);
+int kl_numfmt_general(char *buf, size_t len, double x, int prec);
+void kl_numfmt_put(FILE *o, const char *fmt, double x);
+
 /* ---- svg.c, plot_tree.c, plot_*.c, report_html.c (the report): a small
  * SVG/HTML writer over a FILE*.  Attribute strings (`attr`) are ours, never
  * data; every string that may come from a feeder file goes through

@@ -34,7 +34,7 @@ void kl_table_json_num(FILE *o, double x)
     if (!isfinite(x))
         fputs("null", o); /* JSON has no NaN or infinity */
     else
-        fprintf(o, "%.8g", x);
+        kl_numfmt_put(o, "%.8g", x);
 }
 
 void kl_table_csv_str(FILE *o, const char *s)
@@ -165,7 +165,7 @@ static void text_cell(FILE *o, const kl_column *c, const kl_cell *v)
                 fwrite(c->text, 1, (size_t)s.prefix - 1, o);
             fprintf(o, "%*s", s.width, "-");
         } else {
-            fprintf(o, c->text, v->num);
+            kl_numfmt_put(o, c->text, v->num);
         }
         break;
     case KL_CELL_STR: fprintf(o, c->text, v->str ? v->str : ""); break;
@@ -218,7 +218,7 @@ static void csv_cell(FILE *o, const kl_column *c, const kl_cell *v)
     switch (c->type) {
     case KL_CELL_NUM:
         if (isfinite(v->num))
-            fprintf(o, c->csv ? c->csv : "%.6f", v->num);
+            kl_numfmt_put(o, c->csv ? c->csv : "%.6f", v->num);
         break;
     case KL_CELL_STR: kl_table_csv_str(o, v->str); break;
     case KL_CELL_CHAR: fputc(v->i, o); break;
@@ -271,7 +271,7 @@ static void json_cell(FILE *o, const kl_column *c, const kl_cell *v)
         if (!isfinite(v->num))
             fputs("null", o);
         else
-            fprintf(o, c->json ? c->json : "%.8g", v->num);
+            kl_numfmt_put(o, c->json ? c->json : "%.8g", v->num);
         break;
     case KL_CELL_STR: kl_table_json_str(o, v->str); break;
     case KL_CELL_CHAR: fprintf(o, "\"%c\"", v->i); break;
