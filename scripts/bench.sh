@@ -25,7 +25,10 @@
 # ordering, factorisation, iterations), nodal solve again with the factors
 # kept, nodal iterations, largest nodal-sweep voltage difference, peak
 # resident memory of the whole run (nodal included) and up to the end of the
-# sweep, and peak bytes per bus (whole run).
+# sweep, peak bytes per bus (whole run), the memory bandwidth of a STREAM
+# triad measured in the same run, and the sweep's bound at that bandwidth
+# (iterations x N x 360 bytes: what an iteration must at least read and write
+# per bus, issue 22's count), to read beside the sweep time.
 # Then a deep chain (250,000 sections; --quick 25,000): the largest
 # nodal-sweep voltage difference with both solvers run to 1e-12 pu, the
 # nodal solver's accuracy on a deep feeder (docs/performance.md).
@@ -76,10 +79,10 @@ field() { printf '%s\n' "$1" | tr ' ' '\n' | sed -n "s/^$2=//p"; }
 echo "kilter load-flow benchmark: seed $seed, best of $repeat solves, $(date -u +%Y-%m-%d)"
 echo "machine: $(nproc) cores, $(sed -n 's/^model name[[:space:]]*: //p' /proc/cpuinfo | head -1)," \
      "load average $(cut -d' ' -f1-3 /proc/loadavg)"
-printf '%10s %7s %6s %8s %8s %8s %5s %8s %8s %5s %9s %8s %7s %7s\n' \
-  N "file" "gen" "load" "derive+" "sweep" "iter" "nodal" "nodal" "iter" "nodal-sw" "peak" "peak" "bytes"
-printf '%10s %7s %6s %8s %8s %8s %5s %8s %8s %5s %9s %8s %7s %7s\n' \
-  "" "MB" "s" "s" "build s" "s" "" "1st s" "again s" "" "pu" "MB" "sw MB" "/bus"
+printf '%10s %7s %6s %8s %8s %8s %5s %8s %8s %5s %9s %8s %7s %7s %6s %8s\n' \
+  N "file" "gen" "load" "derive+" "sweep" "iter" "nodal" "nodal" "iter" "nodal-sw" "peak" "peak" "bytes" "triad" "sweep"
+printf '%10s %7s %6s %8s %8s %8s %5s %8s %8s %5s %9s %8s %7s %7s %6s %8s\n' \
+  "" "MB" "s" "s" "build s" "s" "" "1st s" "again s" "" "pu" "MB" "sw MB" "/bus" "GB/s" "bound s"
 for n in $sizes; do
   f="$dir/synth-$n-$seed.yaml"
   t0=$(date +%s.%N)
@@ -90,11 +93,19 @@ for n in $sizes; do
   db=$(echo "$(field "$line" derive_s) + $(field "$line" build_s)" | bc)
   peak=$(echo "scale=0; $(field "$line" rss_peak_kib) / 1024" | bc)
   bpeak=$(echo "scale=0; $(field "$line" rss_sweep_kib) / 1024" | bc)
-  printf '%10s %7s %6.2f %8s %8.3f %8s %5s %8s %8s %5s %9s %8s %7s %7s\n' \
+  # the sweep's memory bound: iterations x N x 360 bytes (what one iteration
+  # must at least read and write per bus, issue 22's count) at the triad rate
+  # measured in the same run
+  gbs=$(field "$line" triad_gbs)
+  bound=-
+  if [ "$gbs" != "0.00" ]; then
+    bound=$(echo "scale=4; $(field "$line" sweep_iter) * $n * 360 / ($gbs * 1000000000)" | bc)
+  fi
+  printf '%10s %7s %6.2f %8s %8.3f %8s %5s %8s %8s %5s %9s %8s %7s %7s %6s %8s\n' \
     "$n" "$mb" "$gen" "$(field "$line" load_s)" "$db" "$(field "$line" sweep_s)" \
     "$(field "$line" sweep_iter)" "$(field "$line" nodal_first_s)" "$(field "$line" nodal_s)" \
     "$(field "$line" nodal_iter)" "$(field "$line" nodal_dv_pu)" "$peak" "$bpeak" \
-    "$(field "$line" bytes_per_bus)"
+    "$(field "$line" bytes_per_bus)" "$gbs" "$bound"
   echo "  $line" >> "$dir/bench.log"
   # the whole program as a user runs it: load, lines, network, load flow with
   # its result record, CSV bus table streamed out (GNU time's %e %U %M: wall

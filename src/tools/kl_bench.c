@@ -12,7 +12,8 @@
  * for after the build).  Prints one line of key=value pairs for scripts/bench.sh,
  * with peak resident memory from getrusage (ru_maxrss, KiB on Linux), the
  * minor page faults of the build and the sweeps, and
- * the largest difference between the two solvers' voltages.  --tol sets both
+ * the largest difference between the two solvers' voltages, and the memory
+ * bandwidth of a STREAM triad run at the end (triad_gbs).  --tol sets both
  * solvers' convergence tolerance (default kilter's, 1e-6 pu): the solvers'
  * difference is then their accuracy rather than where each stopped (the
  * deep-chain figure of scripts/bench.sh runs at 1e-12).
@@ -103,6 +104,42 @@ static double time_solve(solver_fn fn, kl_network *net, kl_flow_result *res, int
             *first = t;
     }
     return best;
+}
+
+/* Memory bandwidth of one core measured now, in the same process and under
+ * the same load as the solves: the STREAM triad a[i] = b[i] + s c[i]
+ * (McCalpin, STREAM benchmark) over three arrays of 32 MiB, far beyond the
+ * caches, best of 5; 24 bytes counted per element as STREAM does (with the
+ * write-allocate read of a the bus moves 32).  GB/s (1e9 bytes); 0 when the
+ * arrays cannot be had. */
+static double triad_gbs(void)
+{
+    size_t n = (size_t)4 << 20;
+    double *a = malloc(n * sizeof *a), *b = malloc(n * sizeof *b), *c = malloc(n * sizeof *c);
+    double best = INFINITY, s = 3.0;
+    if (!a || !b || !c) {
+        free(a);
+        free(b);
+        free(c);
+        return 0;
+    }
+    for (size_t i = 0; i < n; i++) {
+        a[i] = 0;
+        b[i] = (double)i;
+        c[i] = 0.5;
+    }
+    for (int r = 0; r < 5; r++) {
+        double t0 = wall();
+        for (size_t i = 0; i < n; i++)
+            a[i] = b[i] + s * c[i];
+        double t = wall() - t0;
+        best = t < best ? t : best;
+        s = a[r] > 0 ? 3.0 : 2.0; /* the result is used: the loop is not dropped */
+    }
+    free(a);
+    free(b);
+    free(c);
+    return best > 0 ? 24.0 * (double)n / best / 1e9 : 0;
 }
 
 static void usage(void)
@@ -203,6 +240,8 @@ int main(int argc, char **argv)
         }
     }
     long rss = peak_kib();
+    double gbs = triad_gbs(); /* after the memory figures: its arrays are not the solver's */
+    printf("triad_gbs=%.2f ", gbs);
     printf("buses=%d sections=%d file_bytes=%lld load_s=%.4f derive_s=%.4f build_s=%.4f result_s=%.4f "
            "sweep_s=%.4f sweep_first_s=%.4f sweep_iter=%d nodal_first_s=%.4f nodal_s=%.4f nodal_iter=%d "
            "nodal_dv_pu=%.2e rss_load_kib=%ld rss_build_kib=%ld rss_sweep_kib=%ld "
