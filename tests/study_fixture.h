@@ -184,7 +184,7 @@ static inline void fx_solve(fx_feeder *x, const kl_complex *zs)
     }
     x->paths = (kl_study_paths){ f->nbuses, f->nbuses, f->nsections, 0, x->parent,
                                  x->br_from, x->br_to, x->A, x->B, x->d, zs, NULL,
-                                 f->nloads, x->ld_load, x->ld_bus, x->ld_weight, NULL, NULL };
+                                 f->nloads, x->ld_load, x->ld_bus, x->ld_weight, NULL, NULL, NULL };
 }
 
 /* Phase impedance of IEEE 13-node configuration 601 (ohm/mile, published

@@ -24,6 +24,7 @@
 #include <stdlib.h>
 #include "harness.h"
 #include "kilter/sequence.h"
+#include "kilter/network.h"
 #include "kl_model.h"
 
 #define TOL 1e-9
@@ -201,13 +202,26 @@ static void check_feeder(const char *path, const char *what)
     const kl_feeder *f = h.f;
     const kl_study *s = h.study;
     const kl_study_phases *ph = &h.view.ph;
-    const kl_study_paths *p = &h.view.paths;
+    const kl_study_paths *p = &h.view.paths; /* the study's: matrices from the network */
+    /* the direct method's: every branch's A, B, d in arrays (the form a
+     * hand-made kl_study_paths takes, which the library also accepts) */
+    kl_study_paths pd = *p;
+    size_t m9 = 9 * (size_t)p->nbranches + 9;
+    kl_complex *abd = calloc(3 * m9, sizeof *abd);
+    ck_assert_ptr_nonnull(abd);
+    for (int b = 0; b < p->nbranches; b++)
+        ck_assert_int_eq(kl_network_branch_abcd(h.net, b, NULL, NULL, NULL, abd + 2 * m9 + 9 * (size_t)b,
+                                                abd + 9 * (size_t)b, abd + m9 + 9 * (size_t)b), KL_OK);
+    pd.A = abd;
+    pd.B = abd + m9;
+    pd.d = abd + 2 * m9;
+    pd.net = NULL;
     const kl_feeder_tree *t;
     kl_feeder_tree *own;
     ck_assert_int_eq(kl_feeder_tree_of(f, &t, &own, NULL), KL_OK);
     size_t nl = (size_t)f->nloads + 1, ns = (size_t)f->nsections + 1;
     double *ref = calloc(nl, sizeof *ref), *got = calloc(nl, sizeof *got);
-    double *tap = calloc(ns, sizeof *tap);
+    double *tap = calloc(ns > nl ? ns : nl, sizeof *tap);
     int *taps = calloc(ns, sizeof *taps);
     direct_ws w = { calloc(3 * (size_t)p->nbranches + 3, sizeof(kl_complex)),
                     calloc((size_t)p->nbranches + 1, sizeof(int)),
@@ -220,8 +234,14 @@ static void check_feeder(const char *path, const char *what)
     for (int c = 0; c < s->ncbus; c++) {
         int k = s->cbus[c];
         double total, unbal = 0, three = 0, all = 0;
-        direct_shares(f, ph, p, &w, k, ref);
+        direct_shares(f, ph, &pd, &w, k, ref);
+        /* the library both ways: matrices read from the network, and given */
         ck_assert_int_eq(kl_contrib_shares(f, ph, p, k, got, &total, &err), KL_OK);
+        double total2;
+        ck_assert_int_eq(kl_contrib_shares(f, ph, &pd, k, tap, &total2, &err), KL_OK);
+        for (int L = 0; L < f->nloads; L++)
+            ck_assert(isnan(tap[L]) == isnan(got[L]) && (isnan(got[L]) || close_to(tap[L], got[L])));
+        ck_assert(close_to(total2, total));
         for (int L = 0; L < f->nloads; L++) {
             ck_assert_msg(isnan(ref[L]) == isnan(got[L]) && (isnan(ref[L]) || close_to(got[L], ref[L])),
                           "%s, bus %s, load %s: share %.12g, direct method %.12g", what,
@@ -281,6 +301,7 @@ static void check_feeder(const char *path, const char *what)
     free(got);
     free(tap);
     free(taps);
+    free(abd);
     free(w.di);
     free(w.on_m);
     free(w.kpath);

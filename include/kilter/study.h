@@ -46,7 +46,7 @@ typedef struct {
     int source;                  /* network bus id of the source */
     const int *parent;           /* [nbuses] branch feeding the bus, -1 at the source */
     const int *br_from, *br_to;  /* [nbranches] */
-    const kl_complex *A, *B, *d; /* [9*nbranches] row-major 3x3 */
+    const kl_complex *A, *B, *d; /* [9*nbranches] row-major 3x3; NULL: from net */
     const kl_complex *zsource;   /* [9] source Thevenin impedance (ohm), NULL: ideal source */
     const kl_complex *v;         /* [3*nbuses] solved voltages incl. internal nodes; NULL:
                                     the feeder buses' from kl_study_phases */
@@ -57,6 +57,9 @@ typedef struct {
     const int *ld_slot;          /* [3*feeder nloads] phase slot of each entry; NULL: identity */
     const int *v_pos;            /* [nbuses] where bus m's three sit in v (3 v_pos[m]);
                                     NULL: at 3 m */
+    const struct kl_network *net; /* when A, B, d are NULL: each branch's matrices taken
+                                    from the network when needed (kl_network_branch_abcd),
+                                    so the study keeps no copy of them (432 bytes a branch) */
 } kl_study_paths;
 
 typedef struct {
@@ -167,9 +170,8 @@ typedef struct {
     kl_study_paths paths;
     int *ld_load, *ld_bus;       /* [paths.nloads] owned */
     double *ld_weight;           /* [paths.nloads] owned */
-    kl_complex *br_abd;          /* [27*nbranches] owned: A, B, d of every branch, one
-                                    array after the other (the network keeps them for
-                                    devices only, network.h), read as paths.A, .B, .d */
+    kl_complex *br_abd;          /* NULL since kilter 0.2 (kept for the layout): the
+                                    paths read the branch matrices from the network */
 } kl_study_view;
 
 kl_status kl_study_view_init(kl_study_view *w, const struct kl_network *net,

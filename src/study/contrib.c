@@ -69,7 +69,7 @@ static int load_current(const kl_feeder *f, const kl_study_phases *ph,
 static kl_status paths_check(const kl_feeder *f, const kl_study_paths *p,
                              int bus, kl_errors *err)
 {
-    if (!p->parent || !p->br_from || !p->A || !p->B || !p->d
+    if (!p->parent || !p->br_from || (!(p->A && p->B && p->d) && !p->net)
         || (p->nloads > 0 && (!p->ld_load || !p->ld_bus || !p->ld_weight))) {
         kl_errors_add(err, NULL, 0, 0, "contributors",
                       "the solved network's branch matrices are missing "
@@ -130,6 +130,25 @@ static int is_tap(const kl_feeder *f, const kl_study_phases *ph, int k)
 
 #define NEAR_U 0.25
 
+/* Branch br's A, B and d (any may be NULL): from the paths' arrays, or from
+ * the network one branch at a time. */
+static void branch_abd(const kl_study_paths *p, int br, kl_complex A[9], kl_complex B[9],
+                       kl_complex d[9])
+{
+    size_t o = 9 * (size_t)br;
+    if (p->A && p->B && p->d) {
+        if (A)
+            memcpy(A, p->A + o, 9 * sizeof *A);
+        if (B)
+            memcpy(B, p->B + o, 9 * sizeof *B);
+        if (d)
+            memcpy(d, p->d + o, 9 * sizeof *d);
+        return;
+    }
+    /* a solved network's matrices exist: kl_network_build refused a singular line */
+    kl_network_branch_abcd(p->net, br, NULL, NULL, NULL, d, A, B);
+}
+
 typedef struct {
     int nb;             /* network buses */
     int *kid_at;        /* [nb+1] children of bus x: kid[kid_at[x] .. kid_at[x+1]-1] */
@@ -145,6 +164,7 @@ typedef struct {
     int *mark;          /* [nb] compact id of a bus on a target's path, else -1 */
     int nmark;
     kl_complex *T;      /* [9 nmark] T_j */
+    kl_complex *Am;     /* [9 nmark] A of the branch feeding j (zero at the source) */
     kl_complex *Rinv;   /* [9 nmark] R(j)^-1 */
     int *lcnt;          /* [nvis+1] network loads on buses of preorder below t */
     int *lfl;           /* [nl] network loads by preorder of their bus: the feeder load
@@ -166,7 +186,7 @@ typedef struct {
 static void transfer_free(transfer *x)
 {
     void *all[] = { x->kid_at, x->kid, x->tin, x->tout, x->depth, x->order, x->seg, x->top,
-                    x->tparent, x->K, x->mark, x->T, x->Rinv, x->lcnt, x->lfl, x->lseg,
+                    x->tparent, x->K, x->mark, x->T, x->Am, x->Rinv, x->lcnt, x->lfl, x->lseg,
                     x->g, x->fcnt, x->ford, x->tap, x->tap_lo, x->tap_hi, x->path, x->uv, x->sig, x->pre,
                     x->pcnt };
     for (size_t i = 0; i < sizeof all / sizeof all[0]; i++)
@@ -335,8 +355,9 @@ static kl_status segments(transfer *x, const kl_study_paths *p, kl_complex *Rs, 
             x->tparent[x->nseg++] = -1;
         } else {
             int from = p->br_from[br];
-            const kl_complex *Rp = Rs + 9 * (size_t)(dep - 1), *d = p->d + 9 * (size_t)br;
-            kl_complex df[9], Rn[9];
+            const kl_complex *Rp = Rs + 9 * (size_t)(dep - 1);
+            kl_complex df[9], Rn[9], d[9], A[9], B[9];
+            branch_abd(p, br, x->mark[b] >= 0 ? A : NULL, x->mark[b] >= 0 ? B : NULL, d);
             d_filled(d, df);
             kl_cm3_mul(Rp, df, Rn);
             if (near_u(Rn)) {
@@ -352,10 +373,11 @@ static kl_status segments(transfer *x, const kl_study_paths *p, kl_complex *Rs, 
             }
             if (x->mark[b] >= 0) { /* T_b = A T_from d + B (its parent is marked too) */
                 kl_complex AT[9];
-                kl_cm3_mul(p->A + 9 * (size_t)br, Ts + 9 * (size_t)(dep - 1), AT);
+                kl_cm3_mul(A, Ts + 9 * (size_t)(dep - 1), AT);
                 kl_cm3_mul(AT, d, T);
                 for (int e = 0; e < 9; e++)
-                    T[e] += p->B[9 * (size_t)br + (size_t)e];
+                    T[e] += B[e];
+                memcpy(x->Am + 9 * (size_t)x->mark[b], A, sizeof A);
             }
         }
         if (x->mark[b] >= 0) {
@@ -430,9 +452,10 @@ static kl_status transfer_build(transfer *x, const kl_feeder *f, const kl_study_
     Ts = kl_malloc(9 * depth * sizeof *Ts);
     x->T = kl_malloc(9 * nm * sizeof *x->T);
     x->Rinv = kl_malloc(9 * nm * sizeof *x->Rinv);
+    x->Am = kl_calloc(9 * nm, sizeof *x->Am);
     x->path = kl_malloc(depth * sizeof *x->path);
     x->uv = kl_malloc(6 * depth * sizeof *x->uv);
-    if (!Rs || !Ts || !x->T || !x->Rinv || !x->path || !x->uv) {
+    if (!Rs || !Ts || !x->T || !x->Rinv || !x->Am || !x->path || !x->uv) {
         st = KL_ENOMEM;
         goto done;
     }
@@ -484,7 +507,7 @@ static int transfer_path(transfer *x, const kl_study_paths *p, int k, const kl_c
             u[q] = -u[q];
         row_mul(u, x->Rinv + 9 * (size_t)m, v);
         if (i > 0) {
-            row_mul(psi, p->A + 9 * (size_t)p->parent[b], nxt);
+            row_mul(psi, x->Am + 9 * (size_t)m, nxt);
             memcpy(psi, nxt, sizeof psi);
         }
     }

@@ -67,9 +67,7 @@ kl_status kl_study_view_init(kl_study_view *w, const kl_network *net,
     w->ld_load = kl_malloc(n * sizeof *w->ld_load);
     w->ld_bus = kl_malloc(n * sizeof *w->ld_bus);
     w->ld_weight = kl_malloc(n * sizeof *w->ld_weight);
-    w->br_abd = kl_malloc(27 * (size_t)(net->nbranches > 0 ? net->nbranches : 1) *
-                          sizeof *w->br_abd);
-    if (!w->ld_load || !w->ld_bus || !w->ld_weight || !w->br_abd) {
+    if (!w->ld_load || !w->ld_bus || !w->ld_weight) {
         kl_study_view_free(w);
         kl_errors_add(err, NULL, 0, 0, "study", "out of memory");
         return KL_ENOMEM;
@@ -79,15 +77,11 @@ kl_status kl_study_view_init(kl_study_view *w, const kl_network *net,
         w->ld_bus[k] = net->loads[k].bus;
         w->ld_weight[k] = net->loads[k].weight;
     }
-    /* the matrices exist on a solved network, so a singular line cannot
-     * occur here (kl_network_build refused it) */
-    size_t m = 9 * (size_t)net->nbranches;
-    for (int k = 0; k < net->nbranches; k++)
-        kl_network_branch_abcd(net, k, NULL, NULL, NULL, w->br_abd + 2 * m + 9 * (size_t)k,
-                               w->br_abd + 9 * (size_t)k, w->br_abd + m + 9 * (size_t)k);
-    w->paths.A = w->br_abd;
-    w->paths.B = w->br_abd + m;
-    w->paths.d = w->br_abd + 2 * m;
+    /* the branch matrices are read from the network when needed (the
+     * contributors): a copy of every branch's A, B and d took 432 bytes a
+     * branch, a fifth of the study's memory */
+    w->paths.A = w->paths.B = w->paths.d = NULL;
+    w->paths.net = net;
     w->paths.ld_load = w->ld_load;
     w->paths.ld_bus = w->ld_bus;
     w->paths.ld_weight = w->ld_weight;
