@@ -330,6 +330,10 @@ START_TEST(relay_view_and_window)
                   w.fault_residual_a, want);
     ck_assert_int_eq(r->cases[w.fault_case].bus, pri);
     ck_assert_int_eq(w.fault_ok, want >= 1.5 * 150.0);
+    /* a balanced feeder's residual (rounding): the load side holds with no margin figure */
+    const double nil[1] = {1e-11};
+    ck_assert_int_eq(kl_relay_window_eval(h.net, t, r, nil, scale, 1, 150.0, 2.0, 1.5, &w), KL_OK);
+    ck_assert(w.load_ok == 1 && isnan(w.load_margin));
     /* no pickup: nothing known */
     ck_assert_int_eq(kl_relay_window_eval(h.net, t, r, load, scale, 2, 0.0, 2.0, 1.5, &w), KL_OK);
     ck_assert(w.load_ok == -1 && w.fault_ok == -1);

@@ -23,7 +23,8 @@ typedef struct {
     double load_margin_req, fault_margin_req;
     double load_residual_a;   /* largest |3I0| at the head over the load levels, A */
     double load_scale;        /* the level that sets it (a load scale) */
-    double load_margin;       /* pickup / load_residual_a (INFINITY-free: NAN when no residual) */
+    double load_margin;       /* pickup / load_residual_a; NAN when the residual is nil
+                                 (below a millionth of the pickup: a balanced feeder) */
     double fault_residual_a;  /* smallest |3I0| at the head over the earth faults in the zone, A */
     int fault_case;           /* the case that sets it (kl_fault_result.cases), -1 none */
     double fault_margin;      /* fault_residual_a / pickup */

@@ -8,6 +8,8 @@
  * the zone: the path crosses a winding that blocks the zero sequence (the
  * open delta side's nil currents, to rounding). */
 #define OUT_OF_ZONE 1e-6
+/* A load residual below this share of the pickup is nil (a millionth). */
+#define NIL_RESIDUAL 1e-6
 
 static void load_side(const double *res, const double *scale, int n, kl_relay_window *w)
 {
@@ -18,7 +20,10 @@ static void load_side(const double *res, const double *scale, int n, kl_relay_wi
             w->load_residual_a = res[l];
             w->load_scale = scale[l];
         }
-    w->load_margin = w->load_residual_a > 0 ? w->pickup_a / w->load_residual_a : NAN;
+    /* a balanced feeder's residual is rounding (1e-11 A): no margin to
+     * speak of, rather than a figure of thirteen digits */
+    w->load_margin = w->load_residual_a > NIL_RESIDUAL * w->pickup_a
+                         ? w->pickup_a / w->load_residual_a : NAN;
     w->load_ok = isnan(w->load_residual_a) ? -1
                  : w->pickup_a >= w->load_margin_req * w->load_residual_a;
 }
