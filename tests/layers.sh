@@ -32,7 +32,7 @@ layers="base math model io lines flow study rebalance report"
 declare -A pub
 for h in types error units progress version output; do pub[$h]=base; done
 for h in sequence unbalance; do pub[$h]=math; done
-pub[feeder]=model; pub[geo]=model; pub[import]=io; pub[lines]=lines; pub[network]=flow; pub[flow]=flow; pub[fault]=flow
+pub[feeder]=model; pub[geo]=model; pub[import]=io; pub[lines]=lines; pub[network]=flow; pub[flow]=flow; pub[fault]=flow; pub[allocate]=flow
 pub[limits]=study; pub[study]=study; pub[series]=study; pub[relay]=study; pub[rebalance]=rebalance; pub[report]=report; pub[table]=report; pub[geojson]=report
 
 allowed() { # LAYER TARGET_LAYER

@@ -164,6 +164,18 @@ typedef struct {
     kl_loc loc;
 } kl_load;
 
+/* What allocating the metered feeder-head demand needs of a load
+ * (kilter/allocate.h), kept beside the loads rather than in kl_load (whose
+ * 136 bytes a million-load feeder pays for): the nameplate kVA of the
+ * distribution transformer(s) serving it, per entry, and whether its power
+ * is known (a metered large customer) and held. */
+typedef struct {
+    double kva[3];       /* connected nameplate kVA per entry (wye a, b, c; delta ab, bc, ca), in
+                            VA; 0 when not given */
+    uint8_t has_kva;     /* 1: `connected_kva` was given */
+    uint8_t fixed_power; /* 1: `fixed_power: true`, allocation keeps its power as given */
+} kl_load_nameplate;
+
 typedef struct {
     const char *name;
     int bus;
@@ -288,6 +300,8 @@ typedef struct kl_feeder {
     kl_bus *buses;                 int nbuses;
     kl_section *sections;          int nsections;
     kl_load *loads;                int nloads;
+    kl_load_nameplate *load_nameplate; /* [nloads] by load id; NULL when no load gives
+                                          connected_kva or fixed_power */
     kl_capacitor *capacitors;      int ncapacitors;
     kl_transformer *transformers;  int ntransformers;
     kl_regulator *regulators;      int nregulators;

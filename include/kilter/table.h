@@ -15,6 +15,7 @@
 #define KILTER_TABLE_H
 
 #include <stdio.h>
+#include "kilter/allocate.h"
 #include "kilter/error.h"
 #include "kilter/fault.h"
 #include "kilter/relay.h"
@@ -239,5 +240,16 @@ typedef struct {
 extern const kl_table kl_table_fault_buses; /* a row per bus: impedances, grounding, max and min */
 extern const kl_table kl_table_fault_cases; /* a row per bus, fault and fault impedance */
 extern const kl_table kl_table_fault_relay; /* the ground relay's window: one row (none without a pickup) */
+
+/* ---- the allocation's tables (table_alloc.c); docs/allocate.md */
+typedef struct {
+    const kl_feeder *feeder;       /* as allocated (the loads table reads its powers) */
+    const kl_head_reading *head;   /* [nsteps] the readings */
+    const kl_alloc_result *alloc;  /* [nsteps] their allocations */
+    int nsteps;
+    const double *basis;           /* [3 * feeder->nloads] kl_alloc_basis_* */
+} kl_alloc_rows;
+extern const kl_table kl_table_alloc_phases; /* a line per reading and head phase */
+extern const kl_table kl_table_alloc_loads;  /* a line per load entry */
 
 #endif

@@ -118,6 +118,7 @@ void kl_cli_csv_str(FILE *f, const char *s);
 int kl_cmd_check(int argc, char **argv);
 int kl_cmd_lines(int argc, char **argv);
 int kl_cmd_flow(int argc, char **argv);
+int kl_cmd_allocate(int argc, char **argv);
 int kl_cmd_study(int argc, char **argv);
 int kl_cmd_rebalance(int argc, char **argv);
 int kl_cmd_import(int argc, char **argv);

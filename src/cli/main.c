@@ -14,6 +14,7 @@ typedef struct {
 static const command commands[] = {
     {"check", kl_cmd_check, "validate a feeder file and summarise it"},
     {"lines", kl_cmd_lines, "phase impedance and admittance of every construction"},
+    {"allocate", kl_cmd_allocate, "set the loads from the demand metered at the feeder head"},
     {"flow", kl_cmd_flow, "unbalanced three-phase load flow"},
     {"study", kl_cmd_study, "unbalance study: sequence quantities, neutral current, limits"},
     {"rebalance", kl_cmd_rebalance, "suggest phase reassignments of loads"},

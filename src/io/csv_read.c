@@ -142,6 +142,8 @@ static char *read_all(const char *path, size_t *len, kl_status *st, kl_errors *e
     return buf;
 }
 
+static kl_status parse(kl_csv *t, size_t len, kl_csv **out, kl_errors *err);
+
 kl_status kl_csv_read(const char *path, kl_csv **out, kl_errors *err)
 {
     *out = NULL;
@@ -156,6 +158,27 @@ kl_status kl_csv_read(const char *path, kl_csv **out, kl_errors *err)
         kl_csv_free(t);
         return rs;
     }
+    return parse(t, len, out, err);
+}
+
+kl_status kl_csv_read_buffer(const char *text, size_t len, const char *name, kl_csv **out, kl_errors *err)
+{
+    *out = NULL;
+    kl_csv *t = kl_calloc(1, sizeof *t);
+    if (!t || !(t->text = kl_malloc(len + 1))) {
+        kl_free(t);
+        return KL_ENOMEM;
+    }
+    memcpy(t->text, text, len);
+    t->text[len] = '\0';
+    t->path = name;
+    return parse(t, len, out, err);
+}
+
+/* Splits t->text (len bytes) into rows and fields. */
+static kl_status parse(kl_csv *t, size_t len, kl_csv **out, kl_errors *err)
+{
+    const char *path = t->path;
     if (memchr(t->text, '\0', len)) {
         kl_errors_add(err, path, 0, 0, NULL, "the table holds a NUL byte: it is not a text CSV file");
         kl_csv_free(t);

@@ -438,6 +438,30 @@ static void write_regulators(FILE *o, const kl_feeder *f)
     }
 }
 
+/* connected_kva and fixed_power, when the file gave them; entries rotated
+ * as the power's. */
+static void write_nameplate(FILE *o, const kl_feeder *f, const kl_load *ld, int r)
+{
+    const kl_load_nameplate *np = f->load_nameplate ? &f->load_nameplate[ld - f->loads] : NULL;
+    if (!np)
+        return;
+    const char *const *keys = ld->conn == KL_CONN_DELTA ? PH_DELTA : PH;
+    if (np->has_kva) {
+        const char *sep = "";
+        fputs("    connected_kva: {", o);
+        for (int q = 0; q < 3; q++) {
+            int k = (q - r + 3) % 3;
+            if (!(ld->phases & (1 << k)))
+                continue;
+            fprintf(o, "%s%s: %.17g kVA", sep, keys[q], np->kva[k] / 1e3);
+            sep = ", ";
+        }
+        fputs("}\n", o);
+    }
+    if (np->fixed_power)
+        fputs("    fixed_power: true\n", o);
+}
+
 static void write_load(FILE *o, const kl_feeder *f, const kl_load *ld, int r)
 {
     const char *const *keys = ld->conn == KL_CONN_DELTA ? PH_DELTA : PH;
@@ -462,6 +486,7 @@ static void write_load(FILE *o, const kl_feeder *f, const kl_load *ld, int r)
         sep = ", ";
     }
     fputs("}\n", o);
+    write_nameplate(o, f, ld, r);
     if (ld->model == KL_LOAD_ZIP)
         fprintf(o, "    zip: {impedance: %.17g, current: %.17g, power: %.17g}\n", ld->zip[0],
                 ld->zip[1], ld->zip[2]);

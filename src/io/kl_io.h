@@ -135,7 +135,8 @@ typedef struct {
     kl_names h_bus, h_cond, h_cable, h_layout, h_cons, h_sec, h_xf, h_reg, h_load, h_cap;
     int cap_conductors, cap_cables, cap_layouts, cap_constructions, cap_buses,
         cap_sections, cap_loads, cap_capacitors, cap_transformers, cap_regulators,
-        cap_declared, cap_secph, cap_conspos;
+        cap_declared, cap_secph, cap_conspos,
+        cap_nameplate;           /* entries of f->load_nameplate (0 while it is NULL) */
     unsigned char *bus_declared; /* [cap_buses]: 1 once listed under buses: */
     int *sec_phases_given;       /* [cap_sections]: mask written in the file, 0 = default */
     kl_cons_pos *cons_pos;       /* [cap_constructions] */
@@ -255,6 +256,24 @@ typedef struct {
 } kl_csv;
 
 kl_status kl_csv_read(const char *path, kl_csv **out, kl_errors *err);
+/* The same from text in memory (copied); `name` stands for the file in messages. */
+kl_status kl_csv_read_buffer(const char *text, size_t len, const char *name, kl_csv **out, kl_errors *err);
 void kl_csv_free(kl_csv *t);
+
+/* ---- csv_cells.c: reading the cells of a kl_csv by column name, for the
+ * allocation's inputs.  Rows r = -1 (the header) .. nrows - 1.  Names and
+ * cells are read without their surrounding blanks; names without regard to case. */
+const kl_csv_field *kl_csv_row(const kl_csv *t, int r, int *n);
+/* col[k]: the header's column named names[k] (a NULL-terminated list), -1
+ * when absent.  An unknown or repeated name is reported (expected: what the
+ * message lists); -1 then. */
+int kl_csv_columns(const kl_csv *t, const char *const *names, int *col, const char *expected, kl_errors *err);
+/* The cell of row r, column i, trimmed, into buf (n bytes); 0, or -1 after
+ * a located message when the row has no such cell or it is longer. */
+int kl_csv_text(const kl_csv *t, int r, int i, const char *what, char *buf, size_t n, kl_errors *err);
+/* The cell as a finite number; -1 after a located message naming `what`. */
+int kl_csv_number(const kl_csv *t, int r, int i, const char *what, double *v, kl_errors *err);
+/* Line and column of a cell (the row's last cell's when beyond its end). */
+kl_loc kl_csv_loc(const kl_csv *t, int r, int i);
 
 #endif

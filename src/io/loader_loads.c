@@ -78,10 +78,10 @@ static int per_phase(kl_loader *L, int node, const char *key, int delta, int cpl
 }
 
 enum { LO_NAME, LO_BUS, LO_SEC, LO_CONN, LO_MODEL, LO_POWER, LO_ZIP, LO_MOTOR, LO_H3, LO_PIN, LO_FORBID,
-       LO_COST, LO_DESC };
+       LO_COST, LO_DESC, LO_KVA, LO_FIXED };
 static const char *const load_keys[] = {"name", "bus", "section", "connection", "model", "power", "zip",
                                         "motor", "third_harmonic", "pinned", "forbidden_phases", "move_cost",
-                                        "description", NULL};
+                                        "description", "connected_kva", "fixed_power", NULL};
 static const char *const load_models[] = {"constant-power", "constant-current", "constant-impedance", "zip",
                                           NULL};
 static const char *const zip_keys[] = {"impedance", "current", "power", NULL};
@@ -130,6 +130,63 @@ static void load_rebalance(kl_loader *L, kl_load *d, const kl_fields *fl)
     kl_ld_real(L, fl, LO_COST, KL_Q_NUMBER, &d->move_cost, 1, KL_F_NONNEG);
 }
 
+/* Load i's nameplate record, the array made on first use and kept as long
+ * as the loads' (zeroed: no kVA, not fixed); NULL when out of memory. */
+static kl_load_nameplate *nameplate(kl_loader *L, int i)
+{
+    kl_feeder *f = L->f;
+    if (L->cap_nameplate < L->cap_loads) {
+        void *p = kl_realloc(f->load_nameplate, (size_t)L->cap_loads * sizeof *f->load_nameplate);
+        if (!p) {
+            L->nomem = 1;
+            return NULL;
+        }
+        f->load_nameplate = p;
+        memset(f->load_nameplate + L->cap_nameplate, 0,
+               (size_t)(L->cap_loads - L->cap_nameplate) * sizeof *f->load_nameplate);
+        L->cap_nameplate = L->cap_loads;
+    }
+    return &f->load_nameplate[i];
+}
+
+/* connected_kva (per phase or phase pair, like power) and fixed_power.  The
+ * load's phases are those of its power, or of its kVA when it has no power;
+ * given both, they must name the same entries. */
+static void load_nameplate(kl_loader *L, kl_load *d, const kl_fields *fl, int i)
+{
+    kl_complex kva[3] = {0, 0, 0};
+    int mask = 0, fixed = kl_ld_bool(L, fl, LO_FIXED, 0);
+    if (fl->val[LO_KVA] < 0 && !fixed) {
+        if (L->f->load_nameplate && !nameplate(L, i))
+            return; /* keeps the array the loads' length */
+        if (fl->val[LO_POWER] < 0)
+            kl_ld_error(L, fl->map, "a load needs 'power' (kW + j kvar per phase), or 'connected_kva' "
+                                    "(the nameplate kVA serving it) for allocation to set its power");
+        return;
+    }
+    if (fl->val[LO_KVA] >= 0 && kl_ld_node(L, fl, LO_KVA, 0, 0) >= 0)
+        mask = per_phase(L, fl->val[LO_KVA], "connected_kva", d->conn == KL_CONN_DELTA, 0, kva);
+    kl_load_nameplate *np = nameplate(L, i);
+    if (!np)
+        return;
+    for (int p = 0; p < 3; p++)
+        np->kva[p] = creal(kva[p]);
+    np->has_kva = fl->val[LO_KVA] >= 0;
+    np->fixed_power = (uint8_t)fixed; /* 0 or 1 */
+    if (fl->val[LO_POWER] < 0) {
+        d->phases = (uint8_t)mask; /* 0-7; its power is 0 until allocated */
+        if (fixed)
+            kl_ld_error(L, fl->val[LO_FIXED], "'fixed_power' holds the load's power as given: give its "
+                                               "'power' too");
+    } else if (mask && mask != d->phases) {
+        char a[4], b[4];
+        kl_ld_error(L, fl->val[LO_KVA], "'connected_kva' names the %s %s, 'power' the %s %s: give both "
+                    "for the same ones", d->conn == KL_CONN_DELTA ? "pairs" : "phases",
+                    kl_phases_str(mask, a), d->conn == KL_CONN_DELTA ? "pairs" : "phases",
+                    kl_phases_str(d->phases, b));
+    }
+}
+
 void kl_ld_load(kl_loader *L, int map)
 {
     kl_feeder *f = L->f;
@@ -150,8 +207,9 @@ void kl_ld_load(kl_loader *L, int map)
     load_place(L, d, &fl, i);
     d->conn = (kl_connection)(kl_ld_enum(L, &fl, LO_CONN, connections, 0) + 1);
     d->model = (kl_load_model)(kl_ld_enum(L, &fl, LO_MODEL, load_models, 0) + 1);
-    if (kl_ld_node(L, &fl, LO_POWER, 0, KL_F_REQ) >= 0)
+    if (fl.val[LO_POWER] >= 0 && kl_ld_node(L, &fl, LO_POWER, 0, 0) >= 0)
         d->phases = (uint8_t)per_phase(L, fl.val[LO_POWER], "power", d->conn == KL_CONN_DELTA, 1, d->s_va); /* 0-7 */
+    load_nameplate(L, d, &fl, i);
     load_zip(L, d, &fl);
     d->motor = (uint8_t)kl_ld_bool(L, &fl, LO_MOTOR, 0); /* 0 or 1 */
     kl_ld_real(L, &fl, LO_H3, KL_Q_SHARE, &d->third_harmonic, 0, KL_F_NONNEG);

@@ -23,6 +23,7 @@ void kl_feeder_free(kl_feeder *f)
     kl_free(f->buses);
     kl_free(f->sections);
     kl_free(f->loads);
+    kl_free(f->load_nameplate);
     kl_free(f->capacitors);
     kl_free(f->transformers);
     kl_free(f->regulators);
