@@ -7,6 +7,7 @@ between bus coordinates, so the map and the impedances agree.  Loads on the sing
 laterals are drawn from a seeded generator, so the file is reproducible:
 
     python3 scripts/make_demo.py > feeders/demo/quillmere-f3.yaml
+    python3 scripts/make_demo.py --energy > feeders/demo/quillmere-f3-energy.csv
 
 Only the Python standard library is used.
 """
@@ -60,12 +61,30 @@ def kva(p_kw, pf):
     return "%.1f + j%.1f kVA" % (p_kw, p_kw * math.tan(math.acos(pf)))
 
 
-def load(name, busname, power, conn="wye", model="constant-power", **kw):
+# Standard single-phase distribution transformer sizes, kVA (common practice).
+SIZES = (10, 15, 25, 37.5, 50, 75, 100, 167, 250, 333, 500)
+loads_kva = []    # (name, {entry: kVA}, three-phase, held): for the customer energy file
+
+
+def nameplate(s_kva):
+    """The transformer a planner would have fitted: the smallest size with a third in hand."""
+    return next((z for z in SIZES if z >= 1.3 * s_kva), SIZES[-1])
+
+
+def load(name, busname, power, conn="wye", model="constant-power", held=False, **kw):
     items = ", ".join("%s: %s" % (k, v) for k, v in power.items())
     s = "  - {name: %s, bus: %s, connection: %s, model: %s, power: {%s}" % (name, busname, conn, model, items)
+    mag = {}
+    for k, v in power.items():
+        re_, im = v.replace(" kVA", "").split(" + j")
+        mag[k] = math.hypot(float(re_), float(im))
+    s += ", connected_kva: {%s}" % ", ".join("%s: %g kVA" % (k, nameplate(m)) for k, m in mag.items())
+    if held:
+        s += ", fixed_power: true"
     for k, v in kw.items():
         s += ", %s: %s" % (k, v)
     parts[-1][2].append(s + "}")
+    loads_kva.append((name, mag, len(mag) == 3, held))
 
 
 def residential(busname, ph, lo, hi, **kw):
@@ -144,7 +163,7 @@ load("cresset-offices", "m12", {p: kva(60, 0.93) for p in "abc"}, third_harmonic
      description='"Cresset House offices and server room"')
 load("tarrowby-school", "m16", {p: kva(55, 0.92) for p in "abc"}, model="constant-impedance",
      description='"Tarrowby Street school: electric heating"')
-load("cold-store", "m20", {p: kva(120, 0.86) for p in "abc"}, motor="true", pinned="true",
+load("cold-store", "m20", {p: kva(120, 0.86) for p in "abc"}, held=True, motor="true", pinned="true",
      description='"Quillmere cold store: compressor motors, primary metered"')
 
 # ------------------------------------------------------------------ laterals
@@ -431,4 +450,34 @@ def write(f):
     f.write("  - {name: cap-kestrel, bus: kestrel-6, connection: wye, reactive_power: {a: 100 kvar, b: 100 kvar, c: 100 kvar}}\n")
 
 
-write(sys.stdout)
+def write_energy(f):
+    """Invented July billing for the customers behind each load (none for the metered cold
+    store): houses by the linear kWh-to-kW relation of the residential class, read backwards
+    (kWh = (kW - 0.2) / 0.008, with a spread), businesses by the load factor of theirs."""
+    rng = random.Random(20260714)   # its own seed: the feeder's loads do not move
+    f.write("# Quillmere feeder 3: customers' billed energy, July 2026 (invented).\n")
+    f.write("customer,load,kwh,period,class\n")
+    meter = 410000
+    for name, mag, three, held in loads_kva:
+        if held:
+            continue
+        total = sum(mag.values())
+        if three:
+            n = max(1, int(round(total / 60)))
+            for _ in range(n):
+                meter += 1
+                kwh = total / n * rng.uniform(0.8, 1.2) * 730 * 0.42
+                f.write("Q-%d,%s,%d,2026-07,small-commercial\n" % (meter, name, round(kwh)))
+            continue
+        n = max(1, int(round(total / 4.5)))
+        for _ in range(n):
+            meter += 1
+            peak = total / n * rng.uniform(0.7, 1.3) * 2.3   # a house's own peak, before diversity
+            kwh = max(150, (peak - 0.2) / 0.008)
+            f.write("Q-%d,%s,%d,2026-07,residential\n" % (meter, name, round(kwh)))
+
+
+if len(sys.argv) > 1 and sys.argv[1] == "--energy":
+    write_energy(sys.stdout)
+else:
+    write(sys.stdout)

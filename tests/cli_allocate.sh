@@ -45,6 +45,19 @@ awk '/^input kW/ {a=$3; b=$4; c=$5} /^input kvar/ {qa=$3; qb=$4; qc=$5}
 grep -q 'connected_kva: {a: 100 kVA}' "$tmp/out.yaml" || fail "connected_kva not written back"
 grep -q 'fixed_power: true' "$tmp/out.yaml" || fail "fixed_power not written back"
 
+# the solving commands take the allocation directly: flow --head draws the measurement, study and
+# rebalance run on the allocated loads (the same as solving the written feeder)
+"$kilter" flow "$tmp/f.yaml" --head "$tmp/h.csv" >"$tmp/flowh" 2>"$tmp/note" || fail "flow --head: exit $?"
+cmp -s "$tmp/flow" "$tmp/flowh" || { diff "$tmp/flow" "$tmp/flowh"; fail "flow --head differs from flow of the written feeder"; }
+grep -q '^kilter: note: loads allocated by connected kVA to .*h.csv (3 load flows): a 0.7994' "$tmp/note" \
+  || { cat "$tmp/note"; fail "flow --head: the note"; }
+"$kilter" study "$tmp/f.yaml" --head "$tmp/h.csv" --format csv >"$tmp/sh" 2>/dev/null || fail "study --head"
+"$kilter" study "$tmp/out.yaml" --format csv >"$tmp/so" || fail "study of the written feeder"
+cmp -s "$tmp/sh" "$tmp/so" || fail "study --head differs from the study of the written feeder"
+"$kilter" rebalance "$tmp/f.yaml" --head "$tmp/h.csv" --items >/dev/null 2>&1 || fail "rebalance --head"
+"$kilter" flow "$tmp/f.yaml" --reading 17:00 >/dev/null 2>&1
+[ $? -eq 64 ] || fail "--reading without --head: expected 64"
+
 # CSV and JSON, the same figures
 "$kilter" allocate "$tmp/f.yaml" --head "$tmp/h.csv" --format csv >"$tmp/c" || fail "csv: exit $?"
 head -1 "$tmp/c" | grep -qx 'time,phase,basis,factor_kw,factor_kvar,measured_kw,measured_kvar,head_kw,head_kvar,mismatch_pct,held_kw,held_kvar' \
@@ -85,6 +98,22 @@ printf 'phase,kw,kvar\na,80,30\nb,40,12\n' >"$tmp/noc.csv"
   || { cat "$tmp/e"; fail "phase c missing"; }
 "$kilter" allocate "$tmp/f.yaml" --head "$tmp/missing.csv" 2>"$tmp/e" >/dev/null
 [ $? -eq 4 ] || fail "missing file: expected exit 4"
+
+# by energy: ta's two residential customers, 0.2 + 0.008 kWh each (Kersting sec. 2.3, from
+# memory) over the diversity factor of two: (9.8 + 7.0) / 1.6 = 10.5 kW
+printf 'customer,load,kwh,period,class\nm1,ta,1200,2026-07,res\nm2,ta,850,2026-07,res\nm3,tb,640,2026-07,res\nm4,tc,1500,2026-07,res\n' >"$tmp/e.csv"
+printf 'class,intercept_kw,kw_per_kwh\nres,0.2,0.008\n' >"$tmp/cl.csv"
+printf 'customers,diversity_factor\n2,1.6\n' >"$tmp/d.csv"
+"$kilter" allocate "$tmp/f.yaml" --head "$tmp/h.csv" --energy "$tmp/e.csv" --classes "$tmp/cl.csv" \
+  --diversity "$tmp/d.csv" --format csv --table loads >"$tmp/ec" || fail "energy: exit $?"
+grep -q '^ta,m,a,1,10.500000,' "$tmp/ec" || { cat "$tmp/ec"; fail "energy: ta's basis"; }
+"$kilter" allocate "$tmp/f.yaml" --head "$tmp/h.csv" --energy "$tmp/e.csv" >/dev/null 2>"$tmp/e"
+[ $? -eq 64 ] || fail "--energy without --classes: expected 64"
+printf 'customer,load,kwh,period,class\nm1,ta,1200,2026-07,res\nm2,tx,850,2026-07,res\n' >"$tmp/eb.csv"
+"$kilter" allocate "$tmp/f.yaml" --head "$tmp/h.csv" --energy "$tmp/eb.csv" --classes "$tmp/cl.csv" \
+  --write-feeder "$tmp/o.yaml" >/dev/null 2>"$tmp/e"
+[ $? -eq 2 ] && grep -q "eb.csv:3:4: load 'tx' is not in the feeder" "$tmp/e" || { cat "$tmp/e"; fail "energy: unknown load"; }
+[ -e "$tmp/o.yaml" ] && fail "energy: feeder written after an error"
 
 # more than the feeder carries: the load flow fails, the message says so
 printf 'phase,kw,kvar\na,90000,30000\nb,40,12\nc,160,50\n' >"$tmp/big.csv"

@@ -407,6 +407,155 @@ START_TEST(test_loader_keys)
 }
 END_TEST
 
+/* Allocation by energy through a closed switch (no losses), so the factor is
+ * the measured kW over the sum of the estimated peaks.  Each load's basis by
+ * hand: the linear relation kW = 0.2 + 0.008 kWh for monthly residential
+ * energy (Kersting, "Distribution System Modeling and Analysis", sec. 2.3,
+ * transformer load management, from memory; its example's customer data not
+ * recalled, the figures here are the relation's), a load factor's peak
+ * kWh / (hours x LF) (load factor = average / peak demand, common practice),
+ * and the group's peak = the sum of the peaks / the diversity factor
+ * (diversity factor = sum of individual peaks / group peak, common practice). */
+static const char *const SWITCH_FEEDER =
+    "kilter-feeder: 1\n"
+    "name: switch\n"
+    "source: {bus: s, nominal_voltage: 12.47 kV}\n"
+    "sections:\n"
+    "  - {name: k, from: s, to: m, switch: closed}\n"
+    "loads:\n"
+    "  - {name: t1, bus: m, connected_kva: {a: 25 kVA}}\n"
+    "  - {name: t2, bus: m, connected_kva: {a: 50 kVA, b: 50 kVA}}\n"
+    "  - {name: t3, bus: m, connected_kva: {b: 25 kVA}}\n"
+    "  - {name: shop, bus: m, power: {b: 30 + j10 kVA}, fixed_power: true}\n";
+static const char CLASSES[] = "class,intercept_kw,kw_per_kwh,load_factor,hours\n"
+                              "residential,0.2,0.008,,\ncommercial,,,0.5,720\n";
+static const char DIVERSITY[] = "customers,diversity_factor\n2,1.6\n4,2.1\n";
+static const char ENERGY[] = "customer,load,kwh,period,class\n"
+                             "r1,t1,1000,2026-07,residential\n"
+                             "r2,t1,500,2026-07,residential\n"
+                             "c1,t2,3600,2026-07,commercial\n"
+                             "r3,t3,800,2026-07,residential\n"
+                             "r4,t3,900,2026-07,residential\n"
+                             "r5,t3,1100,2026-07,residential\n"
+                             "r1,t1,950,2026-06,residential\n";
+
+START_TEST(test_energy_basis)
+{
+    harness h;
+    kl_class_table ct;
+    kl_diversity_table dt;
+    kl_energy_table et;
+    kl_head_series hs;
+    chain(&h, SWITCH_FEEDER);
+    ck_assert_int_eq(kl_class_read_buffer(CLASSES, strlen(CLASSES), "classes.csv", &ct, &h.err), KL_OK);
+    ck_assert_int_eq(kl_diversity_read_buffer(DIVERSITY, strlen(DIVERSITY), "div.csv", &dt, &h.err), KL_OK);
+    ck_assert_int_eq(kl_energy_read_buffer(ENERGY, strlen(ENERGY), "energy.csv", h.f, &ct, "2026-07", &et, &h.err),
+                     KL_OK);
+    ck_assert_int_eq(et.n, 6);
+    double basis[12];
+    int n;
+    HARNESS_OK(&h, kl_alloc_basis_energy(h.f, &et, &ct, &dt, basis, &n, &h.err));
+    ck_assert_int_eq(n, 4);
+    /* t1: (0.2 + 8) + (0.2 + 4) = 12.4 kW over DF(2) = 1.6 */
+    double t1 = 12.4 / 1.6;
+    /* t2: one customer, 3600 / (720 x 0.5) = 10 kW, shared by a and b */
+    double t2 = 10.0 / 2;
+    /* t3: 6.6 + 7.4 + 9.0 = 23 kW over DF(3), between 1.6 (2) and 2.1 (4) */
+    double t3 = 23.0 / 1.85;
+    ck_assert(fabs(basis[0] - 1e3 * t1) < 1e-6);
+    ck_assert(fabs(basis[3] - 1e3 * t2) < 1e-6 && fabs(basis[4] - 1e3 * t2) < 1e-6);
+    ck_assert(fabs(basis[7] - 1e3 * t3) < 1e-6);
+    ck_assert(basis[9] == 0 && basis[10] == 0);
+    ck_assert(fabs(kl_diversity_factor(&dt, 1) - 1.0) < 1e-12 && fabs(kl_diversity_factor(&dt, 9) - 2.1) < 1e-12);
+    /* the factor: measured kW (less the held shop on b) over the phase's basis */
+    ck_assert_int_eq(head("phase,kw,kvar\na,40,12\nb,90,25\n", &hs, &h.err), KL_OK);
+    kl_alloc_options o;
+    kl_alloc_options_default(&o);
+    o.tol = 1e-10;
+    kl_alloc_result r;
+    HARNESS_OK(&h, kl_alloc_solve(h.f, h.net, basis, &hs.r[0], &o, h.res, &r, &h.err));
+    ck_assert(fabs(creal(r.factor[0]) - 40 / (t1 + t2)) < 1e-8);
+    ck_assert(fabs(creal(r.factor[1]) - (90 - 30) / (t2 + t3)) < 1e-8);
+    ck_assert(fabs(creal(h.f->loads[2].s_va[1]) - 1e3 * t3 * 60 / (t2 + t3)) < 1e-3);
+    kl_head_series_free(&hs);
+    kl_energy_table_free(&et);
+    kl_diversity_table_free(&dt);
+    kl_class_table_free(&ct);
+    harness_free(&h);
+}
+END_TEST
+
+/* The energy file's mapping errors, each at its line and column. */
+static void bad_energy(harness *h, const kl_class_table *ct, const char *csv, const char *period, int line, int col,
+                       const char *what)
+{
+    kl_energy_table et;
+    kl_errors_clear(&h->err);
+    ck_assert_int_eq(kl_energy_read_buffer(csv, strlen(csv), "e.csv", h->f, ct, period, &et, &h->err), KL_EINPUT);
+    ck_assert_ptr_null(et.r);
+    ck_assert_msg(h->err.count >= 1 && h->err.items[0].line == line && h->err.items[0].col == col &&
+                      strstr(h->err.items[0].message, what),
+                  "%s: got %d:%d %s", csv, h->err.count ? h->err.items[0].line : -1,
+                  h->err.count ? h->err.items[0].col : -1, h->err.count ? h->err.items[0].message : "");
+}
+
+START_TEST(test_energy_errors)
+{
+    harness h;
+    kl_class_table ct;
+    chain(&h, SWITCH_FEEDER);
+    ck_assert_int_eq(kl_class_read_buffer(CLASSES, strlen(CLASSES), "classes.csv", &ct, &h.err), KL_OK);
+    const char *hd = "customer,load,kwh,period,class\n";
+    char b[400];
+    snprintf(b, sizeof b, "%sr1,t9,10,2026-07,residential\n", hd);
+    bad_energy(&h, &ct, b, NULL, 2, 4, "load 't9' is not in the feeder");
+    snprintf(b, sizeof b, "%sr1,t1,-10,2026-07,residential\n", hd);
+    bad_energy(&h, &ct, b, NULL, 2, 7, "is negative");
+    snprintf(b, sizeof b, "%sr1,t1,10,2026-07,farm\n", hd);
+    bad_energy(&h, &ct, b, NULL, 2, 18, "class 'farm' is not in the class table");
+    snprintf(b, sizeof b, "%sr1,shop,10,2026-07,residential\n", hd);
+    bad_energy(&h, &ct, b, NULL, 2, 4, "fixed_power: true");
+    snprintf(b, sizeof b, "%sr1,t1,10,2026-07,residential\nr2,t1,10,2026-07,residential\nr1,t3,10,2026-07,residential\n", hd);
+    bad_energy(&h, &ct, b, NULL, 4, 1, "customer 'r1' is given twice in period 2026-07 (first on line 2)");
+    snprintf(b, sizeof b, "%sr1,t1,10,2026-07,residential\nr1,t1,10,2026-06,residential\n", hd);
+    bad_energy(&h, &ct, b, NULL, 3, 1, "more than one billing period");
+    snprintf(b, sizeof b, "%sr1,t1,ten,2026-07,residential\n", hd);
+    bad_energy(&h, &ct, b, NULL, 2, 7, "'ten' is not a number");
+    bad_energy(&h, &ct, "customer,load,kwh\nr1,t1,10\n", NULL, 1, 1, "the header needs the column 'period'");
+    bad_energy(&h, &ct, "customer,load,kwh,period\nr1,t1,10,2026-07\n", NULL, 1, 1, "has 2 classes");
+    /* the class and diversity tables */
+    kl_class_table c2;
+    kl_diversity_table d2;
+    const char *bc = "class,intercept_kw,kw_per_kwh,load_factor\nres,0.2,0.008,0.4\n";
+    kl_errors_clear(&h.err);
+    ck_assert_int_eq(kl_class_read_buffer(bc, strlen(bc), "c.csv", &c2, &h.err), KL_EINPUT);
+    ck_assert_ptr_nonnull(strstr(h.err.items[0].message, "not both"));
+    bc = "class,load_factor\nres,1.4\n";
+    kl_errors_clear(&h.err);
+    ck_assert_int_eq(kl_class_read_buffer(bc, strlen(bc), "c.csv", &c2, &h.err), KL_EINPUT);
+    ck_assert_int_eq(h.err.items[0].line, 2);
+    bc = "customers,diversity_factor\n2,1.6\n3,1.4\n";
+    kl_errors_clear(&h.err);
+    ck_assert_int_eq(kl_diversity_read_buffer(bc, strlen(bc), "d.csv", &d2, &h.err), KL_EINPUT);
+    ck_assert_int_eq(h.err.items[0].line, 3);
+    ck_assert_ptr_nonnull(strstr(h.err.items[0].message, "does not fall"));
+    /* a load with no power and no customer cannot be held at nothing */
+    kl_energy_table et;
+    double basis[12];
+    int n;
+    const char *one = "customer,load,kwh,period,class\nr1,t1,10,2026-07,residential\n";
+    kl_errors_clear(&h.err);
+    ck_assert_int_eq(kl_energy_read_buffer(one, strlen(one), "e.csv", h.f, &ct, NULL, &et, &h.err), KL_OK);
+    ck_assert_int_eq(kl_alloc_basis_energy(h.f, &et, &ct, NULL, basis, &n, &h.err), KL_EINPUT);
+    ck_assert_int_eq(h.err.count, 2); /* t2 and t3 */
+    ck_assert_int_eq(h.err.items[0].line, 8);
+    ck_assert_ptr_nonnull(strstr(h.err.items[0].message, "load t2 has no power of its own and no customer"));
+    kl_energy_table_free(&et);
+    kl_class_table_free(&ct);
+    harness_free(&h);
+}
+END_TEST
+
 static Suite *suite(void)
 {
     Suite *s = suite_create("allocate");
@@ -421,6 +570,8 @@ static Suite *suite(void)
     tcase_add_test(t, test_head_errors);
     tcase_add_test(t, test_head_series);
     tcase_add_test(t, test_loader_keys);
+    tcase_add_test(t, test_energy_basis);
+    tcase_add_test(t, test_energy_errors);
     suite_add_tcase(s, t);
     return s;
 }

@@ -71,6 +71,94 @@ void kl_head_series_free(kl_head_series *s);
  * phase-to-neutral voltage magnitudes v_abs (used by the current form only). */
 void kl_head_target(const kl_head_reading *h, const double v_abs[3], kl_complex s[3]);
 
+/* ---- allocation by energy: a customer class turns a customer's billed
+ * energy into a peak-demand estimate, by a linear relation
+ *     kW = intercept + slope x kWh      (Kersting, "Distribution System
+ * Modeling and Analysis", sec. 2.3, "transformer load management", from
+ * memory: 0.2 + 0.008 kWh for monthly residential energy)
+ * or by a load factor (average over peak demand, IEEE Std 100, common
+ * practice): kW = kWh / (hours x load factor).  A transformer's (load's)
+ * customers' peaks add up and are divided by the diversity factor of their
+ * number (sum of the individual peaks over the peak of the group, common
+ * practice), when a table is given. */
+typedef struct {
+    char name[40];       /* the class as the energy file names it */
+    double intercept_w;  /* linear relation: W at zero energy */
+    double w_per_kwh;    /* linear relation: W per kWh of the period */
+    double load_factor;  /* 0 < LF <= 1; 0 when the class uses the linear relation */
+    double hours;        /* hours of a billing period (load factor form); default 730 (a month) */
+    kl_loc loc;
+} kl_customer_class;
+
+typedef struct {
+    kl_customer_class *c; /* [n] */
+    int n;
+    char *file;           /* owned */
+} kl_class_table;
+
+/* Diversity factor by number of customers: rows in increasing order of
+ * customers, factors >= 1 and not decreasing; between rows (and from one
+ * customer at 1, by the definition, to the first row) interpolated
+ * linearly, beyond the last held. */
+typedef struct {
+    int *customers;       /* [n] */
+    double *factor;       /* [n] */
+    int n;
+    char *file;           /* owned */
+} kl_diversity_table;
+
+/* One customer's energy of one billing period. */
+typedef struct {
+    int load;             /* feeder load id */
+    int cls;              /* index into the class table */
+    double kwh;           /* >= 0 */
+    char customer[40];
+    char period[24];
+    kl_loc loc;
+} kl_customer_energy;
+
+typedef struct {
+    kl_customer_energy *r; /* [n] the rows of the period allocated */
+    int n;
+    char *file;            /* owned */
+    char period[24];       /* the period read */
+} kl_energy_table;
+
+/* The class table: class,intercept_kw,kw_per_kwh  or  class,load_factor[,hours]
+ * (a row gives one form; both forms may be columns of one file). */
+kl_status kl_class_read(const char *path, kl_class_table *out, kl_errors *err);
+kl_status kl_class_read_buffer(const char *text, size_t len, const char *name, kl_class_table *out,
+                               kl_errors *err);
+void kl_class_table_free(kl_class_table *t);
+/* The diversity table: customers,diversity_factor. */
+kl_status kl_diversity_read(const char *path, kl_diversity_table *out, kl_errors *err);
+kl_status kl_diversity_read_buffer(const char *text, size_t len, const char *name, kl_diversity_table *out,
+                                   kl_errors *err);
+void kl_diversity_table_free(kl_diversity_table *t);
+/* The diversity factor of n customers (1 without a table). */
+double kl_diversity_factor(const kl_diversity_table *t, int n);
+/* The customer energy file: customer,load,kwh,period[,class], each load a
+ * load of f (its distribution transformer), each class one of `classes`
+ * (the column may be left out when the table has one class).  period: the
+ * billing period to take (NULL: the file's only one).  Located errors: a load
+ * or class that matches none, a negative or non-numeric energy, a customer
+ * given twice in a period, a load marked fixed_power. */
+kl_status kl_energy_read(const char *path, const kl_feeder *f, const kl_class_table *classes,
+                         const char *period, kl_energy_table *out, kl_errors *err);
+kl_status kl_energy_read_buffer(const char *text, size_t len, const char *name, const kl_feeder *f,
+                                const kl_class_table *classes, const char *period, kl_energy_table *out,
+                                kl_errors *err);
+void kl_energy_table_free(kl_energy_table *t);
+
+/* The basis from energy: each load's customers' peak-demand estimates (W),
+ * summed and divided by the diversity factor of their number (div may be
+ * NULL), shared equally by the load's entries.  Loads without customers get
+ * none (held at their power); a load with no power of its own and no
+ * customer is an error (KL_EINPUT, located at the load).  Returns KL_OK and
+ * the number of entries with a basis in *n. */
+kl_status kl_alloc_basis_energy(const kl_feeder *f, const kl_energy_table *e, const kl_class_table *c,
+                                const kl_diversity_table *div, double *basis, int *n, kl_errors *err);
+
 typedef struct {
     double tol;          /* largest |S_head - S_target| / |S_target| per phase; default 0.001 */
     int max_iter;        /* load flows at most; default 30 */

@@ -32,7 +32,7 @@ typedef struct {
     const char *help;
 } kl_cli_opt;
 
-#define KL_CLI_MAX_OPTS 24
+#define KL_CLI_MAX_OPTS 32
 
 typedef struct {
     const char *cmd;

@@ -3,6 +3,8 @@
  * that solve a load flow).  The feeder's loads are set in place; the network
  * built here for the allocation is dropped, so the command goes on as with a
  * feeder file that gave those powers. */
+#include <complex.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #include "kilter/allocate.h"
@@ -26,6 +28,48 @@ int kl_cli_alloc_options(const char *cmd, const char *tol, kl_cli_alloc *a)
         a->opt.tol = x / 100;
     }
     return 0;
+}
+
+const char *kl_cli_alloc_basis_name(const kl_cli_alloc *a)
+{
+    return a->energy_path ? "customer energy" : "connected kVA";
+}
+
+/* The basis: connected kVA, or the customers' energy through their classes
+ * and the diversity table. */
+static kl_status basis_of(const char *cmd, kl_feeder *f, kl_cli_alloc *a, kl_errors *e, int *rc)
+{
+    int n = 0;
+    kl_status st;
+    if (!a->energy_path) {
+        if (kl_alloc_basis_kva(f, a->basis) > 0)
+            return KL_OK;
+        kl_errors_add(e, f->path, 0, 0, NULL, "no load has connected_kva to allocate by: give the loads "
+                      "(distribution transformers) their nameplate kVA, or allocate by energy (--energy)");
+        return KL_EINPUT;
+    }
+    if (!a->classes_path) {
+        kl_cli_error("%s: --energy needs --classes FILE (each customer class's kWh-to-kW relation)", cmd);
+        *rc = KL_EXIT_USAGE;
+        return KL_EARG;
+    }
+    kl_cli_input(a->energy_path);
+    kl_cli_input(a->classes_path);
+    kl_cli_input(a->diversity_path);
+    st = kl_class_read(a->classes_path, &a->classes, e);
+    if (!st && a->diversity_path)
+        st = kl_diversity_read(a->diversity_path, &a->diversity, e);
+    if (!st)
+        st = kl_energy_read(a->energy_path, f, &a->classes, a->period, &a->energy, e);
+    if (!st)
+        st = kl_alloc_basis_energy(f, &a->energy, &a->classes, a->diversity_path ? &a->diversity : NULL,
+                                   a->basis, &n, e);
+    if (!st && !n) {
+        kl_errors_add(e, a->energy_path, 0, 0, NULL, "no customer with energy above 0 on an energized load: "
+                      "nothing to allocate by");
+        st = KL_EINPUT;
+    }
+    return st;
 }
 
 /* The reading called `at` (the only one of a snapshot); -1 after a message. */
@@ -90,13 +134,8 @@ int kl_cli_alloc_run(const char *cmd, kl_feeder *f, kl_carson_form form, kl_solv
             a->res = calloc((size_t)a->head.n, sizeof *a->res);
             if (!a->basis || !a->res)
                 st = KL_ENOMEM;
-            else if (kl_alloc_basis_kva(f, a->basis) == 0) {
-                kl_errors_add(&e, f->path, 0, 0, NULL, "no load has connected_kva to allocate by: give the "
-                              "loads (distribution transformers) their nameplate kVA");
-                st = KL_EINPUT;
-            } else {
+            else if (!(st = basis_of(cmd, f, a, &e, &rc)))
                 st = solve_steps(f, a, solver, a->first, a->last, &e);
-            }
         }
     }
     kl_cli_print_errors(&e);
@@ -109,8 +148,54 @@ int kl_cli_alloc_run(const char *cmd, kl_feeder *f, kl_carson_form form, kl_solv
 void kl_cli_alloc_free(kl_cli_alloc *a)
 {
     kl_head_series_free(&a->head);
+    kl_class_table_free(&a->classes);
+    kl_diversity_table_free(&a->diversity);
+    kl_energy_table_free(&a->energy);
     free(a->basis);
     free(a->res);
     a->basis = NULL;
     a->res = NULL;
+}
+
+int kl_cli_alloc_from_args(const char *cmd, const kl_cli_args *c, int first, kl_feeder *f, kl_carson_form form,
+                           kl_solver solver)
+{
+    kl_cli_alloc a;
+    const char *const *v = c->val + first;
+    memset(&a, 0, sizeof a);
+    if (!v[0]) {
+        for (int k = 1; k < KL_CLI_ALLOC_NOPTS; k++)
+            if (v[k]) {
+                kl_cli_error("%s: the allocation options (--head-tolerance, --reading, --energy ...) go with "
+                             "--head FILE", cmd);
+                return KL_EXIT_USAGE;
+            }
+        return 0;
+    }
+    a.head_path = v[0];
+    a.at = v[2];
+    a.energy_path = v[3];
+    a.classes_path = v[4];
+    a.diversity_path = v[5];
+    a.period = v[6];
+    if (!a.energy_path && (a.classes_path || a.diversity_path || a.period)) {
+        kl_cli_error("%s: --classes, --diversity and --period go with --energy FILE", cmd);
+        return KL_EXIT_USAGE;
+    }
+    int rc = kl_cli_alloc_options(cmd, v[1], &a);
+    if (!rc)
+        rc = kl_cli_alloc_run(cmd, f, form, solver, 0, &a);
+    if (!rc) {
+        /* the one line that says the loads are not the file's */
+        const kl_alloc_result *r = &a.res[a.first];
+        fprintf(stderr, "kilter: note: loads allocated by %s to %s%s%s (%d load flows):", kl_cli_alloc_basis_name(&a),
+                a.head.file, a.head.series ? " at " : "", a.head.series ? a.head.r[a.first].time : "",
+                r->iterations);
+        for (int p = 0; p < 3; p++)
+            if (r->phases & (1 << p))
+                fprintf(stderr, " %c %.4f%+.4fj", 'a' + p, creal(r->factor[p]), cimag(r->factor[p]));
+        fputc('\n', stderr);
+    }
+    kl_cli_alloc_free(&a);
+    return rc;
 }

@@ -8,12 +8,14 @@
 #include "cli.h"
 #include "cli_alloc.h"
 
-enum { OPT_HEAD, OPT_TOL, OPT_AT, OPT_WRITE, OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, NOPTS };
+enum { OPT_HEAD, OPT_TOL, OPT_AT, OPT_ENERGY, OPT_CLASSES, OPT_DIVERSITY, OPT_PERIOD, OPT_WRITE, OPT_TABLE,
+       OPT_SOLVER, OPT_EARTH_RETURN, NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     KL_CLI_HEAD_OPT,
     KL_CLI_HEAD_TOLERANCE_OPT,
     KL_CLI_READING_OPT,
+    KL_CLI_ENERGY_OPTS,
     {"write-feeder", 1, "FILE", "write the allocated feeder file (one reading: a snapshot, or --reading)"},
     {"table", 1, "phases|loads", "CSV: which table (default phases; JSON holds both)"},
     {"solver", 1, "sweep|nodal", "load flow solver (default sweep)"},
@@ -30,7 +32,12 @@ static void print_text(FILE *o, const kl_feeder *f, const kl_cli_alloc *a, const
     int flows = 0;
     for (int k = a->first; k <= a->last; k++)
         flows += a->res[k].iterations;
-    fprintf(o, "allocation: %s to the head measurement %s, by connected kVA\n", f->name, a->head.file);
+    fprintf(o, "allocation: %s to the head measurement %s, by %s\n", f->name, a->head.file,
+            kl_cli_alloc_basis_name(a));
+    if (a->energy_path)
+        fprintf(o, "basis: the customers' peak-demand estimates of %s (period %s), kW, by the classes of %s%s%s\n",
+                a->energy.file, a->energy.period, a->classes.file, a->diversity_path ? " and the diversity factors of " : "",
+                a->diversity_path ? a->diversity.file : "");
     fprintf(o, "%d reading%s, %d load flows, every measured phase within %.3g %%\n", a->last - a->first + 1,
             a->last > a->first ? "s" : "", flows, 100 * a->opt.tol);
     fprintf(o, "caution: allocated loads are estimates that share the head demand in proportion to the "
@@ -58,7 +65,13 @@ static void print_json(FILE *o, const kl_feeder *f, const kl_cli_alloc *a, const
     kl_cli_json_str(o, f->name);
     fprintf(o, ",\n  \"measurement\": ");
     kl_cli_json_str(o, a->head.file);
-    fprintf(o, ",\n  \"basis\": \"connected_kva\",\n  \"tolerance_pct\": %.8g,\n", 100 * a->opt.tol);
+    fprintf(o, ",\n  \"basis\": \"%s\",\n", a->energy_path ? "customer_energy" : "connected_kva");
+    if (a->energy_path) {
+        fprintf(o, "  \"period\": ");
+        kl_cli_json_str(o, a->energy.period);
+        fprintf(o, ",\n");
+    }
+    fprintf(o, "  \"tolerance_pct\": %.8g,\n", 100 * a->opt.tol);
     kl_table_json(o, &kl_table_alloc_phases, rows);
     if (one_reading(a)) {
         fputs(",\n", o);
@@ -108,6 +121,14 @@ static int read_options(const kl_cli_args *c, kl_cli_alloc *a, kl_carson_form *f
     memset(a, 0, sizeof *a);
     a->head_path = c->val[OPT_HEAD];
     a->at = c->val[OPT_AT];
+    a->energy_path = c->val[OPT_ENERGY];
+    a->classes_path = c->val[OPT_CLASSES];
+    a->diversity_path = c->val[OPT_DIVERSITY];
+    a->period = c->val[OPT_PERIOD];
+    if (!a->energy_path && (a->classes_path || a->diversity_path || a->period)) {
+        kl_cli_error("allocate: --classes, --diversity and --period go with --energy FILE");
+        return KL_EXIT_USAGE;
+    }
     if (!a->head_path) {
         kl_cli_error("allocate: give the head measurement with --head FILE (a CSV file: phase,kw,kvar ...)");
         return KL_EXIT_USAGE;
@@ -136,7 +157,8 @@ int kl_cmd_allocate(int argc, char **argv)
     kl_solver solver;
     int loads;
     int rc = kl_cli_parse(&c, argc, argv, "Sets the loads from the demand metered at the feeder head: "
-                          "each load with connected_kva gets its share, one factor per phase, found by "
+                          "each load gets its share by its connected_kva (or, with --energy, by its "
+                          "customers' energy), one factor per phase, found by "
                           "load flows (losses included) until the head matches the measurement.",
                           opts, NOPTS);
     if (rc >= 0)

@@ -11,11 +11,12 @@
 #include "kilter/network.h"
 #include "kilter/table.h"
 #include "cli.h"
+#include "cli_alloc.h"
 #include "kilter/units.h"
 
 static const char PH[3] = {'a', 'b', 'c'};
 
-enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, OPT_WORKBOOK, OPT_GEOJSON, NOPTS };
+enum { OPT_TABLE, OPT_SOLVER, OPT_EARTH_RETURN, OPT_SCALE, OPT_WORKBOOK, OPT_GEOJSON, OPT_ALLOC, NOPTS = OPT_ALLOC + KL_CLI_ALLOC_NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"table", 1, "buses|sections|regulators", "which table to print (default buses; JSON holds all)"},
@@ -24,6 +25,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"load-scale", 1, "X", "multiply every load by X (default 1)"},
     {"workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP},
     {"geojson", 1, "FILE", KL_CLI_GEOJSON_HELP},
+    KL_CLI_ALLOC_OPTS,
 };
 
 typedef struct {
@@ -198,6 +200,10 @@ int kl_cmd_flow(int argc, char **argv)
         return rc;
     if ((rc = kl_cli_load(&a, &f)))
         return rc;
+    if ((rc = kl_cli_alloc_from_args("flow", &a, OPT_ALLOC, f, form, o.solver))) {
+        kl_feeder_free(f);
+        return rc;
+    }
     kl_errors_init(&e);
     kl_status st = kl_lines_derive(f, form, &e);
     if (!st)

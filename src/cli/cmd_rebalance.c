@@ -16,11 +16,12 @@
 #include "kilter/study.h"
 #include "kilter/table.h"
 #include "cli.h"
+#include "cli_alloc.h"
 #include "cli_progress.h"
 
 enum { OPT_OBJ, OPT_AT, OPT_MOVES, OPT_BUDGET, OPT_LEVELS, OPT_RANGE, OPT_SEARCH, OPT_TIME,
        OPT_SEED, OPT_PIN, OPT_FORBID, OPT_COST, OPT_RULES, OPT_WRITE, OPT_ITEMS, OPT_HTML,
-       OPT_EARTH_RETURN, OPT_WORKBOOK, OPT_GEOJSON, NOPTS };
+       OPT_EARTH_RETURN, OPT_WORKBOOK, OPT_GEOJSON, OPT_ALLOC, NOPTS = OPT_ALLOC + KL_CLI_ALLOC_NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     {"objective", 1, "NAME[=W],...", "neutral, vuf, losses, current, drop; weighted with =W "
@@ -44,6 +45,7 @@ static const kl_cli_opt opts[NOPTS] = {
     {"workbook", 1, "FILE", KL_CLI_WORKBOOK_HELP},
     {"geojson", 1, "FILE", "also write the feeder with the plan's moves as GeoJSON (WGS 84 "
      "longitude/latitude; needs the feeder's 'coordinates')"},
+    KL_CLI_ALLOC_OPTS,
 };
 
 static const char *CAUTION =
@@ -627,6 +629,12 @@ int kl_cmd_rebalance(int argc, char **argv)
         return rc;
     if ((rc = kl_cli_load(&a, &f)))
         return rc;
+    kl_carson_form carson;
+    if ((rc = kl_cli_carson_form("rebalance", a.val[OPT_EARTH_RETURN], &carson)) ||
+        (rc = kl_cli_alloc_from_args("rebalance", &a, OPT_ALLOC, f, carson, KL_SOLVER_SWEEP))) {
+        kl_feeder_free(f);
+        return rc;
+    }
     kl_errors_init(&e);
     rc = run(&a, f, &o, &e);
     kl_errors_free(&e);

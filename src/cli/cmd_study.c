@@ -11,12 +11,13 @@
 #include "kilter/report.h"
 #include "kilter/study.h"
 #include "cli.h"
+#include "cli_alloc.h"
 #include "cli_progress.h"
 #include "study_print.h"
 
 enum { OPT_AT, OPT_MPHASE, OPT_MLINE, OPT_TOL, OPT_VUFTOL, OPT_LIMIT, OPT_LEVEL, OPT_RANGE,
        OPT_RELAY, OPT_NSHARE, OPT_NMARGIN, OPT_TOP, OPT_TABLE, OPT_HTML, OPT_WORKBOOK, OPT_GEOJSON, OPT_SCALE, OPT_MAP,
-       OPT_EARTH_RETURN, OPT_LOADWARN, NOPTS };
+       OPT_EARTH_RETURN, OPT_LOADWARN, OPT_ALLOC, NOPTS = OPT_ALLOC + KL_CLI_ALLOC_NOPTS };
 
 static const kl_cli_opt opts[NOPTS] = {
     { "at", 1, "BUS", "complaint check: a focused report for this bus" },
@@ -40,6 +41,7 @@ static const kl_cli_opt opts[NOPTS] = {
     KL_CLI_EARTH_RETURN_OPT,
     { "loading-warning", 1, "PCT", "note sections loaded above this % of their rating (default 80; "
       "over 100 is a violation)" },
+    KL_CLI_ALLOC_OPTS,
 };
 
 typedef struct {
@@ -302,6 +304,10 @@ int kl_cmd_study(int argc, char **argv)
     memset(&q, 0, sizeof q);
     if ((rc = kl_cli_load(&a, &q.f)))
         return rc;
+    if ((rc = kl_cli_alloc_from_args("study", &a, OPT_ALLOC, q.f, x.carson, KL_SOLVER_SWEEP))) {
+        kl_feeder_free(q.f);
+        return rc;
+    }
     if ((rc = resolve_at(&a, q.f, &x))) {
         kl_feeder_free(q.f);
         return rc;

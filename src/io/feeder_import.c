@@ -151,9 +151,9 @@ static const column load_cols[] = {
     {"name", 1}, {"bus", 0}, {"section", 0}, {"connection", 0}, {"model", 0}, {"phase", 1},
     {"kw", 1}, {"kvar", 0}, {"zip_impedance_pct", 0}, {"zip_current_pct", 0}, {"zip_power_pct", 0},
     {"motor", 0}, {"third_harmonic_pct", 0}, {"pinned", 0}, {"forbidden_phases", 0},
-    {"move_cost", 0}, {"description", 0}, {NULL, 0}};
+    {"move_cost", 0}, {"description", 0}, {"connected_kva", 0}, {"fixed_power", 0}, {NULL, 0}};
 enum { LD_NAME, LD_BUS, LD_SECTION, LD_CONN, LD_MODEL, LD_PHASE, LD_KW, LD_KVAR, LD_ZI, LD_ZC,
-       LD_ZP, LD_MOTOR, LD_H3, LD_PINNED, LD_FORBID, LD_COST, LD_DESC };
+       LD_ZP, LD_MOTOR, LD_H3, LD_PINNED, LD_FORBID, LD_COST, LD_DESC, LD_KVA, LD_FIXED };
 static const column cap_cols[] = {
     {"name", 1}, {"bus", 1}, {"connection", 0}, {"phase", 1}, {"kvar", 1}, {"rated_voltage_kv", 0},
     {NULL, 0}};
@@ -380,6 +380,27 @@ static int phase_map(text *t, const table *tb, int r, int e, int kphase, int kp,
     return bad ? -1 : 0;
 }
 
+/* `, connected_kva: {PHASE: N kVA, ...}` from the rows r .. e-1 of a load
+ * that give one (allocation's basis, docs/allocate.md); nothing when none does. */
+static int connected_kva(text *t, const table *tb, int r, int e, kl_errors *err)
+{
+    int bad = 0, any = 0;
+    for (int i = r; i < e; i++) {
+        const kl_csv_field *ph = cell(tb, i, LD_PHASE, err), *k = cell(tb, i, LD_KVA, err);
+        if (!k || !ph)
+            continue;
+        bad |= !number_ok(tb, k, "connected_kva", err);
+        put(t, any++ ? ", " : ", connected_kva: {");
+        put_scalar(t, ph->text);
+        put(t, ": ");
+        mark(t, tb->table, k);
+        putf(t, "%s kVA", k->text);
+    }
+    if (any)
+        put(t, "}");
+    return bad ? -1 : 0;
+}
+
 static int import_loads(text *t, table *tb, kl_errors *err)
 {
     if (read_header(tb, load_cols, err) < 0)
@@ -425,6 +446,8 @@ static int import_loads(text *t, table *tb, kl_errors *err)
         key_cell(t, tb, r, LD_FORBID, "forbidden_phases", err);
         key_cell(t, tb, r, LD_COST, "move_cost", err);
         key_cell(t, tb, r, LD_DESC, "description", err);
+        bad |= connected_kva(t, tb, r, e, err) < 0;
+        key_cell(t, tb, r, LD_FIXED, "fixed_power", err);
         put(t, "}\n");
         r = e;
     }

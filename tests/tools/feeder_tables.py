@@ -152,14 +152,19 @@ def main():
                 base[col] = number_unit(ld["zip"][k], ("%",))[0]
         if "third_harmonic" in ld:
             base["third_harmonic_pct"] = number_unit(ld["third_harmonic"], ("%",))[0]
+        if "fixed_power" in ld:
+            base["fixed_power"] = ld["fixed_power"]
         for ph, v in ld["power"].items():
             m = re.fullmatch(r"([-+0-9.eE]+) *([-+]) *j([0-9.eE]+) kVA", v)
             assert m, v
-            loads.append(dict(base, phase=ph, kw=m.group(1),
-                              kvar=("-" if m.group(2) == "-" else "") + m.group(3)))
+            row = dict(base, phase=ph, kw=m.group(1), kvar=("-" if m.group(2) == "-" else "") + m.group(3))
+            if ph in ld.get("connected_kva", {}):
+                row["connected_kva"] = number_unit(ld["connected_kva"][ph], ("kVA",))[0]
+            loads.append(row)
     table("loads", ["name", "bus", "section", "connection", "model", "phase", "kw", "kvar",
                     "zip_impedance_pct", "zip_current_pct", "zip_power_pct", "motor",
-                    "third_harmonic_pct", "pinned", "forbidden_phases", "move_cost", "description"], loads)
+                    "third_harmonic_pct", "pinned", "forbidden_phases", "move_cost", "description",
+                    "connected_kva", "fixed_power"], loads)
     caps = []
     for c in items["capacitors"]:
         for ph, v in c["reactive_power"].items():
